@@ -1,0 +1,53 @@
+// Migrations and demo seeds through Knex, run with tsx (the knex CLI cannot load TypeScript here).
+// `npm run db:migrate | db:rollback | db:seed` use DATABASE_URL, or the `npm start` stack's database.
+import knex from 'knex';
+import config from '../knexfile';
+
+async function withDatabase<T>(url: string, work: (db: knex.Knex) => Promise<T>): Promise<T> {
+	const db = knex({ ...config, connection: url, pool: { min: 0, max: 2 } });
+	try {
+		return await work(db);
+	} finally {
+		await db.destroy();
+	}
+}
+
+export async function migrateDatabase(url: string): Promise<string[]> {
+	return withDatabase(url, async (db) => {
+		const [, applied] = (await db.migrate.latest()) as [number, string[]];
+		return applied;
+	});
+}
+
+export async function rollbackDatabase(url: string): Promise<string[]> {
+	return withDatabase(url, async (db) => {
+		const [, undone] = (await db.migrate.rollback()) as [number, string[]];
+		return undone;
+	});
+}
+
+export async function seedDatabase(url: string): Promise<void> {
+	await withDatabase(url, async (db) => {
+		await db.seed.run();
+	});
+}
+
+const isMain = process.argv[1] && import.meta.url.endsWith(process.argv[1].split('/').pop()!);
+if (isMain) {
+	const command = process.argv[2];
+	let url = process.env.DATABASE_URL;
+	if (!url) {
+		const { startPlan, appEnvironment } = await import('./local-env');
+		const { fileURLToPath } = await import('node:url');
+		url = appEnvironment(startPlan(fileURLToPath(new URL('..', import.meta.url)))).DATABASE_URL;
+	}
+	if (command === 'migrate') console.log('applied:', (await migrateDatabase(url!)).join(', ') || 'nothing new');
+	else if (command === 'rollback') console.log('rolled back:', (await rollbackDatabase(url!)).join(', ') || 'nothing');
+	else if (command === 'seed') {
+		await seedDatabase(url!);
+		console.log('demo scenario loaded');
+	} else {
+		console.error('usage: db.ts migrate | rollback | seed');
+		process.exit(2);
+	}
+}

@@ -1,0 +1,268 @@
+// The two commands of the README. `start`: the local services, migrations, the demo data, a build and
+// the web server, until Ctrl-C. `test`: the same on throwaway ports and folders, then type checks,
+// lint, unit, integration and browser tests; it stops everything it started. `fakes`: only the
+// services, for `npm run dev`.
+import { spawn, spawnSync } from 'node:child_process';
+import { chmodSync, existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { createServer } from 'node:net';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { appEnvironment, startPlan, testPlan, type StackPlan } from './local-env';
+import { chooseDataDir, ensurePostgresInstalled, initCluster, postgresService, stopLeftoverServer } from './postgres';
+import { Supervisor, waitFor, waitForPort } from './supervisor';
+import { migrateDatabase, seedDatabase } from './db';
+import { demoAccounts, DEMO_PASSWORD } from '../seeds/data/demo-accounts';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const say = (line: string) => console.log(`[tenderloom] ${line}`);
+const tsxNode = (script: string) => ({ command: process.execPath, args: ['--import', 'tsx', join(root, script)] });
+
+async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<Record<string, string>> {
+	const env = appEnvironment(plan);
+	const binDir = ensurePostgresInstalled(say);
+	const dataDir = chooseDataDir(join(plan.dataRoot, 'pg'), root);
+	if (initCluster(binDir, dataDir, plan.secrets.postgresPassword)) say(`created a PostgreSQL cluster in ${dataDir}`);
+	else say(`reusing the PostgreSQL cluster in ${dataDir}`);
+	stopLeftoverServer(binDir, dataDir);
+	const logs = join(plan.dataRoot, 'logs');
+	await supervisor.start(
+		postgresService({
+			binDir,
+			dataDir,
+			port: plan.ports.postgres,
+			password: plan.secrets.postgresPassword,
+			logFile: join(logs, 'postgresql.log'),
+			throwaway: plan.throwaway
+		})
+	);
+	say(`PostgreSQL on 127.0.0.1:${plan.ports.postgres}`);
+	await supervisor.start({
+		name: 's3-fake',
+		...tsxNode('docker-free-fakes/s3-fake.ts'),
+		env: {
+			...process.env,
+			S3_FAKE_PORT: String(plan.ports.s3),
+			S3_FAKE_DIR: join(plan.dataRoot, 's3'),
+			S3_BUCKET: env.S3_BUCKET
+		},
+		logFile: join(logs, 's3-fake.log'),
+		ready: () => waitForPort(plan.ports.s3)
+	});
+	say(`S3 fake on ${env.S3_ENDPOINT}`);
+	await supervisor.start({
+		name: 'smtp-fake',
+		...tsxNode('docker-free-fakes/smtp-fake.ts'),
+		env: {
+			...process.env,
+			SMTP_FAKE_PORT: String(plan.ports.smtp),
+			MAIL_FAKE_HTTP_PORT: String(plan.ports.mailApi),
+			SMTP_FAKE_DIR: join(plan.dataRoot, 'mail')
+		},
+		logFile: join(logs, 'smtp-fake.log'),
+		ready: async () => {
+			await waitForPort(plan.ports.smtp);
+			await waitForPort(plan.ports.mailApi);
+		}
+	});
+	say(`SMTP fake on ${env.SMTP_URL}, its mailbox API on ${env.MAIL_FAKE_API}`);
+	return env;
+}
+
+async function startWeb(plan: StackPlan, supervisor: Supervisor, env: Record<string, string>): Promise<void> {
+	await supervisor.start({
+		name: 'web',
+		command: process.execPath,
+		args: [join(root, 'build', 'index.js')],
+		env: { ...process.env, ...env, NODE_ENV: 'production' },
+		logFile: join(plan.dataRoot, 'logs', 'web.log'),
+		echo: !plan.throwaway,
+		ready: () =>
+			waitFor(async () => (await fetch(`${env.ORIGIN}/healthz`)).ok, `the web server on ${env.ORIGIN}`, 60_000)
+	});
+}
+
+function runStep(command: string, args: string[], env: NodeJS.ProcessEnv = process.env): Promise<number> {
+	return new Promise((resolve) => {
+		const child = spawn(command, args, { cwd: root, env, stdio: 'inherit' });
+		child.on('exit', (code) => resolve(code ?? 1));
+	});
+}
+
+function build(): void {
+	say('building the app (vite build)…');
+	const result = spawnSync('npx', ['vite', 'build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' });
+	if (result.status !== 0) throw new Error('vite build failed');
+}
+
+function onShutdown(stop: () => Promise<void>): void {
+	let stopping = false;
+	for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) {
+		process.on(signal, () => {
+			if (stopping) return;
+			stopping = true;
+			say(`${signal}: stopping everything`);
+			stop().then(
+				() => process.exit(0),
+				() => process.exit(1)
+			);
+		});
+	}
+}
+
+async function assertPortsFree(plan: StackPlan): Promise<string[]> {
+	const bound: string[] = [];
+	for (const [name, port] of Object.entries(plan.ports)) {
+		const free = await new Promise<boolean>((resolve) => {
+			const server = createServer();
+			server.once('error', () => resolve(false));
+			server.listen(port, '127.0.0.1', () => server.close(() => resolve(true)));
+		});
+		if (!free) bound.push(`${name} (${port})`);
+	}
+	return bound;
+}
+
+async function start(): Promise<void> {
+	const plan = startPlan(root);
+	const supervisor = new Supervisor(say);
+	onShutdown(() => supervisor.stopAll());
+	try {
+		const env = await startServices(plan, supervisor);
+		await migrateDatabase(env.DATABASE_URL);
+		await seedDatabase(env.DATABASE_URL);
+		say('migrated and loaded the demo scenario');
+		build();
+		await startWeb(plan, supervisor, env);
+		console.log(
+			[
+				'',
+				`  Tenderloom is running at ${env.ORIGIN}`,
+				'',
+				'  Demo sign-ins (an invented scenario; staff sign in by password, suppliers by e-mail link):',
+				...demoAccounts.map(
+					(a) => `    ${a.role.padEnd(9)} ${a.email.padEnd(36)} ${a.password ? DEMO_PASSWORD : 'e-mail link'}`
+				),
+				`  Sign-in links and notices land in the local mailbox: ${env.ORIGIN}/dev/mailbox`,
+				'',
+				'  Ctrl-C stops the app and every service it started; the data stays in .data/',
+				''
+			].join('\n')
+		);
+	} catch (error) {
+		console.error(`[tenderloom] ${(error as Error).message}`);
+		await supervisor.stopAll();
+		process.exit(1);
+	}
+}
+
+function ensureChromium(): string {
+	const path = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium';
+	if (existsSync(path)) return path;
+	if (process.getuid?.() !== 0) throw new Error(`Chromium not found at ${path}: install the Debian package "chromium"`);
+	say('installing Chromium from Debian packages for the browser tests…');
+	const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };
+	for (const args of [['update', '-qq'], ['install', '-y', '-qq', 'chromium']]) {
+		if (spawnSync('apt-get', args, { stdio: 'inherit', env }).status !== 0) throw new Error(`apt-get ${args.join(' ')} failed`);
+	}
+	return path;
+}
+
+interface StepResult {
+	step: string;
+	ok: boolean;
+	seconds: number;
+}
+
+async function test(): Promise<void> {
+	const dataRoot = mkdtempSync(join(tmpdir(), 'tenderloom-test-'));
+	// mkdtemp makes a 0700 folder; the `postgres` user must be able to reach the cluster inside it.
+	chmodSync(dataRoot, 0o755);
+	const plan = await testPlan(dataRoot);
+	const supervisor = new Supervisor(say);
+	const results: StepResult[] = [];
+	let counts = { passed: 0, failed: 0, skipped: 0 };
+	const cleanUp = async () => {
+		await supervisor.stopAll();
+		rmSync(dataRoot, { recursive: true, force: true });
+	};
+	onShutdown(cleanUp);
+	const timed = async (step: string, work: () => Promise<boolean>) => {
+		const began = Date.now();
+		say(`── ${step}`);
+		let ok = false;
+		try {
+			ok = await work();
+		} catch (error) {
+			console.error(`[tenderloom] ${step}: ${(error as Error).message}`);
+		}
+		results.push({ step, ok, seconds: (Date.now() - began) / 1000 });
+		return ok;
+	};
+
+	try {
+		await timed('type check (svelte-check)', async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0);
+		await timed('lint (prettier, eslint)', async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0);
+		let env: Record<string, string> = {};
+		const ready = await timed('services, migrations, build, web server', async () => {
+			const chromium = ensureChromium();
+			env = { ...(await startServices(plan, supervisor)), CHROMIUM_PATH: chromium };
+			await migrateDatabase(env.DATABASE_URL!);
+			build();
+			await startWeb(plan, supervisor, env);
+			return true;
+		});
+		if (ready) {
+			const report = join(dataRoot, 'vitest.json');
+			await timed('unit, integration and browser tests (vitest)', async () => {
+				const code = await runStep('npx', ['vitest', 'run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`], {
+					...process.env,
+					...env,
+					APP_URL: env.ORIGIN,
+					TEST_DATA_DIR: dataRoot
+				});
+				if (existsSync(report)) {
+					const json = JSON.parse(readFileSync(report, 'utf8')) as Record<string, number>;
+					counts = {
+						passed: json.numPassedTests ?? 0,
+						failed: (json.numFailedTests ?? 0) + (json.numRuntimeErrorTestSuites ?? 0),
+						skipped: (json.numPendingTests ?? 0) + (json.numTodoTests ?? 0)
+					};
+				}
+				return code === 0 && counts.passed > 0;
+			});
+		}
+	} finally {
+		await cleanUp();
+	}
+	const bound = await assertPortsFree(plan);
+	results.push({ step: 'nothing left running', ok: bound.length === 0, seconds: 0 });
+	if (bound.length) console.error(`[tenderloom] ports still bound after the run: ${bound.join(', ')}`);
+
+	console.log('\n  step                                             result   seconds');
+	for (const r of results) console.log(`  ${r.step.padEnd(48)} ${(r.ok ? 'ok' : 'FAILED').padEnd(8)} ${r.seconds.toFixed(1)}`);
+	const failedSteps = results.filter((r) => !r.ok).length;
+	console.log(`\n${counts.passed} passed, ${counts.failed + failedSteps} failed, ${counts.skipped} skipped`);
+	process.exit(failedSteps === 0 && counts.failed === 0 ? 0 : 1);
+}
+
+async function fakes(): Promise<void> {
+	const plan = startPlan(root);
+	const supervisor = new Supervisor(say);
+	onShutdown(() => supervisor.stopAll());
+	const env = await startServices(plan, supervisor);
+	await migrateDatabase(env.DATABASE_URL);
+	await seedDatabase(env.DATABASE_URL);
+	console.log('\nServices are up. For `npm run dev` in another shell, export:\n');
+	for (const [key, value] of Object.entries(env)) console.log(`export ${key}='${value}'`);
+	console.log("export ORIGIN='http://127.0.0.1:5173'\n");
+}
+
+const command = process.argv[2];
+const commands: Record<string, () => Promise<void>> = { start, test, fakes };
+const run = command ? commands[command] : undefined;
+if (!run) {
+	console.error(`usage: stack.ts ${Object.keys(commands).join(' | ')}`);
+	process.exit(2);
+}
+await run();
