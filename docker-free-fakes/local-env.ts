@@ -67,7 +67,7 @@ export async function testPlan(dataRoot: string): Promise<StackPlan> {
 }
 
 /** The environment the web process, the tests and the scripts get; a real deployment sets the same names. */
-export function appEnvironment(plan: StackPlan): Record<string, string> {
+export function appEnvironment(plan: StackPlan) {
 	const origin = `http://127.0.0.1:${plan.ports.app}`;
 	return {
 		DATABASE_URL: postgresUrl({ port: plan.ports.postgres, password: plan.secrets.postgresPassword }),
@@ -86,5 +86,7 @@ export function appEnvironment(plan: StackPlan): Record<string, string> {
 		SMTP_URL: `smtp://127.0.0.1:${plan.ports.smtp}`,
 		MAIL_FROM: 'Tenderloom <no-reply@tenderloom.test>',
 		MAIL_FAKE_API: `http://127.0.0.1:${plan.ports.mailApi}`
-	};
+	} satisfies Record<string, string>;
 }
+
+export type AppEnvironment = ReturnType<typeof appEnvironment>;

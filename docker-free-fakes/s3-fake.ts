@@ -25,3 +25,6 @@ const shutdown = () => {
 };
 process.on('SIGTERM', shutdown);
 process.on('SIGINT', shutdown);
+// the supervisor holds our stdin; when it goes away, so do we
+process.stdin.on('close', shutdown);
+process.stdin.resume();

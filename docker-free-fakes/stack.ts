@@ -8,7 +8,7 @@ import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { appEnvironment, startPlan, testPlan, type StackPlan } from './local-env';
+import { appEnvironment, startPlan, testPlan, type AppEnvironment, type StackPlan } from './local-env';
 import { chooseDataDir, ensurePostgresInstalled, initCluster, postgresService, stopLeftoverServer } from './postgres';
 import { Supervisor, waitFor, waitForPort } from './supervisor';
 import { migrateDatabase, seedDatabase } from './db';
@@ -18,7 +18,7 @@ const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const say = (line: string) => console.log(`[tenderloom] ${line}`);
 const tsxNode = (script: string) => ({ command: process.execPath, args: ['--import', 'tsx', join(root, script)] });
 
-async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<Record<string, string>> {
+async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<AppEnvironment> {
 	const env = appEnvironment(plan);
 	const binDir = ensurePostgresInstalled(say);
 	const dataDir = chooseDataDir(join(plan.dataRoot, 'pg'), root);
@@ -69,7 +69,7 @@ async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<R
 	return env;
 }
 
-async function startWeb(plan: StackPlan, supervisor: Supervisor, env: Record<string, string>): Promise<void> {
+async function startWeb(plan: StackPlan, supervisor: Supervisor, env: AppEnvironment): Promise<void> {
 	await supervisor.start({
 		name: 'web',
 		command: process.execPath,
@@ -91,7 +91,7 @@ function runStep(command: string, args: string[], env: NodeJS.ProcessEnv = proce
 
 function build(): void {
 	say('building the app (vite build)…');
-	const result = spawnSync('npx', ['vite', 'build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' });
+	const result = spawnSync('npx', ['vite', 'build', '--logLevel', 'error'], { cwd: root, stdio: 'inherit' });
 	if (result.status !== 0) throw new Error('vite build failed');
 }
 
@@ -203,22 +203,23 @@ async function test(): Promise<void> {
 	try {
 		await timed('type check (svelte-check)', async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0);
 		await timed('lint (prettier, eslint)', async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0);
-		let env: Record<string, string> = {};
+		let env: (AppEnvironment & { CHROMIUM_PATH: string }) | undefined;
 		const ready = await timed('services, migrations, build, web server', async () => {
 			const chromium = ensureChromium();
 			env = { ...(await startServices(plan, supervisor)), CHROMIUM_PATH: chromium };
-			await migrateDatabase(env.DATABASE_URL!);
+			await migrateDatabase(env.DATABASE_URL);
 			build();
 			await startWeb(plan, supervisor, env);
 			return true;
 		});
-		if (ready) {
+		if (ready && env) {
+			const testEnv = env;
 			const report = join(dataRoot, 'vitest.json');
 			await timed('unit, integration and browser tests (vitest)', async () => {
 				const code = await runStep('npx', ['vitest', 'run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`], {
 					...process.env,
-					...env,
-					APP_URL: env.ORIGIN,
+					...testEnv,
+					APP_URL: testEnv.ORIGIN,
 					TEST_DATA_DIR: dataRoot
 				});
 				if (existsSync(report)) {

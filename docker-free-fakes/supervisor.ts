@@ -52,7 +52,8 @@ export class Supervisor {
 		const child = spawn(spec.command, spec.args, {
 			cwd: spec.cwd,
 			env: spec.env ?? process.env,
-			stdio: ['ignore', 'pipe', 'pipe']
+			// stdin stays open as a lifeline: the fakes exit when it closes, so they never outlive a killed parent
+			stdio: ['pipe', 'pipe', 'pipe']
 		});
 		for (const stream of [child.stdout, child.stderr]) {
 			stream?.on('data', (chunk: Buffer) => {

@@ -1,0 +1,25 @@
+import type { Db } from './knex';
+import type { AccountEventRow } from './tables';
+
+export interface AccountEvent {
+	actorUserId: number | null;
+	subjectUserId: number | null;
+	action: 'user.invited' | 'user.role_changed' | 'user.deactivated' | 'user.reactivated' | 'user.password_set';
+	detail?: Record<string, unknown>;
+	ip?: string | null;
+}
+
+/** Appends to the account log; the table's trigger refuses any update or delete. */
+export async function recordAccountEvent(db: Db, event: AccountEvent): Promise<void> {
+	await db('account_events').insert({
+		actor_user_id: event.actorUserId,
+		subject_user_id: event.subjectUserId,
+		action: event.action,
+		detail: JSON.stringify(event.detail ?? {}),
+		ip: event.ip ?? null
+	});
+}
+
+export function listAccountEvents(db: Db, subjectUserId: number): Promise<AccountEventRow[]> {
+	return db<AccountEventRow>('account_events').where({ subject_user_id: subjectUserId }).orderBy('id');
+}
