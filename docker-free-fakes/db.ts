@@ -41,8 +41,10 @@ if (isMain) {
 		const { fileURLToPath } = await import('node:url');
 		url = appEnvironment(startPlan(fileURLToPath(new URL('..', import.meta.url)))).DATABASE_URL;
 	}
-	if (command === 'migrate') console.log('applied:', (await migrateDatabase(url!)).join(', ') || 'nothing new');
-	else if (command === 'rollback') console.log('rolled back:', (await rollbackDatabase(url!)).join(', ') || 'nothing');
+	if (command === 'migrate')
+		console.log('applied:', (await migrateDatabase(url!)).join(', ') || 'nothing new');
+	else if (command === 'rollback')
+		console.log('rolled back:', (await rollbackDatabase(url!)).join(', ') || 'nothing');
 	else if (command === 'seed') {
 		await seedDatabase(url!);
 		console.log('demo scenario loaded');

@@ -27,22 +27,30 @@ export function ensurePostgresInstalled(say: (line: string) => void): string {
 	const found = findPostgresBinDir();
 	if (found) return found;
 	if (!isRoot) {
-		throw new Error('PostgreSQL server not found: install the Debian package "postgresql" (apt-get install postgresql)');
+		throw new Error(
+			'PostgreSQL server not found: install the Debian package "postgresql" (apt-get install postgresql)'
+		);
 	}
 	say('installing PostgreSQL from Debian packages (apt-get install postgresql)…');
 	const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };
-	for (const args of [['update', '-qq'], ['install', '-y', '-qq', 'postgresql']]) {
+	for (const args of [
+		['update', '-qq'],
+		['install', '-y', '-qq', 'postgresql']
+	]) {
 		const result = spawnSync('apt-get', args, { stdio: 'inherit', env });
 		if (result.status !== 0) throw new Error(`apt-get ${args.join(' ')} failed`);
 	}
 	const installed = findPostgresBinDir();
-	if (!installed) throw new Error('apt-get installed postgresql but its binaries were not found under /usr/lib/postgresql');
+	if (!installed)
+		throw new Error('apt-get installed postgresql but its binaries were not found under /usr/lib/postgresql');
 	return installed;
 }
 
 /** initdb and postgres refuse to run as root; as root we drop to the `postgres` user. */
 function asServerUser(command: string[]): string[] {
-	return isRoot ? ['setpriv', '--reuid=postgres', '--regid=postgres', '--init-groups', '--', ...command] : command;
+	return isRoot
+		? ['setpriv', '--reuid=postgres', '--regid=postgres', '--init-groups', '--', ...command]
+		: command;
 }
 
 function run(command: string[], what: string): void {
@@ -54,7 +62,10 @@ function run(command: string[], what: string): void {
 function ensureServerUser(): void {
 	if (!isRoot) return;
 	if (spawnSync('id', ['-u', 'postgres']).status === 0) return;
-	run(['useradd', '--system', '--no-create-home', '--shell', '/usr/sbin/nologin', 'postgres'], 'useradd postgres');
+	run(
+		['useradd', '--system', '--no-create-home', '--shell', '/usr/sbin/nologin', 'postgres'],
+		'useradd postgres'
+	);
 }
 
 function serverUserCanUse(dir: string): boolean {
@@ -123,7 +134,10 @@ export function stopLeftoverServer(binDir: string, dataDir: string): void {
 	} catch {
 		return;
 	}
-	run(asServerUser([join(binDir, 'pg_ctl'), 'stop', '-D', dataDir, '-m', 'fast', '-w']), 'stopping a leftover PostgreSQL');
+	run(
+		asServerUser([join(binDir, 'pg_ctl'), 'stop', '-D', dataDir, '-m', 'fast', '-w']),
+		'stopping a leftover PostgreSQL'
+	);
 }
 
 export interface PostgresPlan {
@@ -148,7 +162,9 @@ export function postgresService(plan: PostgresPlan): ServiceSpec {
 		String(plan.port),
 		'-c',
 		'unix_socket_directories=',
-		...(plan.throwaway ? ['-c', 'fsync=off', '-c', 'synchronous_commit=off', '-c', 'full_page_writes=off'] : [])
+		...(plan.throwaway
+			? ['-c', 'fsync=off', '-c', 'synchronous_commit=off', '-c', 'full_page_writes=off']
+			: [])
 	];
 	const [command, ...args] = asServerUser([join(plan.binDir, 'postgres'), '-D', plan.dataDir, ...settings]);
 	return {

@@ -99,7 +99,9 @@ const http = createServer((request, response) => {
 
 smtp.listen(smtpPort, '127.0.0.1', () => {
 	http.listen(httpPort, '127.0.0.1', () => {
-		console.log(`smtp fake on 127.0.0.1:${smtpPort}, mailbox API on http://127.0.0.1:${httpPort}, data in ${directory}`);
+		console.log(
+			`smtp fake on 127.0.0.1:${smtpPort}, mailbox API on http://127.0.0.1:${httpPort}, data in ${directory}`
+		);
 	});
 });
 

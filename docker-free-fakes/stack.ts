@@ -9,20 +9,30 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { appEnvironment, startPlan, testPlan, type AppEnvironment, type StackPlan } from './local-env';
-import { chooseDataDir, ensurePostgresInstalled, initCluster, postgresService, stopLeftoverServer } from './postgres';
+import {
+	chooseDataDir,
+	ensurePostgresInstalled,
+	initCluster,
+	postgresService,
+	stopLeftoverServer
+} from './postgres';
 import { Supervisor, waitFor, waitForPort } from './supervisor';
 import { migrateDatabase, seedDatabase } from './db';
 import { demoAccounts, DEMO_PASSWORD } from '../seeds/data/demo-accounts';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const say = (line: string) => console.log(`[tenderloom] ${line}`);
-const tsxNode = (script: string) => ({ command: process.execPath, args: ['--import', 'tsx', join(root, script)] });
+const tsxNode = (script: string) => ({
+	command: process.execPath,
+	args: ['--import', 'tsx', join(root, script)]
+});
 
 async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<AppEnvironment> {
 	const env = appEnvironment(plan);
 	const binDir = ensurePostgresInstalled(say);
 	const dataDir = chooseDataDir(join(plan.dataRoot, 'pg'), root);
-	if (initCluster(binDir, dataDir, plan.secrets.postgresPassword)) say(`created a PostgreSQL cluster in ${dataDir}`);
+	if (initCluster(binDir, dataDir, plan.secrets.postgresPassword))
+		say(`created a PostgreSQL cluster in ${dataDir}`);
 	else say(`reusing the PostgreSQL cluster in ${dataDir}`);
 	stopLeftoverServer(binDir, dataDir);
 	const logs = join(plan.dataRoot, 'logs');
@@ -69,7 +79,11 @@ async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<A
 	return env;
 }
 
-async function startWeb(plan: StackPlan, supervisor: Supervisor, env: AppEnvironment): Promise<void> {
+async function startWeb(
+	plan: StackPlan,
+	supervisor: Supervisor,
+	env: AppEnvironment & Record<string, string>
+): Promise<void> {
 	await supervisor.start({
 		name: 'web',
 		command: process.execPath,
@@ -78,7 +92,11 @@ async function startWeb(plan: StackPlan, supervisor: Supervisor, env: AppEnviron
 		logFile: join(plan.dataRoot, 'logs', 'web.log'),
 		echo: !plan.throwaway,
 		ready: () =>
-			waitFor(async () => (await fetch(`${env.ORIGIN}/healthz`)).ok, `the web server on ${env.ORIGIN}`, 60_000)
+			waitFor(
+				async () => (await fetch(`${env.ORIGIN}/healthz`)).ok,
+				`the web server on ${env.ORIGIN}`,
+				60_000
+			)
 	});
 }
 
@@ -159,11 +177,16 @@ async function start(): Promise<void> {
 function ensureChromium(): string {
 	const path = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium';
 	if (existsSync(path)) return path;
-	if (process.getuid?.() !== 0) throw new Error(`Chromium not found at ${path}: install the Debian package "chromium"`);
+	if (process.getuid?.() !== 0)
+		throw new Error(`Chromium not found at ${path}: install the Debian package "chromium"`);
 	say('installing Chromium from Debian packages for the browser tests…');
 	const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };
-	for (const args of [['update', '-qq'], ['install', '-y', '-qq', 'chromium']]) {
-		if (spawnSync('apt-get', args, { stdio: 'inherit', env }).status !== 0) throw new Error(`apt-get ${args.join(' ')} failed`);
+	for (const args of [
+		['update', '-qq'],
+		['install', '-y', '-qq', 'chromium']
+	]) {
+		if (spawnSync('apt-get', args, { stdio: 'inherit', env }).status !== 0)
+			throw new Error(`apt-get ${args.join(' ')} failed`);
 	}
 	return path;
 }
@@ -201,27 +224,39 @@ async function test(): Promise<void> {
 	};
 
 	try {
-		await timed('type check (svelte-check)', async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0);
-		await timed('lint (prettier, eslint)', async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0);
+		await timed(
+			'type check (svelte-check)',
+			async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0
+		);
+		await timed(
+			'lint (prettier, eslint)',
+			async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0
+		);
 		let env: (AppEnvironment & { CHROMIUM_PATH: string }) | undefined;
 		const ready = await timed('services, migrations, build, web server', async () => {
 			const chromium = ensureChromium();
 			env = { ...(await startServices(plan, supervisor)), CHROMIUM_PATH: chromium };
 			await migrateDatabase(env.DATABASE_URL);
 			build();
-			await startWeb(plan, supervisor, env);
+			// Many tests sign in from 127.0.0.1: lift the per-address ceiling for the server under test only
+			// (tests/integration/rate-limit.spec.ts checks that ceiling on its own).
+			await startWeb(plan, supervisor, { ...env, SIGN_IN_LIMIT_PER_ADDRESS: '100000' });
 			return true;
 		});
 		if (ready && env) {
 			const testEnv = env;
 			const report = join(dataRoot, 'vitest.json');
 			await timed('unit, integration and browser tests (vitest)', async () => {
-				const code = await runStep('npx', ['vitest', 'run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`], {
-					...process.env,
-					...testEnv,
-					APP_URL: testEnv.ORIGIN,
-					TEST_DATA_DIR: dataRoot
-				});
+				const code = await runStep(
+					'npx',
+					['vitest', 'run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`],
+					{
+						...process.env,
+						...testEnv,
+						APP_URL: testEnv.ORIGIN,
+						TEST_DATA_DIR: dataRoot
+					}
+				);
 				if (existsSync(report)) {
 					const json = JSON.parse(readFileSync(report, 'utf8')) as Record<string, number>;
 					counts = {
@@ -241,7 +276,8 @@ async function test(): Promise<void> {
 	if (bound.length) console.error(`[tenderloom] ports still bound after the run: ${bound.join(', ')}`);
 
 	console.log('\n  step                                             result   seconds');
-	for (const r of results) console.log(`  ${r.step.padEnd(48)} ${(r.ok ? 'ok' : 'FAILED').padEnd(8)} ${r.seconds.toFixed(1)}`);
+	for (const r of results)
+		console.log(`  ${r.step.padEnd(48)} ${(r.ok ? 'ok' : 'FAILED').padEnd(8)} ${r.seconds.toFixed(1)}`);
 	const failedSteps = results.filter((r) => !r.ok).length;
 	console.log(`\n${counts.passed} passed, ${counts.failed + failedSteps} failed, ${counts.skipped} skipped`);
 	process.exit(failedSteps === 0 && counts.failed === 0 ? 0 : 1);

@@ -69,7 +69,9 @@ export class Supervisor {
 			if (entry.stopping || this.shuttingDown) return;
 			const limit = entry.spec.maxRestarts ?? 5;
 			if (entry.restarts >= limit) {
-				this.say(`${entry.spec.name} stopped (${signal ?? code}) and was restarted ${limit} times; giving up`);
+				this.say(
+					`${entry.spec.name} stopped (${signal ?? code}) and was restarted ${limit} times; giving up`
+				);
 				return;
 			}
 			entry.restarts += 1;
@@ -87,7 +89,9 @@ export class Supervisor {
 		const entry = this.running.get(name);
 		if (!entry) return;
 		entry.stopping = true;
+		const began = Date.now();
 		await stopChild(entry.child, entry.spec.stopSignal ?? 'SIGTERM', timeoutMs);
+		this.say(`stopped ${name} (${Date.now() - began} ms)`);
 		entry.log.end();
 		this.running.delete(name);
 	}
@@ -106,7 +110,11 @@ export class Supervisor {
 	}
 }
 
-export async function stopChild(child: ChildProcess, signal: NodeJS.Signals, timeoutMs: number): Promise<void> {
+export async function stopChild(
+	child: ChildProcess,
+	signal: NodeJS.Signals,
+	timeoutMs: number
+): Promise<void> {
 	if (child.exitCode !== null || child.signalCode !== null) return;
 	const exited = new Promise<void>((resolve) => child.once('exit', () => resolve()));
 	child.kill(signal);
@@ -134,7 +142,11 @@ export function waitForPort(port: number, timeoutMs = 30_000): Promise<void> {
 	});
 }
 
-export async function waitFor(check: () => Promise<boolean>, what: string, timeoutMs = 30_000): Promise<void> {
+export async function waitFor(
+	check: () => Promise<boolean>,
+	what: string,
+	timeoutMs = 30_000
+): Promise<void> {
 	const deadline = Date.now() + timeoutMs;
 	while (Date.now() < deadline) {
 		if (await check().catch(() => false)) return;

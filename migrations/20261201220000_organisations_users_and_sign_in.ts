@@ -95,7 +95,14 @@ export async function up(knex: Knex): Promise<void> {
 export async function down(knex: Knex): Promise<void> {
 	await knex.raw('drop trigger if exists account_events_no_change on account_events');
 	await knex.raw('drop function if exists account_events_append_only()');
-	for (const table of ['account_events', 'sign_in_limits', 'verification_token', 'sessions', 'accounts', 'users']) {
+	for (const table of [
+		'account_events',
+		'sign_in_limits',
+		'verification_token',
+		'sessions',
+		'accounts',
+		'users'
+	]) {
 		await knex.schema.dropTableIfExists(table);
 	}
 	await knex.schema.dropTableIfExists('organisations');

@@ -10,7 +10,9 @@ export async function seed(knex: Knex): Promise<void> {
 		const organisations = [...new Set(demoAccounts.map((a) => a.organisation))];
 		for (const name of organisations) {
 			const kind = name === BUYING_ORGANISATION ? 'buyer' : 'supplier';
-			const found = await trx('organisations').whereRaw('kind = ? and lower(name) = lower(?)', [kind, name]).first('id');
+			const found = await trx('organisations')
+				.whereRaw('kind = ? and lower(name) = lower(?)', [kind, name])
+				.first('id');
 			const id =
 				(found?.id as string | undefined) ??
 				((await trx('organisations').insert({ name, kind }).returning('id'))[0] as { id: string }).id;

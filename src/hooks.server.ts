@@ -1,6 +1,7 @@
 import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
-import { authHandle } from '$lib/server/auth';
+import { authHandle, closeAuthPool } from '$lib/server/auth';
+import { closeDb } from '$lib/server/db/knex';
 import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import type { SessionUser } from '$lib/server/auth/session-user';
@@ -8,8 +9,15 @@ import { hookError, jsonError, newErrorId } from '$lib/server/http';
 
 const READS = new Set(['GET', 'HEAD', 'OPTIONS']);
 
+// adapter-node emits this once the server has stopped taking requests; idle pools would otherwise
+// hold the process open for their idle timeout.
+process.once('sveltekit:shutdown', () => {
+	void Promise.all([closeDb(), closeAuthPool()]);
+});
+
 const isSignInAttempt = (method: string, path: string) =>
-	method === 'POST' && (path === '/signin' || path.startsWith('/auth/callback/') || path.startsWith('/auth/signin/'));
+	method === 'POST' &&
+	(path === '/signin' || path.startsWith('/auth/callback/') || path.startsWith('/auth/signin/'));
 
 /** A ceiling on sign-in requests per client address, before Auth.js sees them. */
 const throttleSignIn: Handle = async ({ event, resolve }) => {
@@ -32,7 +40,9 @@ const guard: Handle = async ({ event, resolve }) => {
 	const user = event.locals.user;
 	const isApi = pathname.startsWith('/api/');
 	const deny = (status: number, message: string) =>
-		isApi ? jsonError(status, message, { path: pathname, userId: user?.id }) : hookError(status, message, { path: pathname, userId: user?.id });
+		isApi
+			? jsonError(status, message, { path: pathname, userId: user?.id })
+			: hookError(status, message, { path: pathname, userId: user?.id });
 
 	if (user?.role === 'auditor' && !READS.has(event.request.method) && !isSignOut(pathname)) {
 		return deny(403, 'Auditors can read but not change anything.');
@@ -51,12 +61,23 @@ export const handle = sequence(throttleSignIn, authHandle, loadUser, guard);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = newErrorId();
-	const cause = error instanceof Error ? { message: error.message, stack: error.stack } : { message: String(error) };
+	const cause =
+		error instanceof Error ? { message: error.message, stack: error.stack } : { message: String(error) };
 	console.error(
-		JSON.stringify({ level: status >= 500 ? 'error' : 'warn', errorId, status, path: event.url.pathname, summary: message, ...cause })
+		JSON.stringify({
+			level: status >= 500 ? 'error' : 'warn',
+			errorId,
+			status,
+			path: event.url.pathname,
+			summary: message,
+			...cause
+		})
 	);
 	return {
-		message: status === 404 ? 'There is no page at this address.' : 'Something went wrong on our side. Nothing you sent was lost.',
+		message:
+			status === 404
+				? 'There is no page at this address.'
+				: 'Something went wrong on our side. Nothing you sent was lost.',
 		errorId
 	};
 };

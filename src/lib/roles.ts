@@ -17,9 +17,12 @@ export const roleNames: Record<Role, string> = {
 
 export const roleDuties: Record<Role, string> = {
 	admin: 'Invite users, set their roles and deactivate accounts.',
-	buyer: 'Set up sourcing events, open bids at the deadline, build award plans and submit an award run for sign-off.',
-	approver: 'Review award runs submitted by buyers, then approve or return them. You cannot approve your own work.',
-	supplier: 'Read the events you are invited to, ask questions, and submit or revise your bid until the deadline.',
+	buyer:
+		'Set up sourcing events, open bids at the deadline, build award plans and submit an award run for sign-off.',
+	approver:
+		'Review award runs submitted by buyers, then approve or return them. You cannot approve your own work.',
+	supplier:
+		'Read the events you are invited to, ask questions, and submit or revise your bid until the deadline.',
 	auditor: 'Read closed events and their decision trail. Nothing can be changed from this role.'
 };
 

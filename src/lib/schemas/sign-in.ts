@@ -1,6 +1,8 @@
 import { z } from 'zod';
 
-const email = z.email('Enter an e-mail address such as name@example.org.').max(254, 'That e-mail address is too long.');
+const email = z
+	.email('Enter an e-mail address such as name@example.org.')
+	.max(254, 'That e-mail address is too long.');
 
 /** A same-site path to return to after sign-in; anything else falls back to the home page. */
 const returnPath = z

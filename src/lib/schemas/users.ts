@@ -18,11 +18,16 @@ export const inviteUserSchema = z
 			ctx.addIssue({
 				code: 'custom',
 				path: ['supplierOrganisationId'],
-				message: 'For a supplier user, choose an existing supplier organisation or enter the name of a new one (not both).'
+				message:
+					'For a supplier user, choose an existing supplier organisation or enter the name of a new one (not both).'
 			});
 		}
 		if (existing && !z.uuid().safeParse(value.supplierOrganisationId).success) {
-			ctx.addIssue({ code: 'custom', path: ['supplierOrganisationId'], message: 'Choose a supplier organisation from the list.' });
+			ctx.addIssue({
+				code: 'custom',
+				path: ['supplierOrganisationId'],
+				message: 'Choose a supplier organisation from the list.'
+			});
 		}
 	});
 
@@ -30,4 +35,6 @@ export const userIdSchema = z.object({ userId: z.coerce.number().int().positive(
 
 export const setRoleSchema = userIdSchema.extend({ role: z.enum(ROLES, 'Choose a role.') });
 
-export const setActiveSchema = userIdSchema.extend({ active: z.enum(['true', 'false']).transform((v) => v === 'true') });
+export const setActiveSchema = userIdSchema.extend({
+	active: z.enum(['true', 'false']).transform((v) => v === 'true')
+});

@@ -4,7 +4,7 @@ import type { RequestContext } from './services/users';
 
 /** Where links in mail point (the configured public origin) and where the request came from. */
 export function requestContext(event: Pick<RequestEvent, 'url' | 'getClientAddress'>): RequestContext {
-	let ip: string | null = null;
+	let ip: string | null;
 	try {
 		ip = event.getClientAddress();
 	} catch {

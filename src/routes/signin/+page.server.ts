@@ -31,14 +31,22 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 		notice: noticeFor(url),
 		signedOut: url.searchParams.has('signedOut'),
 		mailboxAvailable: Boolean(config().MAIL_FAKE_API),
-		passwordForm: await superValidate({ providerId: 'credentials' as const, email, redirectTo }, zod4(passwordSignInSchema), {
-			errors: false,
-			id: 'password'
-		}),
-		linkForm: await superValidate({ providerId: 'nodemailer' as const, email, redirectTo }, zod4(linkSignInSchema), {
-			errors: false,
-			id: 'link'
-		})
+		passwordForm: await superValidate(
+			{ providerId: 'credentials' as const, email, redirectTo },
+			zod4(passwordSignInSchema),
+			{
+				errors: false,
+				id: 'password'
+			}
+		),
+		linkForm: await superValidate(
+			{ providerId: 'nodemailer' as const, email, redirectTo },
+			zod4(linkSignInSchema),
+			{
+				errors: false,
+				id: 'link'
+			}
+		)
 	};
 };
 
@@ -46,7 +54,9 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 // which reads the same body again: hence the clone.
 export const actions: Actions = {
 	password: async (event) => {
-		const passwordForm = await superValidate(event.request.clone(), zod4(passwordSignInSchema), { id: 'password' });
+		const passwordForm = await superValidate(event.request.clone(), zod4(passwordSignInSchema), {
+			id: 'password'
+		});
 		if (!passwordForm.valid) return fail(400, { passwordForm });
 		await signIn(event);
 	},

@@ -16,7 +16,11 @@ export function requireUser(event: Event): SessionUser {
 export function requireRole(event: Event, ...roles: Role[]): SessionUser {
 	const user = requireUser(event);
 	if (!roles.includes(user.role)) {
-		httpError(403, 'Your role does not give access to this.', { path: event.url.pathname, userId: user.id, role: user.role });
+		httpError(403, 'Your role does not give access to this.', {
+			path: event.url.pathname,
+			userId: user.id,
+			role: user.role
+		});
 	}
 	return user;
 }
@@ -35,7 +39,8 @@ export const areas: { prefix: string; roles: readonly Role[] }[] = [
 /** Reachable without signing in. Everything else needs a session. */
 const publicPrefixes = ['/signin', '/auth/', '/healthz', '/dev/', '/_app/', '/favicon.svg', '/robots.txt'];
 
-export const isPublicPath = (path: string) => path === '/' || publicPrefixes.some((p) => path === p || path.startsWith(p));
+export const isPublicPath = (path: string) =>
+	path === '/' || publicPrefixes.some((p) => path === p || path.startsWith(p));
 
 const within = (path: string, prefix: string) => path === prefix || path.startsWith(`${prefix}/`);
 

@@ -13,7 +13,12 @@ import { findUserByEmail, findUserById } from '../db/users';
 import { sendMail } from '../mail';
 import { signInLinkMail } from '../mail/templates';
 import { verifyPassword } from './passwords';
-import { clearPasswordFailures, countPasswordFailure, countSignInLink, passwordSignInBlocked } from './rate-limit';
+import {
+	clearPasswordFailures,
+	countPasswordFailure,
+	countSignInLink,
+	passwordSignInBlocked
+} from './rate-limit';
 import type { SessionUser } from './session-user';
 
 export const SIGN_IN_LINK_MINUTES = 15;
@@ -65,7 +70,10 @@ function authConfig(): SvelteKitAuthConfig {
 		session: { strategy: 'jwt', maxAge: SESSION_HOURS * 3600 },
 		pages: { signIn: '/signin', error: '/signin/error', verifyRequest: '/signin/check-email' },
 		logger: {
-			error: (error) => console.error(JSON.stringify({ level: 'error', source: 'auth', name: error.name, message: error.message })),
+			error: (error) =>
+				console.error(
+					JSON.stringify({ level: 'error', source: 'auth', name: error.name, message: error.message })
+				),
 			warn: (code) => console.warn(JSON.stringify({ level: 'warn', source: 'auth', code }))
 		},
 		providers: [
@@ -73,10 +81,14 @@ function authConfig(): SvelteKitAuthConfig {
 				server: settings.SMTP_URL,
 				from: settings.MAIL_FROM,
 				maxAge: SIGN_IN_LINK_MINUTES * 60,
-				sendVerificationRequest: ({ identifier, url, expires }) => sendMail(signInLinkMail(identifier, url, expires))
+				sendVerificationRequest: ({ identifier, url, expires }) =>
+					sendMail(signInLinkMail(identifier, url, expires))
 			}),
 			Credentials({
-				credentials: { email: { label: 'E-mail', type: 'email' }, password: { label: 'Password', type: 'password' } },
+				credentials: {
+					email: { label: 'E-mail', type: 'email' },
+					password: { label: 'Password', type: 'password' }
+				},
 				authorize: authorizePassword
 			})
 		],
@@ -119,7 +131,17 @@ function authConfig(): SvelteKitAuthConfig {
 
 let cachedConfig: SvelteKitAuthConfig | undefined;
 
-export const { handle: authHandle, signIn, signOut } = SvelteKitAuth(async () => {
+export async function closeAuthPool(): Promise<void> {
+	await pool?.end();
+	pool = undefined;
+	cachedConfig = undefined;
+}
+
+export const {
+	handle: authHandle,
+	signIn,
+	signOut
+} = SvelteKitAuth(async () => {
 	cachedConfig ??= authConfig();
 	return cachedConfig;
 });

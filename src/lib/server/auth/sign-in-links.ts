@@ -14,6 +14,10 @@ export async function createSignInLink(
 	const expires = new Date(Date.now() + input.validForHours * 3600_000);
 	const hashed = createHash('sha256').update(`${token}${config().AUTH_SECRET}`).digest('hex');
 	await db('verification_token').insert({ identifier: input.email, token: hashed, expires });
-	const params = new URLSearchParams({ callbackUrl: `${input.origin}${input.callbackPath}`, token, email: input.email });
+	const params = new URLSearchParams({
+		callbackUrl: `${input.origin}${input.callbackPath}`,
+		token,
+		email: input.email
+	});
 	return { url: `${input.origin}/auth/callback/nodemailer?${params}`, expires };
 }

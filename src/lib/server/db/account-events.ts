@@ -4,7 +4,8 @@ import type { AccountEventRow } from './tables';
 export interface AccountEvent {
 	actorUserId: number | null;
 	subjectUserId: number | null;
-	action: 'user.invited' | 'user.role_changed' | 'user.deactivated' | 'user.reactivated' | 'user.password_set';
+	action:
+		'user.invited' | 'user.role_changed' | 'user.deactivated' | 'user.reactivated' | 'user.password_set';
 	detail?: Record<string, unknown>;
 	ip?: string | null;
 }

@@ -2,7 +2,10 @@
 import type { OutgoingMail } from './index';
 
 const escape = (value: string) =>
-	value.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+	value.replace(
+		/[&<>"']/g,
+		(c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!
+	);
 
 function layout(paragraphs: string[], action: { label: string; url: string }): string {
 	const body = paragraphs.map((p) => `<p style="margin:0 0 16px">${escape(p)}</p>`).join('');
@@ -14,7 +17,8 @@ function layout(paragraphs: string[], action: { label: string; url: string }): s
 </div></body></html>`;
 }
 
-const minutesUntil = (expires: Date, now: Date) => Math.max(1, Math.round((expires.getTime() - now.getTime()) / 60_000));
+const minutesUntil = (expires: Date, now: Date) =>
+	Math.max(1, Math.round((expires.getTime() - now.getTime()) / 60_000));
 
 export function signInLinkMail(to: string, url: string, expires: Date, now = new Date()): OutgoingMail {
 	const minutes = minutesUntil(expires, now);

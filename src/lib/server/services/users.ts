@@ -5,7 +5,12 @@ import { hashPassword, passwordProblems, verifyPassword } from '../auth/password
 import type { SessionUser } from '../auth/session-user';
 import { recordAccountEvent } from '../db/account-events';
 import { db } from '../db/knex';
-import { buyingOrganisation, findOrganisation, findOrganisationByName, insertOrganisation } from '../db/organisations';
+import {
+	buyingOrganisation,
+	findOrganisation,
+	findOrganisationByName,
+	insertOrganisation
+} from '../db/organisations';
 import {
 	findUserByEmail,
 	findUserById,
@@ -39,7 +44,11 @@ export interface InvitationResult {
 	mailed: boolean;
 }
 
-async function mailInvitation(actor: SessionUser, user: UserWithOrganisation, context: RequestContext): Promise<boolean> {
+async function mailInvitation(
+	actor: SessionUser,
+	user: UserWithOrganisation,
+	context: RequestContext
+): Promise<boolean> {
 	const link = await createSignInLink(db(), {
 		email: user.email,
 		origin: context.origin,
@@ -58,13 +67,19 @@ async function mailInvitation(actor: SessionUser, user: UserWithOrganisation, co
 		);
 		return true;
 	} catch (error) {
-		console.error(JSON.stringify({ level: 'error', source: 'mail', message: (error as Error).message, to: user.email }));
+		console.error(
+			JSON.stringify({ level: 'error', source: 'mail', message: (error as Error).message, to: user.email })
+		);
 		return false;
 	}
 }
 
 /** Creates the account (and a new supplier organisation when asked) in one transaction, then mails the link. */
-export async function inviteUser(actor: SessionUser, invitation: Invitation, context: RequestContext): Promise<InvitationResult> {
+export async function inviteUser(
+	actor: SessionUser,
+	invitation: Invitation,
+	context: RequestContext
+): Promise<InvitationResult> {
 	const email = invitation.email.trim().toLowerCase();
 	const created = await db().transaction(async (trx) => {
 		if (await findUserByEmail(trx, email)) {
@@ -84,7 +99,11 @@ export async function inviteUser(actor: SessionUser, invitation: Invitation, con
 			} else {
 				const organisation = await findOrganisation(trx, invitation.supplierOrganisationId);
 				if (!organisation || organisation.kind !== 'supplier') {
-					throw new RuleViolation('Choose a supplier organisation from the list.', 'supplierOrganisationId', 422);
+					throw new RuleViolation(
+						'Choose a supplier organisation from the list.',
+						'supplierOrganisationId',
+						422
+					);
 				}
 				organisationId = organisation.id;
 			}
@@ -111,23 +130,37 @@ export async function inviteUser(actor: SessionUser, invitation: Invitation, con
 	return { user: created, mailed: await mailInvitation(actor, created, context) };
 }
 
-export async function resendInvitation(actor: SessionUser, userId: number, context: RequestContext): Promise<boolean> {
+export async function resendInvitation(
+	actor: SessionUser,
+	userId: number,
+	context: RequestContext
+): Promise<boolean> {
 	const user = await findUserById(db(), userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
-	if (user.deactivated_at) throw new RuleViolation(`${user.email} is deactivated: reactivate the account first.`);
+	if (user.deactivated_at)
+		throw new RuleViolation(`${user.email} is deactivated: reactivate the account first.`);
 	return mailInvitation(actor, user, context);
 }
 
 async function targetOf(actor: SessionUser, userId: number): Promise<UserWithOrganisation> {
 	if (userId === actor.id) {
-		throw new RuleViolation('You cannot change your own account here: ask another administrator.', undefined, 403);
+		throw new RuleViolation(
+			'You cannot change your own account here: ask another administrator.',
+			undefined,
+			403
+		);
 	}
 	const user = await findUserById(db(), userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
 	return user;
 }
 
-export async function changeRole(actor: SessionUser, userId: number, role: Role, context: RequestContext): Promise<void> {
+export async function changeRole(
+	actor: SessionUser,
+	userId: number,
+	role: Role,
+	context: RequestContext
+): Promise<void> {
 	const user = await targetOf(actor, userId);
 	if (user.role === role) return;
 	// A supplier user belongs to a supplier firm, staff to the buying organisation: a role cannot cross that line.
@@ -151,7 +184,12 @@ export async function changeRole(actor: SessionUser, userId: number, role: Role,
 	});
 }
 
-export async function setActive(actor: SessionUser, userId: number, active: boolean, context: RequestContext): Promise<void> {
+export async function setActive(
+	actor: SessionUser,
+	userId: number,
+	active: boolean,
+	context: RequestContext
+): Promise<void> {
 	const user = await targetOf(actor, userId);
 	if (Boolean(user.deactivated_at) === !active) return;
 	await db().transaction(async (trx) => {
@@ -172,7 +210,11 @@ export async function setOwnPassword(
 	context: RequestContext
 ): Promise<void> {
 	if (!isStaff(actor.role)) {
-		throw new RuleViolation('Supplier users sign in by e-mail link; passwords are for staff accounts.', undefined, 403);
+		throw new RuleViolation(
+			'Supplier users sign in by e-mail link; passwords are for staff accounts.',
+			undefined,
+			403
+		);
 	}
 	const user = await findUserById(db(), actor.id);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
@@ -184,6 +226,11 @@ export async function setOwnPassword(
 	const hash = await hashPassword(input.newPassword);
 	await db().transaction(async (trx) => {
 		await setPasswordHash(trx, user.id, hash);
-		await recordAccountEvent(trx, { actorUserId: actor.id, subjectUserId: user.id, action: 'user.password_set', ip: context.ip });
+		await recordAccountEvent(trx, {
+			actorUserId: actor.id,
+			subjectUserId: user.id,
+			action: 'user.password_set',
+			ip: context.ip
+		});
 	});
 }

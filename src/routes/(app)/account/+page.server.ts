@@ -32,7 +32,11 @@ export const actions: Actions = {
 			await setOwnPassword(user, form.data, requestContext(event));
 		} catch (error) {
 			if (error instanceof RuleViolation) {
-				return setError(form, (error.field ?? 'newPassword') as 'currentPassword' | 'newPassword', error.message);
+				return setError(
+					form,
+					(error.field ?? 'newPassword') as 'currentPassword' | 'newPassword',
+					error.message
+				);
 			}
 			throw error;
 		}

@@ -7,8 +7,11 @@ import type { PageServerLoad } from './$types';
 // Public on purpose, and only when the app runs against the local SMTP fake: a person trying the demo
 // must read sign-in links before signing in. Against a real relay MAIL_FAKE_API is unset and this is a 404.
 export const load: PageServerLoad = async ({ url }) => {
-	if (!config().MAIL_FAKE_API) error(404, { message: 'There is no page at this address.', errorId: newErrorId() });
+	if (!config().MAIL_FAKE_API)
+		error(404, { message: 'There is no page at this address.', errorId: newErrorId() });
 	const to = url.searchParams.get('to')?.toLowerCase() ?? '';
-	const messages = (await listMailbox()).filter((m) => !to || m.to.some((a) => a.toLowerCase() === to)).slice(0, 200);
+	const messages = (await listMailbox())
+		.filter((m) => !to || m.to.some((a) => a.toLowerCase() === to))
+		.slice(0, 200);
 	return { title: 'Local mailbox', to, messages };
 };

@@ -37,7 +37,8 @@ async function rowAction(userId: number, work: () => Promise<string>) {
 	try {
 		return { row: { userId, ok: true, text: await work() } satisfies RowOutcome };
 	} catch (error) {
-		if (error instanceof RuleViolation) return fail(error.status, { row: { userId, ok: false, text: error.message } satisfies RowOutcome });
+		if (error instanceof RuleViolation)
+			return fail(error.status, { row: { userId, ok: false, text: error.message } satisfies RowOutcome });
 		throw error;
 	}
 }
@@ -57,7 +58,8 @@ export const actions: Actions = {
 			);
 		} catch (error) {
 			if (error instanceof RuleViolation) {
-				const field = (error.field ?? 'email') as 'email' | 'name' | 'role' | 'supplierOrganisationId' | 'newSupplierName';
+				const field = (error.field ?? 'email') as
+					'email' | 'name' | 'role' | 'supplierOrganisationId' | 'newSupplierName';
 				return setError(form, field, error.message, { status: error.status });
 			}
 			throw error;
@@ -66,7 +68,8 @@ export const actions: Actions = {
 	setRole: async (event) => {
 		const actor = requireRole(event, 'admin');
 		const form = await superValidate(event.request, zod4(setRoleSchema));
-		if (!form.valid) return fail(400, { row: { userId: form.data.userId, ok: false, text: 'Choose a role.' } });
+		if (!form.valid)
+			return fail(400, { row: { userId: form.data.userId, ok: false, text: 'Choose a role.' } });
 		return rowAction(form.data.userId, async () => {
 			await changeRole(actor, form.data.userId, form.data.role, requestContext(event));
 			return 'Role saved.';
@@ -75,16 +78,22 @@ export const actions: Actions = {
 	setActive: async (event) => {
 		const actor = requireRole(event, 'admin');
 		const form = await superValidate(event.request, zod4(setActiveSchema));
-		if (!form.valid) return fail(400, { row: { userId: form.data.userId, ok: false, text: 'That request was not complete.' } });
+		if (!form.valid)
+			return fail(400, {
+				row: { userId: form.data.userId, ok: false, text: 'That request was not complete.' }
+			});
 		return rowAction(form.data.userId, async () => {
 			await setActive(actor, form.data.userId, form.data.active, requestContext(event));
-			return form.data.active ? 'Account reactivated.' : 'Account deactivated; its sessions end at the next request.';
+			return form.data.active
+				? 'Account reactivated.'
+				: 'Account deactivated; its sessions end at the next request.';
 		});
 	},
 	resend: async (event) => {
 		const actor = requireRole(event, 'admin');
 		const form = await superValidate(event.request, zod4(userIdSchema));
-		if (!form.valid) return fail(400, { row: { userId: 0, ok: false, text: 'That request was not complete.' } });
+		if (!form.valid)
+			return fail(400, { row: { userId: 0, ok: false, text: 'That request was not complete.' } });
 		return rowAction(form.data.userId, async () =>
 			(await resendInvitation(actor, form.data.userId, requestContext(event)))
 				? 'Invitation sent again.'

@@ -1,0 +1,38 @@
+// Reads the SMTP fake's HTTP API.
+import { mailApi } from './env';
+
+export interface FakeMail {
+	id: string;
+	receivedAt: string;
+	from: string;
+	to: string[];
+	subject: string;
+	text: string;
+	html: string | null;
+	attachments: { filename: string | null }[];
+}
+
+export async function mailTo(address: string): Promise<FakeMail[]> {
+	const response = await fetch(`${mailApi()}/messages?to=${encodeURIComponent(address)}`);
+	return (await response.json()) as FakeMail[];
+}
+
+/** Waits for the newest message to an address (received after a moment, when given). */
+export async function latestMailTo(
+	address: string,
+	options: { after?: Date; timeoutMs?: number } = {}
+): Promise<FakeMail> {
+	const deadline = Date.now() + (options.timeoutMs ?? 10_000);
+	while (Date.now() < deadline) {
+		const [newest] = await mailTo(address);
+		if (newest && (!options.after || new Date(newest.receivedAt) >= options.after)) return newest;
+		await new Promise((r) => setTimeout(r, 150));
+	}
+	throw new Error(`no mail reached ${address} in time`);
+}
+
+export function linkIn(text: string): string {
+	const match = /https?:\/\/\S+/.exec(text);
+	if (!match) throw new Error(`no link in the message:\n${text}`);
+	return match[0];
+}
