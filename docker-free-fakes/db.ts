@@ -19,9 +19,10 @@ export async function migrateDatabase(url: string): Promise<string[]> {
 	});
 }
 
-export async function rollbackDatabase(url: string): Promise<string[]> {
+/** Undoes the last batch, or every migration with `all`. */
+export async function rollbackDatabase(url: string, all = false): Promise<string[]> {
 	return withDatabase(url, async (db) => {
-		const [, undone] = (await db.migrate.rollback()) as [number, string[]];
+		const [, undone] = (await db.migrate.rollback(undefined, all)) as [number, string[]];
 		return undone;
 	});
 }
@@ -49,7 +50,7 @@ if (isMain) {
 		await seedDatabase(url!);
 		console.log('demo scenario loaded');
 	} else {
-		console.error('usage: db.ts migrate | rollback | seed');
+		console.error('usage: db.ts migrate | rollback | rollback-all | seed');
 		process.exit(2);
 	}
 }

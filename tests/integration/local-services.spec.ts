@@ -43,7 +43,7 @@ describe('the SMTP fake', () => {
 		expect(mail).toMatchObject({
 			to: [to],
 			subject: 'Hello',
-			text: 'Plain words\n',
+			text: 'Plain words',
 			html: '<p>Plain words</p>'
 		});
 		const one = await fetch(`${process.env.MAIL_FAKE_API}/messages/${mail.id}`);

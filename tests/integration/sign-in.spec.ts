@@ -59,12 +59,12 @@ describe('password sign-in', () => {
 
 	it('shows the wait after too many failed attempts, and refuses even the right password meanwhile', async () => {
 		const buyer = await aUser('buyer');
-		for (let attempt = 1; attempt <= 4; attempt++) {
+		for (let attempt = 1; attempt <= 5; attempt++) {
 			expect((await failedSignInPage(buyer.email, `wrong ${attempt}`)).html).toContain(ONE_MESSAGE);
 		}
-		const fifth = await failedSignInPage(buyer.email, 'wrong 5');
-		expect(new URL(fifth.url).searchParams.get('code')).toMatch(/^wait-\d+$/);
-		expect(fifth.html).toMatch(
+		const sixth = await failedSignInPage(buyer.email, 'wrong 6');
+		expect(new URL(sixth.url).searchParams.get('code')).toMatch(/^wait-\d+$/);
+		expect(sixth.html).toMatch(
 			/Too many sign-in attempts\. For your account’s safety, please wait (1[0-5]|[1-9]) minutes? and try again\./
 		);
 		const rightButBlocked = await failedSignInPage(buyer.email, buyer.password!);

@@ -3,7 +3,7 @@ import { superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { homePath } from '$lib/roles';
 import { linkSignInSchema, passwordSignInSchema } from '$lib/schemas/sign-in';
-import { signIn } from '$lib/server/auth';
+import { signInFromForm } from '$lib/server/auth';
 import { describeWait } from '$lib/server/auth/rate-limit';
 import { config } from '$lib/server/config';
 import type { Actions, PageServerLoad } from './$types';
@@ -58,11 +58,11 @@ export const actions: Actions = {
 			id: 'password'
 		});
 		if (!passwordForm.valid) return fail(400, { passwordForm });
-		await signIn(event);
+		await signInFromForm(event);
 	},
 	link: async (event) => {
 		const linkForm = await superValidate(event.request.clone(), zod4(linkSignInSchema), { id: 'link' });
 		if (!linkForm.valid) return fail(400, { linkForm });
-		await signIn(event);
+		await signInFromForm(event);
 	}
 };

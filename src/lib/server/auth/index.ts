@@ -1,7 +1,8 @@
 // Sign-in for Tenderloom, the one module that knows Auth.js (so it can be swapped): e-mail links for
 // everyone, passwords for staff, JWT sessions whose user is re-read from the database on every request.
 import PostgresAdapter from '@auth/pg-adapter';
-import { CredentialsSignin, SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
+import { AuthError, CredentialsSignin, SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
+import { redirect, type RequestEvent } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import Nodemailer from '@auth/sveltekit/providers/nodemailer';
 import pg from 'pg';
@@ -137,11 +138,24 @@ export async function closeAuthPool(): Promise<void> {
 	cachedConfig = undefined;
 }
 
-export const {
-	handle: authHandle,
-	signIn,
-	signOut
-} = SvelteKitAuth(async () => {
+const auth = SvelteKitAuth(async () => {
 	cachedConfig ??= authConfig();
 	return cachedConfig;
 });
+
+export const { handle: authHandle, signOut } = auth;
+
+/**
+ * Hands a sign-in form's body to Auth.js. Called from a form action, Auth.js throws its errors instead
+ * of redirecting; send the person back to the sign-in page with the codes its own endpoint would use.
+ */
+export async function signInFromForm(event: RequestEvent): Promise<void> {
+	try {
+		await auth.signIn(event);
+	} catch (error) {
+		if (!(error instanceof AuthError)) throw error;
+		const params = new URLSearchParams({ error: error.type ?? 'Default' });
+		if (error instanceof CredentialsSignin) params.set('code', error.code);
+		redirect(303, `/signin?${params}`);
+	}
+}
