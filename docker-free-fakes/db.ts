@@ -44,8 +44,11 @@ if (isMain) {
 	}
 	if (command === 'migrate')
 		console.log('applied:', (await migrateDatabase(url!)).join(', ') || 'nothing new');
-	else if (command === 'rollback')
-		console.log('rolled back:', (await rollbackDatabase(url!)).join(', ') || 'nothing');
+	else if (command === 'rollback' || command === 'rollback-all')
+		console.log(
+			'rolled back:',
+			(await rollbackDatabase(url!, command === 'rollback-all')).join(', ') || 'nothing'
+		);
 	else if (command === 'seed') {
 		await seedDatabase(url!);
 		console.log('demo scenario loaded');

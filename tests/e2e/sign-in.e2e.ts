@@ -98,8 +98,8 @@ describe('signing in with a browser', () => {
 		await expectAccessible('users page');
 
 		const email = `invited-${Date.now()}@example.test`;
-		await page.getByLabel('E-mail address').fill(email);
-		await page.getByLabel('Name').fill('Invited In Browser');
+		await page.getByLabel('E-mail address', { exact: true }).fill(email);
+		await page.getByLabel('Name', { exact: true }).fill('Invited In Browser');
 		await page.getByLabel('Role', { exact: true }).selectOption('supplier');
 		await page.getByLabel('Or the name of a new supplier').fill(`Browser Supplier ${Date.now()}`);
 		await page.getByRole('button', { name: 'Send invitation' }).click();

@@ -37,12 +37,20 @@ export const areas: { prefix: string; roles: readonly Role[] }[] = [
 ];
 
 /** Reachable without signing in. Everything else needs a session. */
-const publicPrefixes = ['/signin', '/auth/', '/healthz', '/dev/', '/_app/', '/favicon.svg', '/robots.txt'];
-
-export const isPublicPath = (path: string) =>
-	path === '/' || publicPrefixes.some((p) => path === p || path.startsWith(p));
+const publicAreas = [
+	'/signin',
+	'/signout',
+	'/auth',
+	'/healthz',
+	'/dev',
+	'/_app',
+	'/favicon.svg',
+	'/robots.txt'
+];
 
 const within = (path: string, prefix: string) => path === prefix || path.startsWith(`${prefix}/`);
+
+export const isPublicPath = (path: string) => path === '/' || publicAreas.some((area) => within(path, area));
 
 export function rolesFor(path: string): readonly Role[] | null {
 	return areas.find((a) => within(path, a.prefix))?.roles ?? null;
