@@ -1,3 +1,5 @@
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { accessibilityViolations, openBrowser, type OpenBrowser } from '../support/browser';
 import { appUrl } from '../support/env';
@@ -102,7 +104,7 @@ describe('signing in with a browser', () => {
 		await page.getByLabel('Name', { exact: true }).fill('Invited In Browser');
 		await page.getByLabel('Role', { exact: true }).selectOption('supplier');
 		await page.getByLabel('Or the name of a new supplier').fill(`Browser Supplier ${Date.now()}`);
-		await page.getByRole('button', { name: 'Send invitation' }).click();
+		await page.getByRole('button', { name: 'Send invitation', exact: true }).click();
 		await expect.poll(() => page.getByRole('status').first().textContent()).toContain(`Invited ${email}`);
 		await expect.poll(() => page.locator(`[data-email="${email}"]`).count()).toBe(1);
 		await expectAccessible('users page after an invitation');
@@ -113,7 +115,11 @@ describe('signing in with a browser', () => {
 		const response = await page.goto(`${appUrl()}/no-such-page`);
 		expect(response?.status()).toBe(404);
 		expect(await page.getByRole('heading', { level: 1 }).textContent()).toBe('Page not found');
-		expect(await page.locator('code').textContent()).toMatch(/^[0-9a-f]{8}$/);
+		const errorId = await page.locator('code').textContent();
+		expect(errorId).toMatch(/^[0-9a-f]{8}$/);
 		await expectAccessible('404 page');
+		// the server logged the same id (the stack runner keeps the web server's log in the run's folder)
+		const log = readFileSync(join(process.env.TEST_DATA_DIR!, 'logs', 'web.log'), 'utf8');
+		expect(log).toContain(`"errorId":"${errorId}","status":404,"path":"/no-such-page"`);
 	});
 });

@@ -5,7 +5,7 @@ export const inviteUserSchema = z
 	.object({
 		email: z.email('Enter an e-mail address such as name@example.org.').max(254),
 		name: z.string().trim().min(1, 'Enter the person’s name.').max(120, 'Use at most 120 characters.'),
-		role: z.enum(ROLES, 'Choose a role.'),
+		role: z.enum(ROLES, 'Choose a role.').default('buyer'),
 		/** For a supplier user: an existing supplier organisation, or the name of a new one. */
 		supplierOrganisationId: z.string().default(''),
 		newSupplierName: z.string().trim().max(160, 'Use at most 160 characters.').default('')
