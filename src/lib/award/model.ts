@@ -1,0 +1,441 @@
+// The award model: the problem written as a (mixed-integer) linear program in arrays, with a record of
+// what every column and row means so results and explanations can speak in the trade's words.
+//
+// Notation: d[i] demand of item i; x[b,t] quantity on tier t of bid b (tier 0 is the plain unit price,
+// tier t >= 1 a price break, all-units); z[b,t] in {0,1} "tier t of bid b is used"; w[k] in {0,1}
+// "bundle k is taken"; y[s,i] in {0,1} "s wins part of i"; v[s,G] in {0,1} "s wins part of group G".
+// q(s,i) = Σ_t x[b(s,i),t] + Σ_k q[k,i]·w[k] is the quantity of i awarded to s.
+import type { AwardProblem, AwardRule, Scope, Who } from './problem';
+
+export type ColumnMeaning =
+	| { kind: 'tier'; bid: number; tier: number; unitPrice: number }
+	| { kind: 'tier_used'; bid: number; tier: number }
+	| { kind: 'bundle'; bundle: number }
+	| { kind: 'wins'; supplier: string; item: string }
+	| { kind: 'wins_group'; supplier: string; group: string }
+	| { kind: 'slack'; row: number };
+
+export type RowMeaning =
+	| { kind: 'cover'; item: string }
+	| { kind: 'capacity'; supplier: string }
+	| { kind: 'rule'; rule: number; items: string[]; suppliers: string[]; unit: 'quantity' | 'spend' | 'count' }
+	| { kind: 'structure' };
+
+export interface AwardModel {
+	numCols: number;
+	numRows: number;
+	colCost: Float64Array;
+	colLower: Float64Array;
+	colUpper: Float64Array;
+	integrality: Int32Array;
+	rowLower: Float64Array;
+	rowUpper: Float64Array;
+	/** Compressed sparse columns. */
+	starts: Int32Array;
+	indices: Int32Array;
+	values: Float64Array;
+	columns: ColumnMeaning[];
+	rows: RowMeaning[];
+	integers: number;
+	/** Items left out of the cover rule, with the reason. */
+	uncovered: { item: string; reason: string }[];
+	/** Whether every row of a rule, cover and capacity has a penalised slack (for conflicts). */
+	elastic: boolean;
+}
+
+export interface BuildOptions {
+	/** Feasibility relaxation: each rule, cover and capacity row gets a slack; the objective is their sum. */
+	elastic?: boolean;
+	/** Leave these rules out (by index in problem.rules), for rule costs. */
+	withoutRules?: ReadonlySet<number>;
+}
+
+type Terms = Map<number, number>;
+
+function addTerm(terms: Terms, column: number, coefficient: number): void {
+	if (coefficient === 0) return;
+	terms.set(column, (terms.get(column) ?? 0) + coefficient);
+}
+
+function addAll(into: Terms, from: Terms | undefined, factor = 1): void {
+	if (!from) return;
+	for (const [column, coefficient] of from) addTerm(into, column, coefficient * factor);
+}
+
+class Builder {
+	readonly cost: number[] = [];
+	readonly lower: number[] = [];
+	readonly upper: number[] = [];
+	readonly integer: number[] = [];
+	readonly columns: ColumnMeaning[] = [];
+	readonly rowTerms: Terms[] = [];
+	readonly rowLower: number[] = [];
+	readonly rowUpper: number[] = [];
+	readonly rows: RowMeaning[] = [];
+
+	column(meaning: ColumnMeaning, cost: number, lower: number, upper: number, integer = false): number {
+		this.columns.push(meaning);
+		this.cost.push(cost);
+		this.lower.push(lower);
+		this.upper.push(upper);
+		this.integer.push(integer ? 1 : 0);
+		return this.columns.length - 1;
+	}
+
+	row(meaning: RowMeaning, terms: Terms, lower: number, upper: number): number {
+		this.rows.push(meaning);
+		this.rowTerms.push(terms);
+		this.rowLower.push(lower);
+		this.rowUpper.push(upper);
+		return this.rows.length - 1;
+	}
+
+	finish(uncovered: AwardModel['uncovered'], elastic: boolean): AwardModel {
+		const numCols = this.columns.length;
+		const numRows = this.rows.length;
+		const counts = new Int32Array(numCols + 1);
+		for (const terms of this.rowTerms) for (const column of terms.keys()) counts[column + 1]! += 1;
+		for (let j = 0; j < numCols; j++) counts[j + 1]! += counts[j]!;
+		const starts = Int32Array.from(counts);
+		const next = Int32Array.from(counts.subarray(0, numCols));
+		const indices = new Int32Array(starts[numCols]!);
+		const values = new Float64Array(starts[numCols]!);
+		this.rowTerms.forEach((terms, row) => {
+			for (const [column, coefficient] of terms) {
+				const at = next[column]!++;
+				indices[at] = row;
+				values[at] = coefficient;
+			}
+		});
+		return {
+			numCols,
+			numRows,
+			colCost: Float64Array.from(this.cost),
+			colLower: Float64Array.from(this.lower),
+			colUpper: Float64Array.from(this.upper),
+			integrality: Int32Array.from(this.integer),
+			rowLower: Float64Array.from(this.rowLower),
+			rowUpper: Float64Array.from(this.rowUpper),
+			starts,
+			indices,
+			values,
+			columns: this.columns,
+			rows: this.rows,
+			integers: this.integer.reduce((a, b) => a + b, 0),
+			uncovered,
+			elastic
+		};
+	}
+}
+
+/** The price of each tier of a bid: tier 0 from zero, then each break from its quantity (all-units). */
+export function tiersOf(bid: AwardProblem['bids'][number]): { from: number; unitPrice: number }[] {
+	return [{ from: 0, unitPrice: bid.unitPrice }, ...(bid.priceBreaks ?? []).map((b) => ({ from: b.fromQuantity, unitPrice: b.unitPrice }))];
+}
+
+/** The unit price a bid charges for a quantity, by its all-units price breaks. */
+export function unitPriceAt(bid: AwardProblem['bids'][number], quantity: number): number {
+	let price = bid.unitPrice;
+	for (const tier of tiersOf(bid)) if (quantity >= tier.from - 1e-9) price = tier.unitPrice;
+	return price;
+}
+
+/** Weights that split a bundle's price over its items: quantity times a reference price of the item. */
+export function bundleShares(problem: AwardProblem, bundle: AwardProblem['bundles'][number]): Map<string, number> {
+	const reference = new Map<string, number>();
+	for (const item of problem.items) if (item.baselineUnitPrice !== undefined) reference.set(item.ref, item.baselineUnitPrice);
+	const weights = bundle.items.map((line) => {
+		const prices = problem.bids.filter((b) => b.item === line.item).map((b) => b.unitPrice);
+		const fallback = prices.length ? prices.reduce((a, b) => a + b, 0) / prices.length : 1;
+		return line.quantity * (reference.get(line.item) ?? (fallback || 1));
+	});
+	const total = weights.reduce((a, b) => a + b, 0);
+	return new Map(bundle.items.map((line, j) => [line.item, total > 0 ? weights[j]! / total : 1 / bundle.items.length]));
+}
+
+export function buildModel(problem: AwardProblem, options: BuildOptions = {}): AwardModel {
+	const elastic = options.elastic ?? false;
+	const skip = options.withoutRules ?? new Set<number>();
+	const rules = problem.rules.map((rule, index) => ({ rule, index })).filter(({ index }) => !skip.has(index));
+	const m = new Builder();
+	const demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
+	const capacity = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
+
+	// q(s,i) and spend(s,i) as linear terms, keyed "s\u0000i".
+	const key = (s: string, i: string) => `${s}\u0000${i}`;
+	const quantityTerms = new Map<string, Terms>();
+	const spendTerms = new Map<string, Terms>();
+	const upperOf = new Map<string, number>();
+	const termsFor = (store: Map<string, Terms>, s: string, i: string) => {
+		let found = store.get(key(s, i));
+		if (!found) store.set(key(s, i), (found = new Map()));
+		return found;
+	};
+
+	const tierUsedRows: Terms[] = [];
+	problem.bids.forEach((bid, b) => {
+		const d = demand.get(bid.item)!;
+		const ceiling = Math.min(bid.maxQuantity ?? Infinity, d, capacity.get(bid.supplier) ?? Infinity);
+		const tiers = tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9);
+		const quantity = termsFor(quantityTerms, bid.supplier, bid.item);
+		const spend = termsFor(spendTerms, bid.supplier, bid.item);
+		upperOf.set(key(bid.supplier, bid.item), (upperOf.get(key(bid.supplier, bid.item)) ?? 0) + ceiling);
+		if (tiers.length === 1) {
+			const x = m.column({ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice }, bid.unitPrice, 0, ceiling);
+			addTerm(quantity, x, 1);
+			addTerm(spend, x, bid.unitPrice);
+			return;
+		}
+		const oneTier: Terms = new Map();
+		tiers.forEach((tier, t) => {
+			const top = Math.min(tiers[t + 1]?.from ?? Infinity, ceiling);
+			const x = m.column({ kind: 'tier', bid: b, tier: t, unitPrice: tier.unitPrice }, tier.unitPrice, 0, top);
+			const z = m.column({ kind: 'tier_used', bid: b, tier: t }, 0, 0, 1, true);
+			// from[t]·z[b,t] <= x[b,t] <= top[t]·z[b,t]: a tier's price applies only to quantities in its range
+			m.row({ kind: 'structure' }, new Map([[x, 1], [z, -tier.from]]), 0, Infinity);
+			m.row({ kind: 'structure' }, new Map([[x, 1], [z, -top]]), -Infinity, 0);
+			addTerm(oneTier, z, 1);
+			addTerm(quantity, x, 1);
+			addTerm(spend, x, tier.unitPrice);
+		});
+		tierUsedRows.push(oneTier);
+	});
+	// Σ_t z[b,t] <= 1: one price tier per bid
+	for (const terms of tierUsedRows) m.row({ kind: 'structure' }, terms, -Infinity, 1);
+
+	problem.bundles.forEach((bundle, k) => {
+		const w = m.column({ kind: 'bundle', bundle: k }, bundle.price, 0, 1, true);
+		const shares = bundleShares(problem, bundle);
+		for (const line of bundle.items) {
+			addTerm(termsFor(quantityTerms, bundle.supplier, line.item), w, line.quantity);
+			addTerm(termsFor(spendTerms, bundle.supplier, line.item), w, bundle.price * shares.get(line.item)!);
+			upperOf.set(key(bundle.supplier, line.item), (upperOf.get(key(bundle.supplier, line.item)) ?? 0) + line.quantity);
+		}
+	});
+
+	const offered = new Set<string>();
+	for (const k of quantityTerms.keys()) offered.add(k.split('\u0000')[1]!);
+	const uncovered = problem.items.filter((i) => !offered.has(i.ref)).map((i) => ({ item: i.ref, reason: 'no bid or bundle offers this item' }));
+	const coveredItems = problem.items.filter((i) => offered.has(i.ref));
+	const suppliersOfItem = new Map<string, string[]>();
+	for (const k of quantityTerms.keys()) {
+		const [s, i] = k.split('\u0000') as [string, string];
+		suppliersOfItem.set(i, [...(suppliersOfItem.get(i) ?? []), s]);
+	}
+
+	const slackRows: { row: number; direction: 1 | -1 }[] = [];
+	const elasticRow = (meaning: RowMeaning, terms: Terms, lower: number, upper: number) => {
+		const row = m.row(meaning, terms, lower, upper);
+		if (elastic) {
+			if (lower > -Infinity) slackRows.push({ row, direction: 1 });
+			if (upper < Infinity) slackRows.push({ row, direction: -1 });
+		}
+		return row;
+	};
+
+	// Σ_s q(s,i) = d[i]: cover the demand of every item that has an offer
+	for (const item of coveredItems) {
+		const terms: Terms = new Map();
+		for (const s of suppliersOfItem.get(item.ref)!) addAll(terms, quantityTerms.get(key(s, item.ref)));
+		elasticRow({ kind: 'cover', item: item.ref }, terms, item.quantity, item.quantity);
+	}
+
+	// Σ_i q(s,i) <= K[s]: supplier capacity in units over all items
+	for (const supplier of problem.suppliers) {
+		if (supplier.capacity === undefined) continue;
+		const terms: Terms = new Map();
+		for (const item of coveredItems) addAll(terms, quantityTerms.get(key(supplier.ref, item.ref)));
+		if (terms.size) elasticRow({ kind: 'capacity', supplier: supplier.ref }, terms, -Infinity, supplier.capacity);
+	}
+
+	// Groups a rule ranges over.
+	const lotItems = (lot: string) => coveredItems.filter((i) => i.lot === lot).map((i) => i.ref);
+	const scopeGroups = (scope: Scope): string[][] => {
+		if (scope === 'each_item') return coveredItems.map((i) => [i.ref]);
+		if (scope === 'event') return [coveredItems.map((i) => i.ref)];
+		if ('item' in scope) return offered.has(scope.item) ? [[scope.item]] : [];
+		return [lotItems(scope.lot)];
+	};
+	const groupName = (scope: Scope, items: string[]) =>
+		scope === 'event' ? 'event' : typeof scope === 'object' && 'lot' in scope ? `lot:${scope.lot}` : `item:${items[0]}`;
+	const whoGroups = (who: Who): string[][] => {
+		if (who === 'each_supplier') return problem.suppliers.map((s) => [s.ref]);
+		if ('supplier' in who) return [[who.supplier]];
+		return [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
+	};
+	const isItemScope = (scope: Scope) => scope === 'each_item' || (typeof scope === 'object' && 'item' in scope);
+
+	const sum = (store: Map<string, Terms>, suppliers: string[], items: string[], factor = 1) => {
+		const terms: Terms = new Map();
+		for (const s of suppliers) for (const i of items) addAll(terms, store.get(key(s, i)), factor);
+		return terms;
+	};
+	const everyone = problem.suppliers.map((s) => s.ref);
+
+	// y[s,i] and v[s,G], made once when a rule needs them.
+	const wins = new Map<string, number>();
+	const minimumOf = new Map<string, number>();
+	for (const { rule } of rules) {
+		if (rule.type !== 'min_award') continue;
+		for (const items of scopeGroups(rule.scope))
+			for (const suppliers of whoGroups(rule.who))
+				for (const s of suppliers)
+					for (const i of items) {
+						const d = demand.get(i)!;
+						const amount = Math.min(d, rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * d);
+						minimumOf.set(key(s, i), Math.max(minimumOf.get(key(s, i)) ?? 0, amount));
+					}
+	}
+	const winsColumn = (s: string, i: string): number | null => {
+		const k = key(s, i);
+		if (!quantityTerms.has(k)) return null;
+		const found = wins.get(k);
+		if (found !== undefined) return found;
+		const upper = Math.min(upperOf.get(k)!, demand.get(i)!);
+		const y = m.column({ kind: 'wins', supplier: s, item: i }, 0, 0, 1, true);
+		wins.set(k, y);
+		const q = quantityTerms.get(k)!;
+		// q(s,i) <= U[s,i]·y[s,i]: any award sets y
+		const over: Terms = new Map();
+		addAll(over, q);
+		addTerm(over, y, -upper);
+		m.row({ kind: 'structure' }, over, -Infinity, 0);
+		// q(s,i) >= m[s,i]·y[s,i]: a win is at least one unit (or the whole of a smaller item)
+		const floor = Math.min(1, upper);
+		const under: Terms = new Map();
+		addAll(under, q);
+		addTerm(under, y, -floor);
+		m.row({ kind: 'structure' }, under, 0, Infinity);
+		return y;
+	};
+	const groupWins = new Map<string, number>();
+	const winsGroupColumn = (s: string, group: string, items: string[]): number | null => {
+		const k = key(s, group);
+		const found = groupWins.get(k);
+		if (found !== undefined) return found;
+		const ys = items.map((i) => winsColumn(s, i)).filter((y): y is number => y !== null);
+		if (!ys.length) return null;
+		const v = m.column({ kind: 'wins_group', supplier: s, group }, 0, 0, 1, true);
+		groupWins.set(k, v);
+		// y[s,i] <= v[s,G] for i in G, and v[s,G] <= Σ_i y[s,i]
+		for (const y of ys) m.row({ kind: 'structure' }, new Map([[y, 1], [v, -1]]), -Infinity, 0);
+		const some: Terms = new Map([[v, 1]]);
+		for (const y of ys) addTerm(some, y, -1);
+		m.row({ kind: 'structure' }, some, -Infinity, 0);
+		return v;
+	};
+
+	for (const { rule, index } of rules) {
+		const meaning = (items: string[], suppliers: string[], unit: 'quantity' | 'spend' | 'count'): RowMeaning => ({
+			kind: 'rule',
+			rule: index,
+			items,
+			suppliers,
+			unit
+		});
+		switch (rule.type) {
+			case 'max_share':
+			case 'min_share': {
+				const p = rule.percent / 100;
+				const basis = rule.basis ?? (isItemScope(rule.scope) ? 'quantity' : 'spend');
+				for (const items of scopeGroups(rule.scope)) {
+					if (!items.length) continue;
+					for (const suppliers of whoGroups(rule.who)) {
+						if (!suppliers.length) continue;
+						let terms: Terms;
+						if (basis === 'quantity') {
+							// Σ_{s∈W} Σ_{i∈G} q(s,i) <= p·Σ_{i∈G} d[i]  (>= for a share floor)
+							terms = sum(quantityTerms, suppliers, items);
+							const total = items.reduce((a, i) => a + demand.get(i)!, 0);
+							if (!terms.size && rule.type === 'max_share') continue;
+							if (rule.type === 'max_share') elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, p * total);
+							else elasticRow(meaning(items, suppliers, 'quantity'), terms, p * total, Infinity);
+						} else {
+							// Σ_{s∈W} spend(s,G) - p·Σ_all spend(·,G) <= 0  (>= 0 for a share floor)
+							terms = sum(spendTerms, suppliers, items);
+							addAll(terms, sum(spendTerms, everyone, items), -p);
+							if (rule.type === 'max_share') elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, 0);
+							else elasticRow(meaning(items, suppliers, 'spend'), terms, 0, Infinity);
+						}
+					}
+				}
+				break;
+			}
+			case 'min_award': {
+				// q(s,i) >= m·y[s,i]: if s wins part of i, at least the minimum
+				for (const items of scopeGroups(rule.scope))
+					for (const suppliers of whoGroups(rule.who))
+						for (const s of suppliers)
+							for (const i of items) {
+								const y = winsColumn(s, i);
+								if (y === null) continue;
+								const terms: Terms = new Map();
+								addAll(terms, quantityTerms.get(key(s, i)));
+								addTerm(terms, y, -minimumOf.get(key(s, i))!);
+								elasticRow(meaning([i], [s], 'quantity'), terms, 0, Infinity);
+							}
+				break;
+			}
+			case 'supplier_count': {
+				// L <= Σ_s y[s,i] <= U per item; over a lot or the event with v[s,G]
+				for (const items of scopeGroups(rule.scope)) {
+					if (!items.length) continue;
+					const terms: Terms = new Map();
+					const bidders = [...new Set(items.flatMap((i) => suppliersOfItem.get(i) ?? []))];
+					for (const s of bidders) {
+						const column = items.length === 1 && isItemScope(rule.scope) ? winsColumn(s, items[0]!) : winsGroupColumn(s, groupName(rule.scope, items), items);
+						if (column !== null) addTerm(terms, column, 1);
+					}
+					elasticRow(meaning(items, bidders, 'count'), terms, rule.min ?? -Infinity, rule.max ?? Infinity);
+				}
+				break;
+			}
+			case 'max_spend': {
+				// Σ_{s∈W} spend(s,G) <= amount
+				for (const items of scopeGroups(rule.scope))
+					for (const suppliers of whoGroups(rule.who)) {
+						const terms = sum(spendTerms, suppliers, items);
+						if (terms.size) elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, rule.amount);
+					}
+				break;
+			}
+			case 'exclude': {
+				// Σ_{s∈W} Σ_{i∈G} q(s,i) <= 0
+				for (const items of scopeGroups(rule.scope))
+					for (const suppliers of whoGroups(rule.who)) {
+						const terms = sum(quantityTerms, suppliers, items);
+						if (terms.size) elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, 0);
+					}
+				break;
+			}
+			case 'award_fixed_cost': {
+				// + amount·y[s,i] (per supplier and item) or + amount·v[s,event] (per supplier) in the objective
+				const all = coveredItems.map((i) => i.ref);
+				for (const s of everyone) {
+					if (rule.per === 'supplier_item') {
+						for (const i of all) {
+							const y = winsColumn(s, i);
+							if (y !== null) m.cost[y]! += rule.amount;
+						}
+					} else {
+						const v = winsGroupColumn(s, 'event', all);
+						if (v !== null) m.cost[v]! += rule.amount;
+					}
+				}
+				break;
+			}
+		}
+	}
+
+	if (elastic) {
+		// min Σ slack: the smallest total give-way that makes the rules fit together
+		m.cost.fill(0);
+		for (const { row, direction } of slackRows) {
+			const s = m.column({ kind: 'slack', row }, 1, 0, Infinity);
+			addTerm(m.rowTerms[row]!, s, direction);
+		}
+	}
+	return m.finish(uncovered, elastic);
+}
+
+export type { AwardRule };

@@ -1,0 +1,113 @@
+// One solve of an award model by a HiGHS instance given to it (the runner owns the instances).
+import type { Highs } from 'highs';
+import type { AwardModel } from './model';
+
+export interface SolveOptions {
+	/** Seconds; covers the solve (HiGHS does not count the load). */
+	timeLimit?: number;
+	/** Relative MIP gap at which to stop. */
+	gap?: number;
+	/** Solve the LP relaxation even when the model has integers. */
+	relax?: boolean;
+}
+
+export type SolveStatus = 'optimal' | 'feasible' | 'infeasible' | 'unbounded' | 'no_solution_in_time' | 'solver_error';
+
+export interface SolveOutcome {
+	status: SolveStatus;
+	objective: number | null;
+	/** Best proven lower bound (MIP dual bound, or the objective of an optimal LP). */
+	bound: number | null;
+	gap: number | null;
+	columns: Float64Array | null;
+	/** Row duals (d objective / d row bound) and reduced costs; only for a solved LP. */
+	rowDuals: Float64Array | null;
+	reducedCosts: Float64Array | null;
+	isMip: boolean;
+	seconds: number;
+	message?: string;
+}
+
+export function solveModel(highs: Highs, model: AwardModel, options: SolveOptions = {}): SolveOutcome {
+	const isMip = model.integers > 0 && !options.relax;
+	const began = performance.now();
+	const instance = highs.createModel({
+		numCols: model.numCols,
+		numRows: model.numRows,
+		colCost: model.colCost,
+		colLower: model.colLower,
+		colUpper: model.colUpper,
+		rowLower: model.rowLower,
+		rowUpper: model.rowUpper,
+		matrix: {
+			format: 'csc',
+			numRows: model.numRows,
+			numCols: model.numCols,
+			starts: model.starts,
+			indices: model.indices,
+			values: model.values
+		},
+		...(isMip ? { integrality: model.integrality as unknown as Int32Array } : {})
+	});
+	try {
+		instance.options.set({
+			output_flag: false,
+			time_limit: options.timeLimit ?? 60,
+			mip_rel_gap: options.gap ?? 1e-6,
+			threads: 1
+		});
+		instance.run();
+		const code = instance.getModelStatus();
+		const codes = highs.constants.modelStatus;
+		const seconds = (performance.now() - began) / 1000;
+		const objective = instance.getObjectiveValue();
+		const info = (name: string) => {
+			try {
+				const value = Number(instance.info.get(name));
+				return Number.isFinite(value) ? value : null;
+			} catch {
+				return null;
+			}
+		};
+		const base = { isMip, seconds, rowDuals: null, reducedCosts: null };
+		if (code === codes.empty) {
+			return { ...base, status: 'optimal', objective: 0, bound: 0, gap: 0, columns: new Float64Array(model.numCols) };
+		}
+		if (code === codes.infeasible) return { ...base, status: 'infeasible', objective: null, bound: null, gap: null, columns: null };
+		if (code === codes.unbounded || code === codes.unboundedOrInfeasible) {
+			return { ...base, status: 'unbounded', objective: null, bound: null, gap: null, columns: null };
+		}
+		// A time limit with no incumbent still fills the primal vector with garbage: require a finite objective.
+		const hasSolution = Number.isFinite(objective) && info('primal_solution_status') === 2;
+		if (code === codes.optimal && hasSolution) {
+			const solution = instance.getSolution();
+			const bound = isMip ? (info('mip_dual_bound') ?? objective) : objective;
+			return {
+				...base,
+				status: 'optimal',
+				objective,
+				bound,
+				gap: isMip ? (info('mip_gap') ?? 0) : 0,
+				columns: solution.colValue,
+				rowDuals: isMip ? null : solution.rowDual,
+				reducedCosts: isMip ? null : solution.colDual
+			};
+		}
+		if (hasSolution) {
+			return {
+				...base,
+				status: 'feasible',
+				objective,
+				bound: info('mip_dual_bound'),
+				gap: info('mip_gap'),
+				columns: instance.getSolution().colValue
+			};
+		}
+		if (code === codes.timeLimit || code === codes.iterationLimit || code === codes.interrupt) {
+			return { ...base, status: 'no_solution_in_time', objective: null, bound: info('mip_dual_bound'), gap: null, columns: null };
+		}
+		return { ...base, status: 'solver_error', objective: null, bound: null, gap: null, columns: null, message: `HiGHS model status ${code}` };
+	} finally {
+		instance.dispose();
+	}
+}
