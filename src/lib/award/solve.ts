@@ -53,8 +53,7 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 		instance.options.set({
 			output_flag: false,
 			time_limit: options.timeLimit ?? 60,
-			mip_rel_gap: options.gap ?? 1e-6,
-			threads: 1
+			mip_rel_gap: options.gap ?? 1e-6
 		});
 		instance.run();
 		const code = instance.getModelStatus();
@@ -103,7 +102,7 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 				columns: instance.getSolution().colValue
 			};
 		}
-		if (code === codes.timeLimit || code === codes.iterationLimit || code === codes.interrupt) {
+		if (code === codes.timeLimit || code === codes.iterationLimit || code === codes.interrupted) {
 			return { ...base, status: 'no_solution_in_time', objective: null, bound: info('mip_dual_bound'), gap: null, columns: null };
 		}
 		return { ...base, status: 'solver_error', objective: null, bound: null, gap: null, columns: null, message: `HiGHS model status ${code}` };

@@ -1,0 +1,149 @@
+// An independent check of an allocation against the problem itself (not against the model that
+// produced it): cover, bids and their limits, price breaks, bundles, capacities and every rule.
+import type { AwardProblem, Scope, Who } from './problem';
+import type { AwardLine } from './result';
+
+const TOLERANCE = 1e-6;
+const close = (a: number, b: number, scale = 1) => Math.abs(a - b) <= TOLERANCE * Math.max(1, Math.abs(scale), Math.abs(a), Math.abs(b));
+const atMost = (a: number, b: number) => a <= b + TOLERANCE * Math.max(1, Math.abs(b));
+const atLeast = (a: number, b: number) => a >= b - TOLERANCE * Math.max(1, Math.abs(b));
+
+function scheduledPrice(bid: AwardProblem['bids'][number], quantity: number): number {
+	let price = bid.unitPrice;
+	for (const b of bid.priceBreaks ?? []) if (quantity >= b.fromQuantity - TOLERANCE) price = b.unitPrice;
+	return price;
+}
+
+export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncovered: Set<string>): string[] {
+	const violations: string[] = [];
+	const itemOf = new Map(problem.items.map((i) => [i.ref, i]));
+	const bids = new Map(problem.bids.map((b) => [`${b.supplier}|${b.item}`, b]));
+
+	for (const line of lines) {
+		if (line.bundle) continue;
+		const bid = bids.get(`${line.supplier}|${line.item}`);
+		if (!bid) {
+			violations.push(`${line.supplier} is awarded ${line.item} without a bid for it`);
+			continue;
+		}
+		if (bid.maxQuantity !== undefined && !atMost(line.quantity, bid.maxQuantity)) {
+			violations.push(`${line.supplier} gets ${line.quantity} of ${line.item}, above its bid's maximum ${bid.maxQuantity}`);
+		}
+		const price = scheduledPrice(bid, line.quantity);
+		if (!close(line.unitPrice, price, price)) {
+			violations.push(`${line.supplier} is paid ${line.unitPrice} a unit for ${line.quantity} of ${line.item}; its bid says ${price}`);
+		}
+	}
+	const bundleLines = new Map<string, AwardLine[]>();
+	for (const line of lines) if (line.bundle) bundleLines.set(line.bundle, [...(bundleLines.get(line.bundle) ?? []), line]);
+	for (const [ref, taken] of bundleLines) {
+		const bundle = problem.bundles.find((b) => b.ref === ref);
+		if (!bundle) {
+			violations.push(`bundle ${ref} does not exist`);
+			continue;
+		}
+		const complete =
+			taken.length === bundle.items.length &&
+			bundle.items.every((l) => taken.some((t) => t.item === l.item && close(t.quantity, l.quantity) && t.supplier === bundle.supplier));
+		if (!complete) violations.push(`bundle ${ref} is taken only in part`);
+		const cost = taken.reduce((a, t) => a + t.cost, 0);
+		if (!close(cost, bundle.price, bundle.price)) violations.push(`bundle ${ref} costs ${cost}, not its price ${bundle.price}`);
+	}
+
+	const quantity = (s: string | null, items: string[]) =>
+		lines.filter((l) => (s === null || l.supplier === s) && items.includes(l.item)).reduce((a, l) => a + l.quantity, 0);
+	const spend = (suppliers: string[] | null, items: string[]) =>
+		lines.filter((l) => (suppliers === null || suppliers.includes(l.supplier)) && items.includes(l.item)).reduce((a, l) => a + l.cost, 0);
+
+	for (const item of problem.items) {
+		if (uncovered.has(item.ref)) {
+			if (quantity(null, [item.ref]) > TOLERANCE) violations.push(`${item.ref} has no offer but is awarded`);
+			continue;
+		}
+		const got = quantity(null, [item.ref]);
+		if (!close(got, item.quantity, item.quantity)) violations.push(`${item.ref} is covered for ${got} of ${item.quantity}`);
+	}
+	for (const supplier of problem.suppliers) {
+		if (supplier.capacity === undefined) continue;
+		const used = lines.filter((l) => l.supplier === supplier.ref).reduce((a, l) => a + l.quantity, 0);
+		if (!atMost(used, supplier.capacity)) violations.push(`${supplier.ref} gets ${used} units, above its capacity ${supplier.capacity}`);
+	}
+
+	const offered = problem.items.filter((i) => !uncovered.has(i.ref)).map((i) => i.ref);
+	const groups = (scope: Scope): string[][] => {
+		if (scope === 'each_item') return offered.map((i) => [i]);
+		if (scope === 'event') return [offered];
+		if ('item' in scope) return offered.includes(scope.item) ? [[scope.item]] : [];
+		return [offered.filter((i) => itemOf.get(i)?.lot === scope.lot)];
+	};
+	const whos = (who: Who): string[][] => {
+		if (who === 'each_supplier') return problem.suppliers.map((s) => [s.ref]);
+		if ('supplier' in who) return [[who.supplier]];
+		return [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
+	};
+	const demand = (items: string[]) => items.reduce((a, i) => a + itemOf.get(i)!.quantity, 0);
+	const winners = (items: string[]) => new Set(lines.filter((l) => items.includes(l.item) && l.quantity > TOLERANCE).map((l) => l.supplier));
+
+	problem.rules.forEach((rule, r) => {
+		const name = rule.label ?? `rule ${r + 1} (${rule.type})`;
+		if (rule.type === 'max_share' || rule.type === 'min_share') {
+			const itemScope = rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope);
+			const basis = rule.basis ?? (itemScope ? 'quantity' : 'spend');
+			for (const items of groups(rule.scope))
+				for (const suppliers of whos(rule.who)) {
+					if (!items.length || !suppliers.length) continue;
+					const mine = basis === 'quantity' ? suppliers.reduce((a, s) => a + quantity(s, items), 0) : spend(suppliers, items);
+					const all = basis === 'quantity' ? demand(items) : spend(null, items);
+					const limit = (rule.percent / 100) * all;
+					const ok = rule.type === 'max_share' ? atMost(mine, limit) : atLeast(mine, limit);
+					if (!ok) violations.push(`${name}: ${suppliers.join('+')} has ${mine} of ${all} in ${items.length === 1 ? items[0] : `${items.length} items`}`);
+				}
+		}
+		if (rule.type === 'min_award') {
+			for (const items of groups(rule.scope))
+				for (const suppliers of whos(rule.who))
+					for (const s of suppliers)
+						for (const i of items) {
+							const got = quantity(s, [i]);
+							const d = itemOf.get(i)!.quantity;
+							const minimum = Math.min(d, rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * d);
+							if (got > TOLERANCE && !atLeast(got, minimum)) violations.push(`${name}: ${s} gets ${got} of ${i}, under ${minimum}`);
+						}
+		}
+		if (rule.type === 'supplier_count') {
+			for (const items of groups(rule.scope)) {
+				if (!items.length) continue;
+				const count = winners(items).size;
+				if ((rule.min !== undefined && count < rule.min) || (rule.max !== undefined && count > rule.max)) {
+					violations.push(`${name}: ${count} suppliers in ${items.length === 1 ? items[0] : `${items.length} items`}`);
+				}
+			}
+		}
+		if (rule.type === 'max_spend') {
+			for (const items of groups(rule.scope))
+				for (const suppliers of whos(rule.who)) {
+					const total = spend(suppliers, items);
+					if (!atMost(total, rule.amount)) violations.push(`${name}: ${suppliers.join('+')} spend ${total} above ${rule.amount}`);
+				}
+		}
+		if (rule.type === 'exclude') {
+			for (const items of groups(rule.scope))
+				for (const suppliers of whos(rule.who)) {
+					const got = suppliers.reduce((a, s) => a + quantity(s, items), 0);
+					if (got > TOLERANCE) violations.push(`${name}: ${suppliers.join('+')} is awarded ${got} despite the exclusion`);
+				}
+		}
+	});
+	return violations;
+}
+
+/** Total cost of an allocation as the problem defines it: the lines plus award fixed costs. */
+export function allocationCost(problem: AwardProblem, lines: AwardLine[]): number {
+	let total = lines.reduce((a, l) => a + l.cost, 0);
+	for (const rule of problem.rules) {
+		if (rule.type !== 'award_fixed_cost') continue;
+		const awarded = lines.filter((l) => l.quantity > TOLERANCE);
+		total += rule.amount * (rule.per === 'supplier' ? new Set(awarded.map((l) => l.supplier)).size : new Set(awarded.map((l) => `${l.supplier}|${l.item}`)).size);
+	}
+	return total;
+}

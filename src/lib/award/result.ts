@@ -1,0 +1,89 @@
+// Reading a solved model back into the trade's words: who gets how much of what, at what price.
+import { bundleShares, type AwardModel } from './model';
+import type { AwardProblem } from './problem';
+import type { SolveOutcome } from './solve';
+
+export interface AwardLine {
+	supplier: string;
+	item: string;
+	quantity: number;
+	unitPrice: number;
+	cost: number;
+	/** Set when the line comes from a bundle offer. */
+	bundle?: string;
+}
+
+export interface SupplierTotal {
+	supplier: string;
+	quantity: number;
+	cost: number;
+	items: number;
+}
+
+/** Quantities below this are solver noise, not awards. */
+const EPSILON = 1e-7;
+
+const round = (value: number, digits = 9) => Math.round(value * 10 ** digits) / 10 ** digits;
+
+export function awardLines(problem: AwardProblem, model: AwardModel, columns: Float64Array): AwardLine[] {
+	const lines: AwardLine[] = [];
+	const byBid = new Map<number, { quantity: number; cost: number }>();
+	model.columns.forEach((meaning, j) => {
+		const value = columns[j]!;
+		if (meaning.kind === 'tier' && value > EPSILON) {
+			const entry = byBid.get(meaning.bid) ?? { quantity: 0, cost: 0 };
+			entry.quantity += value;
+			entry.cost += value * meaning.unitPrice;
+			byBid.set(meaning.bid, entry);
+		}
+		if (meaning.kind === 'bundle' && value > 0.5) {
+			const bundle = problem.bundles[meaning.bundle]!;
+			const shares = bundleShares(problem, bundle);
+			for (const line of bundle.items) {
+				const cost = bundle.price * shares.get(line.item)!;
+				lines.push({
+					supplier: bundle.supplier,
+					item: line.item,
+					quantity: line.quantity,
+					unitPrice: round(cost / line.quantity),
+					cost: round(cost),
+					bundle: bundle.ref
+				});
+			}
+		}
+	});
+	for (const [b, entry] of byBid) {
+		const bid = problem.bids[b]!;
+		lines.push({
+			supplier: bid.supplier,
+			item: bid.item,
+			quantity: round(entry.quantity),
+			unitPrice: round(entry.cost / entry.quantity),
+			cost: round(entry.cost)
+		});
+	}
+	const order = new Map(problem.items.map((item, index) => [item.ref, index]));
+	return lines.sort((a, b) => order.get(a.item)! - order.get(b.item)! || a.supplier.localeCompare(b.supplier));
+}
+
+export function supplierTotals(lines: AwardLine[]): SupplierTotal[] {
+	const totals = new Map<string, SupplierTotal>();
+	for (const line of lines) {
+		const total = totals.get(line.supplier) ?? { supplier: line.supplier, quantity: 0, cost: 0, items: 0 };
+		total.quantity = round(total.quantity + line.quantity);
+		total.cost = round(total.cost + line.cost);
+		total.items += 1;
+		totals.set(line.supplier, total);
+	}
+	return [...totals.values()].sort((a, b) => b.cost - a.cost);
+}
+
+export function baselineCost(problem: AwardProblem, uncovered: Set<string>): number | null {
+	const priced = problem.items.filter((i) => !uncovered.has(i.ref));
+	if (!priced.length || priced.some((i) => i.baselineUnitPrice === undefined)) return null;
+	return round(priced.reduce((sum, i) => sum + i.quantity * i.baselineUnitPrice!, 0));
+}
+
+export function outcomeSummary(outcome: SolveOutcome) {
+	return { status: outcome.status, objective: outcome.objective, bound: outcome.bound, gap: outcome.gap };
+}
