@@ -4,7 +4,8 @@ import type { AwardProblem, Scope, Who } from './problem';
 import type { AwardLine } from './result';
 
 const TOLERANCE = 1e-6;
-const close = (a: number, b: number, scale = 1) => Math.abs(a - b) <= TOLERANCE * Math.max(1, Math.abs(scale), Math.abs(a), Math.abs(b));
+const close = (a: number, b: number, scale = 1) =>
+	Math.abs(a - b) <= TOLERANCE * Math.max(1, Math.abs(scale), Math.abs(a), Math.abs(b));
 const atMost = (a: number, b: number) => a <= b + TOLERANCE * Math.max(1, Math.abs(b));
 const atLeast = (a: number, b: number) => a >= b - TOLERANCE * Math.max(1, Math.abs(b));
 
@@ -27,15 +28,20 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 			continue;
 		}
 		if (bid.maxQuantity !== undefined && !atMost(line.quantity, bid.maxQuantity)) {
-			violations.push(`${line.supplier} gets ${line.quantity} of ${line.item}, above its bid's maximum ${bid.maxQuantity}`);
+			violations.push(
+				`${line.supplier} gets ${line.quantity} of ${line.item}, above its bid's maximum ${bid.maxQuantity}`
+			);
 		}
 		const price = scheduledPrice(bid, line.quantity);
 		if (!close(line.unitPrice, price, price)) {
-			violations.push(`${line.supplier} is paid ${line.unitPrice} a unit for ${line.quantity} of ${line.item}; its bid says ${price}`);
+			violations.push(
+				`${line.supplier} is paid ${line.unitPrice} a unit for ${line.quantity} of ${line.item}; its bid says ${price}`
+			);
 		}
 	}
 	const bundleLines = new Map<string, AwardLine[]>();
-	for (const line of lines) if (line.bundle) bundleLines.set(line.bundle, [...(bundleLines.get(line.bundle) ?? []), line]);
+	for (const line of lines)
+		if (line.bundle) bundleLines.set(line.bundle, [...(bundleLines.get(line.bundle) ?? []), line]);
 	for (const [ref, taken] of bundleLines) {
 		const bundle = problem.bundles.find((b) => b.ref === ref);
 		if (!bundle) {
@@ -44,16 +50,25 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 		}
 		const complete =
 			taken.length === bundle.items.length &&
-			bundle.items.every((l) => taken.some((t) => t.item === l.item && close(t.quantity, l.quantity) && t.supplier === bundle.supplier));
+			bundle.items.every((l) =>
+				taken.some(
+					(t) => t.item === l.item && close(t.quantity, l.quantity) && t.supplier === bundle.supplier
+				)
+			);
 		if (!complete) violations.push(`bundle ${ref} is taken only in part`);
 		const cost = taken.reduce((a, t) => a + t.cost, 0);
-		if (!close(cost, bundle.price, bundle.price)) violations.push(`bundle ${ref} costs ${cost}, not its price ${bundle.price}`);
+		if (!close(cost, bundle.price, bundle.price))
+			violations.push(`bundle ${ref} costs ${cost}, not its price ${bundle.price}`);
 	}
 
 	const quantity = (s: string | null, items: string[]) =>
-		lines.filter((l) => (s === null || l.supplier === s) && items.includes(l.item)).reduce((a, l) => a + l.quantity, 0);
+		lines
+			.filter((l) => (s === null || l.supplier === s) && items.includes(l.item))
+			.reduce((a, l) => a + l.quantity, 0);
 	const spend = (suppliers: string[] | null, items: string[]) =>
-		lines.filter((l) => (suppliers === null || suppliers.includes(l.supplier)) && items.includes(l.item)).reduce((a, l) => a + l.cost, 0);
+		lines
+			.filter((l) => (suppliers === null || suppliers.includes(l.supplier)) && items.includes(l.item))
+			.reduce((a, l) => a + l.cost, 0);
 
 	for (const item of problem.items) {
 		if (uncovered.has(item.ref)) {
@@ -61,12 +76,14 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 			continue;
 		}
 		const got = quantity(null, [item.ref]);
-		if (!close(got, item.quantity, item.quantity)) violations.push(`${item.ref} is covered for ${got} of ${item.quantity}`);
+		if (!close(got, item.quantity, item.quantity))
+			violations.push(`${item.ref} is covered for ${got} of ${item.quantity}`);
 	}
 	for (const supplier of problem.suppliers) {
 		if (supplier.capacity === undefined) continue;
 		const used = lines.filter((l) => l.supplier === supplier.ref).reduce((a, l) => a + l.quantity, 0);
-		if (!atMost(used, supplier.capacity)) violations.push(`${supplier.ref} gets ${used} units, above its capacity ${supplier.capacity}`);
+		if (!atMost(used, supplier.capacity))
+			violations.push(`${supplier.ref} gets ${used} units, above its capacity ${supplier.capacity}`);
 	}
 
 	const offered = problem.items.filter((i) => !uncovered.has(i.ref)).map((i) => i.ref);
@@ -82,21 +99,29 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 		return [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
 	};
 	const demand = (items: string[]) => items.reduce((a, i) => a + itemOf.get(i)!.quantity, 0);
-	const winners = (items: string[]) => new Set(lines.filter((l) => items.includes(l.item) && l.quantity > TOLERANCE).map((l) => l.supplier));
+	const winners = (items: string[]) =>
+		new Set(lines.filter((l) => items.includes(l.item) && l.quantity > TOLERANCE).map((l) => l.supplier));
 
 	problem.rules.forEach((rule, r) => {
 		const name = rule.label ?? `rule ${r + 1} (${rule.type})`;
 		if (rule.type === 'max_share' || rule.type === 'min_share') {
-			const itemScope = rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope);
+			const itemScope =
+				rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope);
 			const basis = rule.basis ?? (itemScope ? 'quantity' : 'spend');
 			for (const items of groups(rule.scope))
 				for (const suppliers of whos(rule.who)) {
 					if (!items.length || !suppliers.length) continue;
-					const mine = basis === 'quantity' ? suppliers.reduce((a, s) => a + quantity(s, items), 0) : spend(suppliers, items);
+					const mine =
+						basis === 'quantity'
+							? suppliers.reduce((a, s) => a + quantity(s, items), 0)
+							: spend(suppliers, items);
 					const all = basis === 'quantity' ? demand(items) : spend(null, items);
 					const limit = (rule.percent / 100) * all;
 					const ok = rule.type === 'max_share' ? atMost(mine, limit) : atLeast(mine, limit);
-					if (!ok) violations.push(`${name}: ${suppliers.join('+')} has ${mine} of ${all} in ${items.length === 1 ? items[0] : `${items.length} items`}`);
+					if (!ok)
+						violations.push(
+							`${name}: ${suppliers.join('+')} has ${mine} of ${all} in ${items.length === 1 ? items[0] : `${items.length} items`}`
+						);
 				}
 		}
 		if (rule.type === 'min_award') {
@@ -107,7 +132,8 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 							const got = quantity(s, [i]);
 							const d = itemOf.get(i)!.quantity;
 							const minimum = Math.min(d, rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * d);
-							if (got > TOLERANCE && !atLeast(got, minimum)) violations.push(`${name}: ${s} gets ${got} of ${i}, under ${minimum}`);
+							if (got > TOLERANCE && !atLeast(got, minimum))
+								violations.push(`${name}: ${s} gets ${got} of ${i}, under ${minimum}`);
 						}
 		}
 		if (rule.type === 'supplier_count') {
@@ -115,7 +141,9 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 				if (!items.length) continue;
 				const count = winners(items).size;
 				if ((rule.min !== undefined && count < rule.min) || (rule.max !== undefined && count > rule.max)) {
-					violations.push(`${name}: ${count} suppliers in ${items.length === 1 ? items[0] : `${items.length} items`}`);
+					violations.push(
+						`${name}: ${count} suppliers in ${items.length === 1 ? items[0] : `${items.length} items`}`
+					);
 				}
 			}
 		}
@@ -123,14 +151,16 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 			for (const items of groups(rule.scope))
 				for (const suppliers of whos(rule.who)) {
 					const total = spend(suppliers, items);
-					if (!atMost(total, rule.amount)) violations.push(`${name}: ${suppliers.join('+')} spend ${total} above ${rule.amount}`);
+					if (!atMost(total, rule.amount))
+						violations.push(`${name}: ${suppliers.join('+')} spend ${total} above ${rule.amount}`);
 				}
 		}
 		if (rule.type === 'exclude') {
 			for (const items of groups(rule.scope))
 				for (const suppliers of whos(rule.who)) {
 					const got = suppliers.reduce((a, s) => a + quantity(s, items), 0);
-					if (got > TOLERANCE) violations.push(`${name}: ${suppliers.join('+')} is awarded ${got} despite the exclusion`);
+					if (got > TOLERANCE)
+						violations.push(`${name}: ${suppliers.join('+')} is awarded ${got} despite the exclusion`);
 				}
 		}
 	});
@@ -143,7 +173,11 @@ export function allocationCost(problem: AwardProblem, lines: AwardLine[]): numbe
 	for (const rule of problem.rules) {
 		if (rule.type !== 'award_fixed_cost') continue;
 		const awarded = lines.filter((l) => l.quantity > TOLERANCE);
-		total += rule.amount * (rule.per === 'supplier' ? new Set(awarded.map((l) => l.supplier)).size : new Set(awarded.map((l) => `${l.supplier}|${l.item}`)).size);
+		total +=
+			rule.amount *
+			(rule.per === 'supplier'
+				? new Set(awarded.map((l) => l.supplier)).size
+				: new Set(awarded.map((l) => `${l.supplier}|${l.item}`)).size);
 	}
 	return total;
 }

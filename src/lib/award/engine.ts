@@ -114,7 +114,9 @@ export function restrictToItems(problem: AwardProblem, items: string[]): AwardPr
 		items: problem.items.filter((i) => keep.has(i.ref)),
 		bids: problem.bids.filter((b) => keep.has(b.item)),
 		bundles: problem.bundles.filter((b) => b.items.every((l) => keep.has(l.item))),
-		rules: problem.rules.filter((r) => !('scope' in r) || typeof r.scope !== 'object' || !('item' in r.scope) || keep.has(r.scope.item))
+		rules: problem.rules.filter(
+			(r) => !('scope' in r) || typeof r.scope !== 'object' || !('item' in r.scope) || keep.has(r.scope.item)
+		)
 	};
 }
 
@@ -130,9 +132,15 @@ interface Solved {
 	outcome: SolveOutcome | null;
 }
 
-async function solveOnce(problem: AwardProblem, solver: Solver, options: AwardOptions, withoutRules?: Set<number>): Promise<Solved> {
+async function solveOnce(
+	problem: AwardProblem,
+	solver: Solver,
+	options: AwardOptions,
+	withoutRules?: Set<number>
+): Promise<Solved> {
 	const model = buildModel(problem, { withoutRules });
-	const wantSplit = options.method === 'decomposed' || (options.method !== 'monolithic' && model.integers > 0);
+	const wantSplit =
+		options.method === 'decomposed' || (options.method !== 'monolithic' && model.integers > 0);
 	const groups = wantSplit ? independentItemGroups(model, problem) : [];
 	if (groups.length > 1) {
 		const parts = await Promise.all(
@@ -143,18 +151,23 @@ async function solveOnce(problem: AwardProblem, solver: Solver, options: AwardOp
 				return { part, partModel, outcome };
 			})
 		);
-		const worst = (['infeasible', 'unbounded', 'solver_error', 'no_solution_in_time', 'feasible', 'optimal'] as const).find((s) =>
-			parts.some((p) => p.outcome.status === s)
-		)!;
+		const worst = (
+			['infeasible', 'unbounded', 'solver_error', 'no_solution_in_time', 'feasible', 'optimal'] as const
+		).find((s) => parts.some((p) => p.outcome.status === s))!;
 		const usable = worst === 'optimal' || worst === 'feasible';
 		const objective = usable ? parts.reduce((a, p) => a + p.outcome.objective!, 0) : null;
-		const bound = parts.every((p) => p.outcome.bound !== null) ? parts.reduce((a, p) => a + p.outcome.bound!, 0) : null;
+		const bound = parts.every((p) => p.outcome.bound !== null)
+			? parts.reduce((a, p) => a + p.outcome.bound!, 0)
+			: null;
 		return {
 			status: worst,
 			method: 'decomposed',
 			objective,
 			bound,
-			gap: objective !== null && bound !== null ? Math.abs(objective - bound) / Math.max(1e-9, Math.abs(objective)) : null,
+			gap:
+				objective !== null && bound !== null
+					? Math.abs(objective - bound) / Math.max(1e-9, Math.abs(objective))
+					: null,
 			lines: usable ? parts.flatMap((p) => awardLines(p.part, p.partModel, p.outcome.columns!)) : [],
 			seconds: parts.reduce((a, p) => Math.max(a, p.outcome.seconds), 0),
 			model,
@@ -177,8 +190,13 @@ async function solveOnce(problem: AwardProblem, solver: Solver, options: AwardOp
 }
 
 const money = (value: number) => Math.round(value * 100) / 100;
+const round9 = (value: number) => Math.round(value * 1e9) / 1e9;
 
-export async function solveAward(problem: AwardProblem, solver: Solver, options: AwardOptions = {}): Promise<AwardResult> {
+export async function solveAward(
+	problem: AwardProblem,
+	solver: Solver,
+	options: AwardOptions = {}
+): Promise<AwardResult> {
 	const solved = await solveOnce(problem, solver, options);
 	const { model } = solved;
 	const uncovered = new Set(model.uncovered.map((u) => u.item));
@@ -211,12 +229,21 @@ export async function solveAward(problem: AwardProblem, solver: Solver, options:
 	return result;
 }
 
-async function ruleCosts(problem: AwardProblem, solver: Solver, options: AwardOptions, withAll: number): Promise<RuleCost[]> {
+async function ruleCosts(
+	problem: AwardProblem,
+	solver: Solver,
+	options: AwardOptions,
+	withAll: number
+): Promise<RuleCost[]> {
 	const n = problem.rules.length;
 	const all = [...problem.rules.keys()];
 	const objective = async (without: Set<number>) => {
 		const s = await solveOnce(problem, solver, { ...options, explain: false }, without);
-		return { status: s.status, value: s.status === 'optimal' || s.status === 'feasible' ? allocationCost(problem, s.lines) : null };
+		const kept = { ...problem, rules: problem.rules.filter((_, r) => !without.has(r)) };
+		return {
+			status: s.status,
+			value: s.status === 'optimal' || s.status === 'feasible' ? allocationCost(kept, s.lines) : null
+		};
 	};
 	// Each rule alone (all others kept), and the prefixes in the rules' order: every one a real solve.
 	const [alone, prefixes] = await Promise.all([
@@ -226,9 +253,11 @@ async function ruleCosts(problem: AwardProblem, solver: Solver, options: AwardOp
 	return problem.rules.map((rule, r) => ({
 		rule: r,
 		label: ruleLabel(rule, r),
-		cost: alone[r]!.value === null ? null : money(withAll - alone[r]!.value!),
+		cost: alone[r]!.value === null ? null : round9(withAll - alone[r]!.value!),
 		cumulativeCost:
-			prefixes[r + 1]!.value === null || prefixes[r]!.value === null ? null : money(prefixes[r + 1]!.value! - prefixes[r]!.value!),
+			prefixes[r + 1]!.value === null || prefixes[r]!.value === null
+				? null
+				: round9(prefixes[r + 1]!.value! - prefixes[r]!.value!),
 		statusWithout: alone[r]!.status
 	}));
 }
@@ -238,10 +267,18 @@ function describeGiveWay(problem: AwardProblem, model: AwardModel, row: number, 
 	const a = Math.round(amount * 1000) / 1000;
 	if (meaning.kind === 'cover') {
 		const d = problem.items.find((i) => i.ref === meaning.item)!.quantity;
-		return { label: `cover of ${meaning.item}`, amount: a, text: `${meaning.item} can be covered for only ${d - a} of ${d} (${a} short)` };
+		return {
+			label: `cover of ${meaning.item}`,
+			amount: a,
+			text: `${meaning.item} can be covered for only ${d - a} of ${d} (${a} short)`
+		};
 	}
 	if (meaning.kind === 'capacity') {
-		return { label: `capacity of ${meaning.supplier}`, amount: a, text: `${meaning.supplier}'s capacity is ${a} short` };
+		return {
+			label: `capacity of ${meaning.supplier}`,
+			amount: a,
+			text: `${meaning.supplier}'s capacity is ${a} short`
+		};
 	}
 	if (meaning.kind === 'rule') {
 		const rule = problem.rules[meaning.rule]!;
@@ -249,12 +286,20 @@ function describeGiveWay(problem: AwardProblem, model: AwardModel, row: number, 
 		const where = meaning.items.length === 1 ? ` on ${meaning.items[0]}` : '';
 		if ((rule.type === 'max_share' || rule.type === 'min_share') && meaning.unit === 'quantity') {
 			const d = meaning.items.reduce((s, i) => s + problem.items.find((x) => x.ref === i)!.quantity, 0);
-			const needed = rule.percent + (rule.type === 'max_share' ? 1 : -1) * (100 * a) / d;
+			const needed = rule.percent + ((rule.type === 'max_share' ? 1 : -1) * (100 * a)) / d;
 			const verb = rule.type === 'max_share' ? 'rise' : 'fall';
-			return { label, amount: a, text: `the ${rule.percent}% share ${rule.type === 'max_share' ? 'cap' : 'floor'}${where} (${label}) must ${verb} to ${Math.round(needed * 10) / 10}%` };
+			return {
+				label,
+				amount: a,
+				text: `the ${rule.percent}% share ${rule.type === 'max_share' ? 'cap' : 'floor'}${where} (${label}) must ${verb} to ${Math.round(needed * 10) / 10}%`
+			};
 		}
 		if (rule.type === 'supplier_count') {
-			return { label, amount: a, text: `${label}${where} must allow ${Math.round(a)} ${rule.max !== undefined ? 'more' : 'fewer'} supplier${Math.round(a) === 1 ? '' : 's'}` };
+			return {
+				label,
+				amount: a,
+				text: `${label}${where} must allow ${Math.round(a)} ${rule.max !== undefined ? 'more' : 'fewer'} supplier${Math.round(a) === 1 ? '' : 's'}`
+			};
 		}
 		if (rule.type === 'min_award') {
 			return { label, amount: a, text: `the minimum award${where} (${label}) must fall by ${a}` };
@@ -262,7 +307,11 @@ function describeGiveWay(problem: AwardProblem, model: AwardModel, row: number, 
 		if (rule.type === 'exclude') {
 			return { label, amount: a, text: `the exclusion${where} (${label}) must let ${a} units through` };
 		}
-		return { label, amount: a, text: `${label}${where} must give way by ${a} ${meaning.unit === 'spend' ? problem.currency : 'units'}` };
+		return {
+			label,
+			amount: a,
+			text: `${label}${where} must give way by ${a} ${meaning.unit === 'spend' ? problem.currency : 'units'}`
+		};
 	}
 	return { label: 'structure', amount: a, text: `an internal row must give way by ${a}` };
 }
@@ -273,12 +322,18 @@ async function conflicts(problem: AwardProblem, solver: Solver, options: AwardOp
 	if (!outcome.columns) return [];
 	const found: Conflict[] = [];
 	model.columns.forEach((meaning, j) => {
-		if (meaning.kind === 'slack' && outcome.columns![j]! > 1e-6) found.push(describeGiveWay(problem, model, meaning.row, outcome.columns![j]!));
+		if (meaning.kind === 'slack' && outcome.columns![j]! > 1e-6)
+			found.push(describeGiveWay(problem, model, meaning.row, outcome.columns![j]!));
 	});
 	return found;
 }
 
-async function sensitivity(problem: AwardProblem, solver: Solver, options: AwardOptions, solved: Solved): Promise<Sensitivity> {
+async function sensitivity(
+	problem: AwardProblem,
+	solver: Solver,
+	options: AwardOptions,
+	solved: Solved
+): Promise<Sensitivity> {
 	let model = solved.model;
 	let outcome = solved.outcome;
 	const local = model.integers > 0 || solved.method === 'decomposed';
@@ -303,14 +358,18 @@ async function sensitivity(problem: AwardProblem, solver: Solver, options: Award
 				if (!fixed.integrality[j]) return;
 				let on = 0;
 				if (meaning.kind === 'wins') on = won.has(`${meaning.supplier}|${meaning.item}`) ? 1 : 0;
-				if (meaning.kind === 'bundle') on = solved.lines.some((l) => l.bundle === problem.bundles[meaning.bundle]!.ref) ? 1 : 0;
+				if (meaning.kind === 'bundle')
+					on = solved.lines.some((l) => l.bundle === problem.bundles[meaning.bundle]!.ref) ? 1 : 0;
 				if (meaning.kind === 'tier_used') {
 					const bid = problem.bids[meaning.bid]!;
-					const line = solved.lines.find((l) => !l.bundle && l.supplier === bid.supplier && l.item === bid.item);
+					const line = solved.lines.find(
+						(l) => !l.bundle && l.supplier === bid.supplier && l.item === bid.item
+					);
 					const tiers = [0, ...(bid.priceBreaks ?? []).map((b) => b.fromQuantity)];
 					on = line && tiers.filter((f) => line.quantity >= f - 1e-9).length - 1 === meaning.tier ? 1 : 0;
 				}
-				if (meaning.kind === 'wins_group') on = solved.lines.some((l) => l.supplier === meaning.supplier) ? 1 : 0;
+				if (meaning.kind === 'wins_group')
+					on = solved.lines.some((l) => l.supplier === meaning.supplier) ? 1 : 0;
 				fixed.colLower[j] = on;
 				fixed.colUpper[j] = on;
 			});
@@ -325,7 +384,11 @@ async function sensitivity(problem: AwardProblem, solver: Solver, options: Award
 	model.rows.forEach((meaning, row) => {
 		const dual = outcome!.rowDuals![row]!;
 		if (meaning.kind === 'cover') {
-			result.coverPrices.push({ item: meaning.item, pricePerUnit: dual, text: `one more unit of ${meaning.item} would cost ${money(dual)} ${c}` });
+			result.coverPrices.push({
+				item: meaning.item,
+				pricePerUnit: dual,
+				text: `one more unit of ${meaning.item} would cost ${money(dual)} ${c}`
+			});
 		}
 		if (meaning.kind === 'capacity' && Math.abs(dual) > 1e-9) {
 			result.capacityPrices.push({

@@ -10,7 +10,9 @@ const require = createRequire(import.meta.url);
 
 export function loadHighs(): Promise<Highs> {
 	// Found by module resolution, so it works bundled or not.
-	return highsLoader({ locateFile: (file: string) => (file.endsWith('.wasm') ? require.resolve('highs/runtime') : file) });
+	return highsLoader({
+		locateFile: (file: string) => (file.endsWith('.wasm') ? require.resolve('highs/runtime') : file)
+	});
 }
 
 /** A HiGHS instance in this thread, replaced after any runtime error (an aborted instance is poisoned). */

@@ -130,7 +130,10 @@ class Builder {
 
 /** The price of each tier of a bid: tier 0 from zero, then each break from its quantity (all-units). */
 export function tiersOf(bid: AwardProblem['bids'][number]): { from: number; unitPrice: number }[] {
-	return [{ from: 0, unitPrice: bid.unitPrice }, ...(bid.priceBreaks ?? []).map((b) => ({ from: b.fromQuantity, unitPrice: b.unitPrice }))];
+	return [
+		{ from: 0, unitPrice: bid.unitPrice },
+		...(bid.priceBreaks ?? []).map((b) => ({ from: b.fromQuantity, unitPrice: b.unitPrice }))
+	];
 }
 
 /** The unit price a bid charges for a quantity, by its all-units price breaks. */
@@ -141,16 +144,22 @@ export function unitPriceAt(bid: AwardProblem['bids'][number], quantity: number)
 }
 
 /** Weights that split a bundle's price over its items: quantity times a reference price of the item. */
-export function bundleShares(problem: AwardProblem, bundle: AwardProblem['bundles'][number]): Map<string, number> {
+export function bundleShares(
+	problem: AwardProblem,
+	bundle: AwardProblem['bundles'][number]
+): Map<string, number> {
 	const reference = new Map<string, number>();
-	for (const item of problem.items) if (item.baselineUnitPrice !== undefined) reference.set(item.ref, item.baselineUnitPrice);
+	for (const item of problem.items)
+		if (item.baselineUnitPrice !== undefined) reference.set(item.ref, item.baselineUnitPrice);
 	const weights = bundle.items.map((line) => {
 		const prices = problem.bids.filter((b) => b.item === line.item).map((b) => b.unitPrice);
 		const fallback = prices.length ? prices.reduce((a, b) => a + b, 0) / prices.length : 1;
 		return line.quantity * (reference.get(line.item) ?? (fallback || 1));
 	});
 	const total = weights.reduce((a, b) => a + b, 0);
-	return new Map(bundle.items.map((line, j) => [line.item, total > 0 ? weights[j]! / total : 1 / bundle.items.length]));
+	return new Map(
+		bundle.items.map((line, j) => [line.item, total > 0 ? weights[j]! / total : 1 / bundle.items.length])
+	);
 }
 
 export function buildModel(problem: AwardProblem, options: BuildOptions = {}): AwardModel {
@@ -175,13 +184,21 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const tierUsedRows: Terms[] = [];
 	problem.bids.forEach((bid, b) => {
 		const d = demand.get(bid.item)!;
-		const ceiling = Math.min(bid.maxQuantity ?? Infinity, d, capacity.get(bid.supplier) ?? Infinity);
+		// The bid's own limit bounds the column; demand and capacity only give the linking rows a finite
+		// big-M (as column bounds they would distort the duals). The relaxation lets capacity give way.
+		const bidLimit = bid.maxQuantity ?? Infinity;
+		const ceiling = Math.min(bidLimit, d, elastic ? Infinity : (capacity.get(bid.supplier) ?? Infinity));
 		const tiers = tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9);
 		const quantity = termsFor(quantityTerms, bid.supplier, bid.item);
 		const spend = termsFor(spendTerms, bid.supplier, bid.item);
 		upperOf.set(key(bid.supplier, bid.item), (upperOf.get(key(bid.supplier, bid.item)) ?? 0) + ceiling);
 		if (tiers.length === 1) {
-			const x = m.column({ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice }, bid.unitPrice, 0, ceiling);
+			const x = m.column(
+				{ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice },
+				bid.unitPrice,
+				0,
+				bidLimit
+			);
 			addTerm(quantity, x, 1);
 			addTerm(spend, x, bid.unitPrice);
 			return;
@@ -189,11 +206,32 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const oneTier: Terms = new Map();
 		tiers.forEach((tier, t) => {
 			const top = Math.min(tiers[t + 1]?.from ?? Infinity, ceiling);
-			const x = m.column({ kind: 'tier', bid: b, tier: t, unitPrice: tier.unitPrice }, tier.unitPrice, 0, top);
+			const x = m.column(
+				{ kind: 'tier', bid: b, tier: t, unitPrice: tier.unitPrice },
+				tier.unitPrice,
+				0,
+				Math.min(top, bidLimit)
+			);
 			const z = m.column({ kind: 'tier_used', bid: b, tier: t }, 0, 0, 1, true);
 			// from[t]·z[b,t] <= x[b,t] <= top[t]·z[b,t]: a tier's price applies only to quantities in its range
-			m.row({ kind: 'structure' }, new Map([[x, 1], [z, -tier.from]]), 0, Infinity);
-			m.row({ kind: 'structure' }, new Map([[x, 1], [z, -top]]), -Infinity, 0);
+			m.row(
+				{ kind: 'structure' },
+				new Map([
+					[x, 1],
+					[z, -tier.from]
+				]),
+				0,
+				Infinity
+			);
+			m.row(
+				{ kind: 'structure' },
+				new Map([
+					[x, 1],
+					[z, -top]
+				]),
+				-Infinity,
+				0
+			);
 			addTerm(oneTier, z, 1);
 			addTerm(quantity, x, 1);
 			addTerm(spend, x, tier.unitPrice);
@@ -209,13 +247,18 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		for (const line of bundle.items) {
 			addTerm(termsFor(quantityTerms, bundle.supplier, line.item), w, line.quantity);
 			addTerm(termsFor(spendTerms, bundle.supplier, line.item), w, bundle.price * shares.get(line.item)!);
-			upperOf.set(key(bundle.supplier, line.item), (upperOf.get(key(bundle.supplier, line.item)) ?? 0) + line.quantity);
+			upperOf.set(
+				key(bundle.supplier, line.item),
+				(upperOf.get(key(bundle.supplier, line.item)) ?? 0) + line.quantity
+			);
 		}
 	});
 
 	const offered = new Set<string>();
 	for (const k of quantityTerms.keys()) offered.add(k.split('\u0000')[1]!);
-	const uncovered = problem.items.filter((i) => !offered.has(i.ref)).map((i) => ({ item: i.ref, reason: 'no bid or bundle offers this item' }));
+	const uncovered = problem.items
+		.filter((i) => !offered.has(i.ref))
+		.map((i) => ({ item: i.ref, reason: 'no bid or bundle offers this item' }));
 	const coveredItems = problem.items.filter((i) => offered.has(i.ref));
 	const suppliersOfItem = new Map<string, string[]>();
 	for (const k of quantityTerms.keys()) {
@@ -223,12 +266,33 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		suppliersOfItem.set(i, [...(suppliersOfItem.get(i) ?? []), s]);
 	}
 
-	const slackRows: { row: number; direction: 1 | -1 }[] = [];
+	// In the feasibility relaxation a slack of one unit costs its priority (rules give way before
+	// capacities, capacities before covering the demand); spend is turned into units at the items'
+	// reference price, and one supplier more or less weighs like the group's average demand.
+	const slackRows: { row: number; direction: 1 | -1; weight: number }[] = [];
+	const priority = { rule: 1, capacity: 2, cover: 4, structure: 1 };
+	const referencePrice = new Map<string, number>();
+	for (const item of problem.items) {
+		const prices = problem.bids.filter((b) => b.item === item.ref).map((b) => b.unitPrice);
+		referencePrice.set(
+			item.ref,
+			item.baselineUnitPrice ?? (prices.length ? prices.reduce((a, b) => a + b, 0) / prices.length : 1)
+		);
+	}
+	const unitWeight = (meaning: RowMeaning): number => {
+		if (meaning.kind !== 'rule' || meaning.unit === 'quantity') return 1;
+		const items = meaning.items.length ? meaning.items : [...demand.keys()];
+		if (meaning.unit === 'count') return items.reduce((a, i) => a + demand.get(i)!, 0) / items.length;
+		const value = items.reduce((a, i) => a + demand.get(i)! * (referencePrice.get(i) || 1), 0);
+		const units = items.reduce((a, i) => a + demand.get(i)!, 0);
+		return units / Math.max(1e-9, value);
+	};
 	const elasticRow = (meaning: RowMeaning, terms: Terms, lower: number, upper: number) => {
 		const row = m.row(meaning, terms, lower, upper);
 		if (elastic) {
-			if (lower > -Infinity) slackRows.push({ row, direction: 1 });
-			if (upper < Infinity) slackRows.push({ row, direction: -1 });
+			const weight = priority[meaning.kind] * unitWeight(meaning);
+			if (lower > -Infinity) slackRows.push({ row, direction: 1, weight });
+			if (upper < Infinity) slackRows.push({ row, direction: -1, weight });
 		}
 		return row;
 	};
@@ -245,7 +309,8 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		if (supplier.capacity === undefined) continue;
 		const terms: Terms = new Map();
 		for (const item of coveredItems) addAll(terms, quantityTerms.get(key(supplier.ref, item.ref)));
-		if (terms.size) elasticRow({ kind: 'capacity', supplier: supplier.ref }, terms, -Infinity, supplier.capacity);
+		if (terms.size)
+			elasticRow({ kind: 'capacity', supplier: supplier.ref }, terms, -Infinity, supplier.capacity);
 	}
 
 	// Groups a rule ranges over.
@@ -257,13 +322,18 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		return [lotItems(scope.lot)];
 	};
 	const groupName = (scope: Scope, items: string[]) =>
-		scope === 'event' ? 'event' : typeof scope === 'object' && 'lot' in scope ? `lot:${scope.lot}` : `item:${items[0]}`;
+		scope === 'event'
+			? 'event'
+			: typeof scope === 'object' && 'lot' in scope
+				? `lot:${scope.lot}`
+				: `item:${items[0]}`;
 	const whoGroups = (who: Who): string[][] => {
 		if (who === 'each_supplier') return problem.suppliers.map((s) => [s.ref]);
 		if ('supplier' in who) return [[who.supplier]];
 		return [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
 	};
-	const isItemScope = (scope: Scope) => scope === 'each_item' || (typeof scope === 'object' && 'item' in scope);
+	const isItemScope = (scope: Scope) =>
+		scope === 'each_item' || (typeof scope === 'object' && 'item' in scope);
 
 	const sum = (store: Map<string, Terms>, suppliers: string[], items: string[], factor = 1) => {
 		const terms: Terms = new Map();
@@ -318,7 +388,16 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const v = m.column({ kind: 'wins_group', supplier: s, group }, 0, 0, 1, true);
 		groupWins.set(k, v);
 		// y[s,i] <= v[s,G] for i in G, and v[s,G] <= Σ_i y[s,i]
-		for (const y of ys) m.row({ kind: 'structure' }, new Map([[y, 1], [v, -1]]), -Infinity, 0);
+		for (const y of ys)
+			m.row(
+				{ kind: 'structure' },
+				new Map([
+					[y, 1],
+					[v, -1]
+				]),
+				-Infinity,
+				0
+			);
 		const some: Terms = new Map([[v, 1]]);
 		for (const y of ys) addTerm(some, y, -1);
 		m.row({ kind: 'structure' }, some, -Infinity, 0);
@@ -326,7 +405,11 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	};
 
 	for (const { rule, index } of rules) {
-		const meaning = (items: string[], suppliers: string[], unit: 'quantity' | 'spend' | 'count'): RowMeaning => ({
+		const meaning = (
+			items: string[],
+			suppliers: string[],
+			unit: 'quantity' | 'spend' | 'count'
+		): RowMeaning => ({
 			kind: 'rule',
 			rule: index,
 			items,
@@ -348,13 +431,15 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 							terms = sum(quantityTerms, suppliers, items);
 							const total = items.reduce((a, i) => a + demand.get(i)!, 0);
 							if (!terms.size && rule.type === 'max_share') continue;
-							if (rule.type === 'max_share') elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, p * total);
+							if (rule.type === 'max_share')
+								elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, p * total);
 							else elasticRow(meaning(items, suppliers, 'quantity'), terms, p * total, Infinity);
 						} else {
 							// Σ_{s∈W} spend(s,G) - p·Σ_all spend(·,G) <= 0  (>= 0 for a share floor)
 							terms = sum(spendTerms, suppliers, items);
 							addAll(terms, sum(spendTerms, everyone, items), -p);
-							if (rule.type === 'max_share') elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, 0);
+							if (rule.type === 'max_share')
+								elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, 0);
 							else elasticRow(meaning(items, suppliers, 'spend'), terms, 0, Infinity);
 						}
 					}
@@ -383,7 +468,10 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 					const terms: Terms = new Map();
 					const bidders = [...new Set(items.flatMap((i) => suppliersOfItem.get(i) ?? []))];
 					for (const s of bidders) {
-						const column = items.length === 1 && isItemScope(rule.scope) ? winsColumn(s, items[0]!) : winsGroupColumn(s, groupName(rule.scope, items), items);
+						const column =
+							items.length === 1 && isItemScope(rule.scope)
+								? winsColumn(s, items[0]!)
+								: winsGroupColumn(s, groupName(rule.scope, items), items);
 						if (column !== null) addTerm(terms, column, 1);
 					}
 					elasticRow(meaning(items, bidders, 'count'), terms, rule.min ?? -Infinity, rule.max ?? Infinity);
@@ -430,8 +518,8 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	if (elastic) {
 		// min Σ slack: the smallest total give-way that makes the rules fit together
 		m.cost.fill(0);
-		for (const { row, direction } of slackRows) {
-			const s = m.column({ kind: 'slack', row }, 1, 0, Infinity);
+		for (const { row, direction, weight } of slackRows) {
+			const s = m.column({ kind: 'slack', row }, weight, 0, Infinity);
 			addTerm(m.rowTerms[row]!, s, direction);
 		}
 	}

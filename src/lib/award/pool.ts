@@ -19,7 +19,10 @@ export interface PoolOptions {
 export const LIMITS = { lpEntries: 6_000_000, mipEntries: 2_000_000, mipIntegers: 200_000 };
 
 export class ModelTooLarge extends Error {
-	constructor(readonly entries: number, readonly integers: number) {
+	constructor(
+		readonly entries: number,
+		readonly integers: number
+	) {
 		super(
 			`The award model is too large for the solver's memory: ${entries.toLocaleString('en')} matrix entries and ${integers.toLocaleString('en')} integer choices (limits: ${LIMITS.lpEntries.toLocaleString('en')} entries for a pure LP, ${LIMITS.mipEntries.toLocaleString('en')} entries and ${LIMITS.mipIntegers.toLocaleString('en')} integers with integer rules). Split the event into lots or simplify the rules.`
 		);
@@ -36,7 +39,10 @@ export class SolveCancelled extends Error {
 
 export function assertSolvable(model: AwardModel): void {
 	const entries = model.indices.length;
-	const tooBig = model.integers > 0 ? entries > LIMITS.mipEntries || model.integers > LIMITS.mipIntegers : entries > LIMITS.lpEntries;
+	const tooBig =
+		model.integers > 0
+			? entries > LIMITS.mipEntries || model.integers > LIMITS.mipIntegers
+			: entries > LIMITS.lpEntries;
 	if (tooBig) throw new ModelTooLarge(entries, model.integers);
 }
 
@@ -57,11 +63,18 @@ interface Slot {
 function startWorker(): Worker {
 	if (!import.meta.url.endsWith('.ts')) return new Worker(new URL('./solver-worker.js', import.meta.url));
 	// From TypeScript sources (tests, the CLI under tsx) the thread registers tsx's loader first.
-	const tsx = pathToFileURL(createRequire(import.meta.url).resolve('tsx/esm/api').replace(/\.cjs$/, '.mjs')).href;
+	const tsx = pathToFileURL(
+		createRequire(import.meta.url)
+			.resolve('tsx/esm/api')
+			.replace(/\.cjs$/, '.mjs')
+	).href;
 	const entry = new URL('./solver-worker.ts', import.meta.url).href;
-	return new Worker(`import(${JSON.stringify(tsx)}).then((m) => { m.register(); return import(${JSON.stringify(entry)}); });`, {
-		eval: true
-	});
+	return new Worker(
+		`import(${JSON.stringify(tsx)}).then((m) => { m.register(); return import(${JSON.stringify(entry)}); });`,
+		{
+			eval: true
+		}
+	);
 }
 
 export class SolverPool implements Solver {
@@ -111,7 +124,10 @@ export class SolverPool implements Solver {
 				if (message.id !== job.id) return;
 				cleanup();
 				slot.job = null;
-				const recycle = Boolean(message.error) || message.outcome?.status === 'solver_error' || job.model.indices.length >= this.recycleAfter;
+				const recycle =
+					Boolean(message.error) ||
+					message.outcome?.status === 'solver_error' ||
+					job.model.indices.length >= this.recycleAfter;
 				if (recycle) this.replace(slot);
 				else worker.unref();
 				if (message.error) job.reject(new Error(message.error));

@@ -7,9 +7,15 @@ const ref = z
 	.trim()
 	.min(1, 'must not be empty')
 	.max(200, 'must be at most 200 characters');
-const nonNegative = z.number('must be a number').finite('must be a finite number').min(0, 'must be a number >= 0');
+const nonNegative = z
+	.number('must be a number')
+	.finite('must be a finite number')
+	.min(0, 'must be a number >= 0');
 const positive = z.number('must be a number').finite('must be a finite number').gt(0, 'must be a number > 0');
-const percent = z.number('must be a number').min(0, 'must be a percentage from 0 to 100').max(100, 'must be a percentage from 0 to 100');
+const percent = z
+	.number('must be a number')
+	.min(0, 'must be a percentage from 0 to 100')
+	.max(100, 'must be a percentage from 0 to 100');
 
 export const scopeSchema = z.union([
 	z.literal('each_item'),
@@ -59,11 +65,20 @@ export const ruleSchema = z.discriminatedUnion('type', [
 		})
 		.strict()
 		.refine((r) => r.min !== undefined || r.max !== undefined, { message: 'needs min, max or both' })
-		.refine((r) => r.min === undefined || r.max === undefined || r.min <= r.max, { message: 'min must not exceed max' }),
-	z.object({ type: z.literal('max_spend'), label, scope: scopeSchema, who: whoSchema, amount: nonNegative }).strict(),
+		.refine((r) => r.min === undefined || r.max === undefined || r.min <= r.max, {
+			message: 'min must not exceed max'
+		}),
+	z
+		.object({ type: z.literal('max_spend'), label, scope: scopeSchema, who: whoSchema, amount: nonNegative })
+		.strict(),
 	z.object({ type: z.literal('exclude'), label, scope: scopeSchema, who: whoSchema }).strict(),
 	z
-		.object({ type: z.literal('award_fixed_cost'), label, amount: nonNegative, per: z.enum(['supplier', 'supplier_item']) })
+		.object({
+			type: z.literal('award_fixed_cost'),
+			label,
+			amount: nonNegative,
+			per: z.enum(['supplier', 'supplier_item'])
+		})
 		.strict()
 ]);
 
@@ -85,7 +100,16 @@ export const problemSchema = z
 			)
 			.min(1, 'must list at least one item'),
 		suppliers: z
-			.array(z.object({ ref, name: z.string().max(300).optional(), capacity: nonNegative.optional(), tags: z.array(ref).optional() }).strict())
+			.array(
+				z
+					.object({
+						ref,
+						name: z.string().max(300).optional(),
+						capacity: nonNegative.optional(),
+						tags: z.array(ref).optional()
+					})
+					.strict()
+			)
 			.min(1, 'must list at least one supplier'),
 		bids: z.array(
 			z
@@ -94,7 +118,9 @@ export const problemSchema = z
 					item: ref,
 					unitPrice: nonNegative,
 					maxQuantity: positive.optional(),
-					priceBreaks: z.array(z.object({ fromQuantity: positive, unitPrice: nonNegative }).strict()).optional()
+					priceBreaks: z
+						.array(z.object({ fromQuantity: positive, unitPrice: nonNegative }).strict())
+						.optional()
 				})
 				.strict()
 		),
@@ -105,7 +131,9 @@ export const problemSchema = z
 						ref,
 						supplier: ref,
 						price: nonNegative,
-						items: z.array(z.object({ item: ref, quantity: positive }).strict()).min(1, 'must list at least one item')
+						items: z
+							.array(z.object({ item: ref, quantity: positive }).strict())
+							.min(1, 'must list at least one item')
 					})
 					.strict()
 			)
@@ -122,14 +150,19 @@ export type Who = z.output<typeof whoSchema>;
 export type Parsed = { ok: true; problem: AwardProblem } | { ok: false; problems: string[] };
 
 function pathText(path: readonly PropertyKey[]): string {
-	return path.map((p, i) => (typeof p === 'number' ? `[${p}]` : `${i === 0 ? '' : '.'}${String(p)}`)).join('');
+	return path
+		.map((p, i) => (typeof p === 'number' ? `[${p}]` : `${i === 0 ? '' : '.'}${String(p)}`))
+		.join('');
 }
 
 /** Checks the shape, then every cross-reference; returns all problems at once, each naming its path. */
 export function parseProblem(input: unknown): Parsed {
 	const shaped = problemSchema.safeParse(input);
 	if (!shaped.success) {
-		return { ok: false, problems: shaped.error.issues.map((issue) => `${pathText(issue.path) || '(problem)'}: ${issue.message}`) };
+		return {
+			ok: false,
+			problems: shaped.error.issues.map((issue) => `${pathText(issue.path) || '(problem)'}: ${issue.message}`)
+		};
 	}
 	const problem = shaped.data;
 	const problems: string[] = [];
@@ -149,18 +182,26 @@ export function parseProblem(input: unknown): Parsed {
 	});
 	const pairs = new Set<string>();
 	problem.bids.forEach((bid, b) => {
-		if (!suppliers.has(bid.supplier)) problems.push(`bids[${b}].supplier: unknown supplier "${bid.supplier}"`);
+		if (!suppliers.has(bid.supplier))
+			problems.push(`bids[${b}].supplier: unknown supplier "${bid.supplier}"`);
 		if (!items.has(bid.item)) problems.push(`bids[${b}].item: unknown item "${bid.item}"`);
 		const pair = JSON.stringify([bid.supplier, bid.item]);
-		if (pairs.has(pair)) problems.push(`bids[${b}]: a second bid by "${bid.supplier}" for "${bid.item}" (one bid per supplier and item)`);
+		if (pairs.has(pair))
+			problems.push(
+				`bids[${b}]: a second bid by "${bid.supplier}" for "${bid.item}" (one bid per supplier and item)`
+			);
 		pairs.add(pair);
 		let previous = { fromQuantity: 0, unitPrice: bid.unitPrice };
 		bid.priceBreaks?.forEach((priceBreak, k) => {
 			if (priceBreak.fromQuantity <= previous.fromQuantity) {
-				problems.push(`bids[${b}].priceBreaks[${k}].fromQuantity: must be greater than the previous break's (${previous.fromQuantity})`);
+				problems.push(
+					`bids[${b}].priceBreaks[${k}].fromQuantity: must be greater than the previous break's (${previous.fromQuantity})`
+				);
 			}
 			if (priceBreak.unitPrice > previous.unitPrice) {
-				problems.push(`bids[${b}].priceBreaks[${k}].unitPrice: must not be above the previous price (${previous.unitPrice})`);
+				problems.push(
+					`bids[${b}].priceBreaks[${k}].unitPrice: must not be above the previous price (${previous.unitPrice})`
+				);
 			}
 			previous = priceBreak;
 		});
@@ -169,31 +210,39 @@ export function parseProblem(input: unknown): Parsed {
 	problem.bundles.forEach((bundle, k) => {
 		if (bundleRefs.has(bundle.ref)) problems.push(`bundles[${k}].ref: duplicate ref "${bundle.ref}"`);
 		bundleRefs.add(bundle.ref);
-		if (!suppliers.has(bundle.supplier)) problems.push(`bundles[${k}].supplier: unknown supplier "${bundle.supplier}"`);
+		if (!suppliers.has(bundle.supplier))
+			problems.push(`bundles[${k}].supplier: unknown supplier "${bundle.supplier}"`);
 		const seen = new Set<string>();
 		bundle.items.forEach((line, j) => {
 			const demand = items.get(line.item);
 			if (demand === undefined) problems.push(`bundles[${k}].items[${j}].item: unknown item "${line.item}"`);
 			else if (line.quantity > demand) {
-				problems.push(`bundles[${k}].items[${j}].quantity: ${line.quantity} exceeds the item's quantity ${demand}`);
+				problems.push(
+					`bundles[${k}].items[${j}].quantity: ${line.quantity} exceeds the item's quantity ${demand}`
+				);
 			}
-			if (seen.has(line.item)) problems.push(`bundles[${k}].items[${j}].item: "${line.item}" appears twice in the bundle`);
+			if (seen.has(line.item))
+				problems.push(`bundles[${k}].items[${j}].item: "${line.item}" appears twice in the bundle`);
 			seen.add(line.item);
 		});
 	});
 	problem.rules.forEach((rule, r) => {
 		if ('scope' in rule && typeof rule.scope === 'object') {
-			if ('item' in rule.scope && !items.has(rule.scope.item)) problems.push(`rules[${r}].scope.item: unknown item "${rule.scope.item}"`);
-			if ('lot' in rule.scope && !lots.has(rule.scope.lot)) problems.push(`rules[${r}].scope.lot: unknown lot "${rule.scope.lot}"`);
+			if ('item' in rule.scope && !items.has(rule.scope.item))
+				problems.push(`rules[${r}].scope.item: unknown item "${rule.scope.item}"`);
+			if ('lot' in rule.scope && !lots.has(rule.scope.lot))
+				problems.push(`rules[${r}].scope.lot: unknown lot "${rule.scope.lot}"`);
 		}
 		if ('who' in rule && typeof rule.who === 'object') {
 			if ('supplier' in rule.who && !suppliers.has(rule.who.supplier)) {
 				problems.push(`rules[${r}].who.supplier: unknown supplier "${rule.who.supplier}"`);
 			}
-			if ('tag' in rule.who && !tags.has(rule.who.tag)) problems.push(`rules[${r}].who.tag: no supplier has the tag "${rule.who.tag}"`);
+			if ('tag' in rule.who && !tags.has(rule.who.tag))
+				problems.push(`rules[${r}].who.tag: no supplier has the tag "${rule.who.tag}"`);
 		}
 	});
-	if (problem.bids.length === 0 && problem.bundles.length === 0) problems.push('bids: there are no bids to award');
+	if (problem.bids.length === 0 && problem.bundles.length === 0)
+		problems.push('bids: there are no bids to award');
 	return problems.length ? { ok: false, problems } : { ok: true, problem };
 }
 

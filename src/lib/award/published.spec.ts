@@ -105,7 +105,14 @@ describe('published examples', () => {
 				rows: [
 					{ lower: -Infinity, upper: 4, terms: [[0, 1]] },
 					{ lower: -Infinity, upper: 12, terms: [[1, 2]] },
-					{ lower: -Infinity, upper: 18, terms: [[0, 3], [1, 2]] }
+					{
+						lower: -Infinity,
+						upper: 18,
+						terms: [
+							[0, 3],
+							[1, 2]
+						]
+					}
 				]
 			}),
 			{}
@@ -126,9 +133,31 @@ describe('published examples', () => {
 				colLower: [28.6, 0, 0, 18],
 				colUpper: [Infinity, Infinity, Infinity, 48.98],
 				rows: [
-					{ lower: 92.3, upper: Infinity, terms: [[1, 78.26], [3, 2.9]] },
-					{ lower: -Infinity, upper: 14.8, terms: [[0, 0.24], [2, 11.31]] },
-					{ lower: 4, upper: Infinity, terms: [[0, 12.68], [2, 0.08], [3, 0.9]] }
+					{
+						lower: 92.3,
+						upper: Infinity,
+						terms: [
+							[1, 78.26],
+							[3, 2.9]
+						]
+					},
+					{
+						lower: -Infinity,
+						upper: 14.8,
+						terms: [
+							[0, 0.24],
+							[2, 11.31]
+						]
+					},
+					{
+						lower: 4,
+						upper: Infinity,
+						terms: [
+							[0, 12.68],
+							[2, 0.08],
+							[3, 0.9]
+						]
+					}
 				]
 			}),
 			{}
@@ -141,7 +170,10 @@ describe('published examples', () => {
 	it('solves Netlib AFIRO through the runner to -464.75314286', async () => {
 		// Netlib LP test set, AFIRO: optimal objective -4.6475314286E+02 (Netlib lp/data readme)
 		const highs = await loadHighs();
-		const reader = highs.createModel({ format: 'mps', data: readFileSync('tests/fixtures/afiro.mps') } as never);
+		const reader = highs.createModel({
+			format: 'mps',
+			data: readFileSync('tests/fixtures/afiro.mps')
+		} as never);
 		const lp = reader.getLp('csc');
 		reader.dispose();
 		const model: AwardModel = {

@@ -63,7 +63,9 @@ export function awardLines(problem: AwardProblem, model: AwardModel, columns: Fl
 		});
 	}
 	const order = new Map(problem.items.map((item, index) => [item.ref, index]));
-	return lines.sort((a, b) => order.get(a.item)! - order.get(b.item)! || a.supplier.localeCompare(b.supplier));
+	return lines.sort(
+		(a, b) => order.get(a.item)! - order.get(b.item)! || a.supplier.localeCompare(b.supplier)
+	);
 }
 
 export function supplierTotals(lines: AwardLine[]): SupplierTotal[] {

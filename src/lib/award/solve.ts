@@ -11,7 +11,8 @@ export interface SolveOptions {
 	relax?: boolean;
 }
 
-export type SolveStatus = 'optimal' | 'feasible' | 'infeasible' | 'unbounded' | 'no_solution_in_time' | 'solver_error';
+export type SolveStatus =
+	'optimal' | 'feasible' | 'infeasible' | 'unbounded' | 'no_solution_in_time' | 'solver_error';
 
 export interface SolveOutcome {
 	status: SolveStatus;
@@ -70,9 +71,17 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 		};
 		const base = { isMip, seconds, rowDuals: null, reducedCosts: null };
 		if (code === codes.empty) {
-			return { ...base, status: 'optimal', objective: 0, bound: 0, gap: 0, columns: new Float64Array(model.numCols) };
+			return {
+				...base,
+				status: 'optimal',
+				objective: 0,
+				bound: 0,
+				gap: 0,
+				columns: new Float64Array(model.numCols)
+			};
 		}
-		if (code === codes.infeasible) return { ...base, status: 'infeasible', objective: null, bound: null, gap: null, columns: null };
+		if (code === codes.infeasible)
+			return { ...base, status: 'infeasible', objective: null, bound: null, gap: null, columns: null };
 		if (code === codes.unbounded || code === codes.unboundedOrInfeasible) {
 			return { ...base, status: 'unbounded', objective: null, bound: null, gap: null, columns: null };
 		}
@@ -103,9 +112,24 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 			};
 		}
 		if (code === codes.timeLimit || code === codes.iterationLimit || code === codes.interrupted) {
-			return { ...base, status: 'no_solution_in_time', objective: null, bound: info('mip_dual_bound'), gap: null, columns: null };
+			return {
+				...base,
+				status: 'no_solution_in_time',
+				objective: null,
+				bound: info('mip_dual_bound'),
+				gap: null,
+				columns: null
+			};
 		}
-		return { ...base, status: 'solver_error', objective: null, bound: null, gap: null, columns: null, message: `HiGHS model status ${code}` };
+		return {
+			...base,
+			status: 'solver_error',
+			objective: null,
+			bound: null,
+			gap: null,
+			columns: null,
+			message: `HiGHS model status ${code}`
+		};
 	} finally {
 		instance.dispose();
 	}

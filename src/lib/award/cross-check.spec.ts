@@ -1,0 +1,357 @@
+// Seeded random award problems using every rule kind, price breaks and bundles, solved by the engine
+// (HiGHS) and by glpk.js through a formulation written separately here, row by row with named
+// variables. Both must reach the same optimum; the engine's allocation must pass the independent checker.
+import GLPK, { type LP } from 'glpk.js/node';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { solveAward } from './engine';
+import { generateProblem, seededRandom } from './generate';
+import { SolverPool } from './pool';
+import type { AwardProblem, AwardRule } from './problem';
+
+type Glpk = Awaited<ReturnType<typeof GLPK>>;
+let glpk: Glpk;
+const pool = new SolverPool({ size: 2 });
+beforeAll(async () => {
+	glpk = await GLPK();
+});
+afterAll(() => pool.close());
+
+/** The award problem in glpk.js's own terms; shares the engine's definitions, none of its code. */
+function glpkFormulation(problem: AwardProblem, g: Glpk): LP {
+	const rows: LP['subjectTo'] = [];
+	const objective: { name: string; coef: number }[] = [];
+	const bounds: NonNullable<LP['bounds']> = [];
+	const binaries: string[] = [];
+	const up = (ub: number) => ({ type: g.GLP_UP, ub, lb: 0 });
+	const lo = (lb: number) => ({ type: g.GLP_LO, ub: 0, lb });
+	const fx = (v: number) => ({ type: g.GLP_FX, ub: v, lb: v });
+	const demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
+	const qty = new Map<string, { name: string; coef: number }[]>(); // "s|i" -> quantity terms
+	const cost = new Map<string, { name: string; coef: number }[]>(); // "s|i" -> spend terms
+	const push = (
+		m: Map<string, { name: string; coef: number }[]>,
+		k: string,
+		t: { name: string; coef: number }
+	) => m.set(k, [...(m.get(k) ?? []), t]);
+	const cap = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
+	let n = 0;
+	problem.bids.forEach((bid) => {
+		const k = `${bid.supplier}|${bid.item}`;
+		const limit = Math.min(bid.maxQuantity ?? Infinity, demand.get(bid.item)!, cap.get(bid.supplier)!);
+		const steps = [
+			{ from: 0, price: bid.unitPrice },
+			...(bid.priceBreaks ?? []).map((p) => ({ from: p.fromQuantity, price: p.unitPrice }))
+		].filter((s) => s.from <= limit);
+		const choose: { name: string; coef: number }[] = [];
+		steps.forEach((step, t) => {
+			const x = `q${n++}`;
+			const hi = Math.min(steps[t + 1]?.from ?? Infinity, limit);
+			objective.push({ name: x, coef: step.price });
+			push(qty, k, { name: x, coef: 1 });
+			push(cost, k, { name: x, coef: step.price });
+			if (steps.length === 1) {
+				bounds.push({ name: x, type: g.GLP_DB, lb: 0, ub: hi });
+				return;
+			}
+			const on = `on${n++}`;
+			binaries.push(on);
+			choose.push({ name: on, coef: 1 });
+			rows.push({
+				name: `r${n++}`,
+				vars: [
+					{ name: x, coef: 1 },
+					{ name: on, coef: -step.from }
+				],
+				bnds: lo(0)
+			});
+			rows.push({
+				name: `r${n++}`,
+				vars: [
+					{ name: x, coef: 1 },
+					{ name: on, coef: -hi }
+				],
+				bnds: up(0)
+			});
+		});
+		if (choose.length) rows.push({ name: `r${n++}`, vars: choose, bnds: up(1) });
+	});
+	problem.bundles.forEach((bundle) => {
+		const w = `b${n++}`;
+		binaries.push(w);
+		objective.push({ name: w, coef: bundle.price });
+		const weight = bundle.items.map(
+			(l) => l.quantity * (problem.items.find((i) => i.ref === l.item)!.baselineUnitPrice ?? 1)
+		);
+		const total = weight.reduce((a, b) => a + b, 0);
+		bundle.items.forEach((line, j) => {
+			push(qty, `${bundle.supplier}|${line.item}`, { name: w, coef: line.quantity });
+			push(cost, `${bundle.supplier}|${line.item}`, { name: w, coef: (bundle.price * weight[j]!) / total });
+		});
+	});
+	const items = problem.items
+		.map((i) => i.ref)
+		.filter((i) => [...qty.keys()].some((k) => k.endsWith(`|${i}`)));
+	const sups = problem.suppliers.map((s) => s.ref);
+	const merge = (terms: { name: string; coef: number }[]) => {
+		const m = new Map<string, number>();
+		for (const t of terms) m.set(t.name, (m.get(t.name) ?? 0) + t.coef);
+		return [...m].map(([name, coef]) => ({ name, coef }));
+	};
+	const q = (ss: string[], is: string[]) =>
+		merge(ss.flatMap((s) => is.flatMap((i) => qty.get(`${s}|${i}`) ?? [])));
+	const spend = (ss: string[], is: string[], f = 1) =>
+		merge(ss.flatMap((s) => is.flatMap((i) => cost.get(`${s}|${i}`) ?? []))).map((t) => ({
+			...t,
+			coef: t.coef * f
+		}));
+	for (const i of items) rows.push({ name: `cover_${n++}`, vars: q(sups, [i]), bnds: fx(demand.get(i)!) });
+	for (const s of problem.suppliers)
+		if (s.capacity !== undefined && q([s.ref], items).length)
+			rows.push({ name: `cap${n++}`, vars: q([s.ref], items), bnds: up(s.capacity) });
+
+	const needsWins = problem.rules.some(
+		(r) => r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost'
+	);
+	const win = new Map<string, string>();
+	if (needsWins) {
+		for (const k of qty.keys()) {
+			const [s, i] = k.split('|') as [string, string];
+			if (!items.includes(i)) continue;
+			const y = `y${n++}`;
+			binaries.push(y);
+			win.set(k, y);
+			const ceiling = Math.min(
+				demand.get(i)!,
+				(problem.bids.find((b) => b.supplier === s && b.item === i)
+					? Math.min(
+							problem.bids.find((b) => b.supplier === s && b.item === i)!.maxQuantity ?? Infinity,
+							demand.get(i)!,
+							cap.get(s)!
+						)
+					: 0) +
+					problem.bundles
+						.filter((b) => b.supplier === s)
+						.flatMap((b) => b.items)
+						.filter((l) => l.item === i)
+						.reduce((a, l) => a + l.quantity, 0)
+			);
+			rows.push({ name: `w${n++}`, vars: [...q([s], [i]), { name: y, coef: -ceiling }], bnds: up(0) });
+			rows.push({
+				name: `w${n++}`,
+				vars: [...q([s], [i]), { name: y, coef: -Math.min(1, ceiling) }],
+				bnds: lo(0)
+			});
+		}
+	}
+	const groupsOf = (
+		scope: AwardRule extends infer R ? (R extends { scope: infer S } ? S : never) : never
+	): string[][] => {
+		if (scope === 'each_item') return items.map((i) => [i]);
+		if (scope === 'event') return [items];
+		if ('item' in scope) return items.includes(scope.item) ? [[scope.item]] : [];
+		return [items.filter((i) => problem.items.find((x) => x.ref === i)!.lot === scope.lot)];
+	};
+	const whoOf = (who: 'each_supplier' | { supplier: string } | { tag: string }): string[][] =>
+		who === 'each_supplier'
+			? sups.map((s) => [s])
+			: 'supplier' in who
+				? [[who.supplier]]
+				: [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
+	const anyWin = new Map<string, string>();
+	const groupWin = (s: string, key: string, is: string[]) => {
+		const k = `${s}#${key}`;
+		if (anyWin.has(k)) return anyWin.get(k)!;
+		const ys = is.map((i) => win.get(`${s}|${i}`)).filter((y): y is string => Boolean(y));
+		if (!ys.length) return null;
+		const v = `v${n++}`;
+		binaries.push(v);
+		anyWin.set(k, v);
+		for (const y of ys)
+			rows.push({
+				name: `g${n++}`,
+				vars: [
+					{ name: y, coef: 1 },
+					{ name: v, coef: -1 }
+				],
+				bnds: up(0)
+			});
+		rows.push({
+			name: `g${n++}`,
+			vars: [{ name: v, coef: 1 }, ...ys.map((y) => ({ name: y, coef: -1 }))],
+			bnds: up(0)
+		});
+		return v;
+	};
+	for (const rule of problem.rules) {
+		if (rule.type === 'max_share' || rule.type === 'min_share') {
+			const perItem = rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope);
+			const basis = rule.basis ?? (perItem ? 'quantity' : 'spend');
+			for (const is of groupsOf(rule.scope))
+				for (const ss of whoOf(rule.who)) {
+					if (!is.length || !ss.length) continue;
+					const p = rule.percent / 100;
+					const vars = basis === 'quantity' ? q(ss, is) : merge([...spend(ss, is), ...spend(sups, is, -p)]);
+					const rhs = basis === 'quantity' ? p * is.reduce((a, i) => a + demand.get(i)!, 0) : 0;
+					if (!vars.length) {
+						if (rule.type === 'min_share' && rhs > 0)
+							rows.push({ name: `bad${n++}`, vars: [{ name: 'never', coef: 1 }], bnds: fx(-1) });
+						continue;
+					}
+					rows.push({ name: `s${n++}`, vars, bnds: rule.type === 'max_share' ? up(rhs) : lo(rhs) });
+				}
+		}
+		if (rule.type === 'min_award')
+			for (const is of groupsOf(rule.scope))
+				for (const ss of whoOf(rule.who))
+					for (const s of ss)
+						for (const i of is) {
+							const y = win.get(`${s}|${i}`);
+							if (!y) continue;
+							const m = Math.min(
+								demand.get(i)!,
+								rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * demand.get(i)!
+							);
+							rows.push({ name: `m${n++}`, vars: [...q([s], [i]), { name: y, coef: -m }], bnds: lo(0) });
+						}
+		if (rule.type === 'supplier_count')
+			for (const is of groupsOf(rule.scope)) {
+				if (!is.length) continue;
+				const single =
+					is.length === 1 &&
+					(rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope));
+				const vars = sups
+					.map((s) =>
+						single ? (win.get(`${s}|${is[0]}`) ?? null) : groupWin(s, JSON.stringify(rule.scope), is)
+					)
+					.filter((v): v is string => v !== null)
+					.map((name) => ({ name, coef: 1 }));
+				const lb = rule.min ?? 0;
+				const ub = rule.max ?? 1e9;
+				rows.push({
+					name: `c${n++}`,
+					vars: vars.length ? vars : [{ name: 'zero', coef: 1 }],
+					bnds: { type: g.GLP_DB, lb, ub }
+				});
+			}
+		if (rule.type === 'max_spend')
+			for (const is of groupsOf(rule.scope))
+				for (const ss of whoOf(rule.who))
+					if (spend(ss, is).length)
+						rows.push({ name: `sp${n++}`, vars: spend(ss, is), bnds: up(rule.amount) });
+		if (rule.type === 'exclude')
+			for (const is of groupsOf(rule.scope))
+				for (const ss of whoOf(rule.who))
+					if (q(ss, is).length) rows.push({ name: `x${n++}`, vars: q(ss, is), bnds: up(0) });
+		if (rule.type === 'award_fixed_cost') {
+			if (rule.per === 'supplier_item')
+				for (const y of win.values()) objective.push({ name: y, coef: rule.amount });
+			else
+				for (const s of sups) {
+					const v = groupWin(s, '"event"', items);
+					if (v) objective.push({ name: v, coef: rule.amount });
+				}
+		}
+	}
+	bounds.push(
+		{ name: 'zero', type: g.GLP_FX, lb: 0, ub: 0 },
+		{ name: 'never', type: g.GLP_FX, lb: 0, ub: 0 }
+	);
+	return {
+		name: 'award',
+		objective: { direction: g.GLP_MIN, name: 'cost', vars: merge(objective) },
+		subjectTo: rows,
+		bounds,
+		binaries
+	};
+}
+
+const ruleMenu = (random: () => number, problem: AwardProblem): AwardRule[] => {
+	const pick = <T>(list: T[]) => list[Math.floor(random() * list.length)]!;
+	const supplier = pick(problem.suppliers).ref;
+	const item = pick(problem.items).ref;
+	const all: AwardRule[] = [
+		{
+			type: 'max_share',
+			scope: 'each_item',
+			who: 'each_supplier',
+			percent: pick([60, 70, 80]),
+			label: 'share cap'
+		},
+		{ type: 'max_share', scope: { lot: 'L1' }, who: { supplier }, percent: 50, label: 'lot spend cap' },
+		{
+			type: 'min_share',
+			scope: 'event',
+			who: { tag: 'small_business' },
+			percent: pick([10, 15]),
+			label: 'small-business floor'
+		},
+		{
+			type: 'min_award',
+			scope: 'each_item',
+			who: 'each_supplier',
+			percentOfItem: pick([10, 20]),
+			label: 'minimum award'
+		},
+		{ type: 'supplier_count', scope: 'each_item', max: pick([2, 3]), label: 'at most n per item' },
+		{ type: 'supplier_count', scope: { item }, min: 2, label: 'dual source one item' },
+		{ type: 'supplier_count', scope: 'event', max: problem.suppliers.length - 1, label: 'fewer suppliers' },
+		{ type: 'max_spend', scope: 'event', who: { supplier }, amount: 20_000, label: 'spend cap' },
+		{ type: 'exclude', scope: { item }, who: { supplier }, label: 'exclusion' },
+		{
+			type: 'award_fixed_cost',
+			amount: pick([200, 500]),
+			per: pick(['supplier', 'supplier_item'] as const),
+			label: 'award cost'
+		}
+	];
+	return all.filter(() => random() < 0.45);
+};
+
+const cases = Array.from({ length: 24 }, (_, k) => {
+	const seed = 1000 + k;
+	const problem = generateProblem({
+		items: 5 + (k % 4),
+		suppliers: 3 + (k % 3),
+		seed,
+		lots: 2,
+		priceBreaks: true,
+		bundles: k % 3 === 0 ? 1 : 0,
+		capacity: k % 2 === 0
+	});
+	problem.rules = ruleMenu(seededRandom(seed * 7), problem);
+	return { seed, problem };
+});
+
+describe('the engine against glpk.js on seeded random problems', () => {
+	it.each(cases)('reaches the same optimum as glpk.js (seed $seed)', async ({ problem }) => {
+		const mine = await solveAward(problem, pool, { gap: 1e-9 });
+		const theirs = glpk.solve(glpkFormulation(problem, glpk), { msglev: glpk.GLP_MSG_OFF, mipgap: 0 });
+		const glpkOptimal = theirs.result.status === glpk.GLP_OPT;
+		if (!glpkOptimal) {
+			expect(theirs.result.status).toBe(glpk.GLP_NOFEAS);
+			expect(mine.status).toBe('infeasible');
+			return;
+		}
+		expect(mine.status).toBe('optimal');
+		expect(Math.abs(mine.totalCost! - theirs.result.z) / Math.max(1, Math.abs(theirs.result.z))).toBeLessThan(
+			1e-6
+		);
+		expect(mine.violations).toEqual([]);
+	});
+
+	it('covers every rule kind, price breaks and bundles across the cases', () => {
+		const kinds = new Set(cases.flatMap((c) => c.problem.rules.map((r) => r.type)));
+		expect([...kinds].sort()).toEqual([
+			'award_fixed_cost',
+			'exclude',
+			'max_share',
+			'max_spend',
+			'min_award',
+			'min_share',
+			'supplier_count'
+		]);
+		expect(cases.some((c) => c.problem.bundles.length > 0)).toBe(true);
+		expect(cases.some((c) => c.problem.bids.some((b) => b.priceBreaks?.length))).toBe(true);
+		expect(cases.some((c) => c.problem.suppliers.some((s) => s.capacity !== undefined))).toBe(true);
+	});
+});

@@ -1,0 +1,216 @@
+import { afterAll, describe, expect, it } from 'vitest';
+import { solveAward } from './engine';
+import { generateProblem } from './generate';
+import { SolverPool } from './pool';
+import { parseProblem, type AwardProblem } from './problem';
+
+const pool = new SolverPool({ size: 2 });
+afterAll(() => pool.close());
+
+function problemOf(input: unknown): AwardProblem {
+	const parsed = parseProblem(input);
+	if (!parsed.ok) throw new Error(parsed.problems.join('\n'));
+	return parsed.problem;
+}
+
+const twoBidders = (extra: Partial<AwardProblem> = {}) =>
+	problemOf({
+		currency: 'EUR',
+		items: [
+			{ ref: 'IT-17', quantity: 1000, baselineUnitPrice: 5 },
+			{ ref: 'IT-18', quantity: 400, baselineUnitPrice: 2 }
+		],
+		suppliers: [{ ref: 'S1' }, { ref: 'S2' }, { ref: 'S4', capacity: 100 }],
+		bids: [
+			{ supplier: 'S1', item: 'IT-17', unitPrice: 4 },
+			{ supplier: 'S2', item: 'IT-17', unitPrice: 4.5, maxQuantity: 250 },
+			{ supplier: 'S4', item: 'IT-18', unitPrice: 1.5 },
+			{ supplier: 'S1', item: 'IT-18', unitPrice: 1.9 }
+		],
+		...extra
+	});
+
+describe('award results', () => {
+	it('reports the allocation, totals per supplier, savings against baseline and the model size', async () => {
+		const result = await solveAward(twoBidders(), pool);
+		expect(result.status).toBe('optimal');
+		expect(result.awards).toEqual([
+			{ supplier: 'S1', item: 'IT-17', quantity: 1000, unitPrice: 4, cost: 4000 },
+			{ supplier: 'S1', item: 'IT-18', quantity: 300, unitPrice: 1.9, cost: 570 },
+			{ supplier: 'S4', item: 'IT-18', quantity: 100, unitPrice: 1.5, cost: 150 }
+		]);
+		expect(result.totalCost).toBe(4720);
+		expect(result.baselineCost).toBe(5800);
+		expect(result.savings).toBe(1080);
+		expect(result.supplierTotals).toEqual([
+			{ supplier: 'S1', quantity: 1300, cost: 4570, items: 2 },
+			{ supplier: 'S4', quantity: 100, cost: 150, items: 1 }
+		]);
+		expect(result.modelSize).toMatchObject({ integers: 0 });
+		expect(result.modelSize.rows).toBeGreaterThan(0);
+	});
+
+	it('lists an item with no bid, with the reason, and leaves it out of the cover rule', async () => {
+		const problem = twoBidders({ items: [...twoBidders().items, { ref: 'IT-99', quantity: 5 }] });
+		const result = await solveAward(problem, pool);
+		expect(result.status).toBe('optimal');
+		expect(result.uncoveredItems).toEqual([{ item: 'IT-99', reason: 'no bid or bundle offers this item' }]);
+	});
+
+	it('applies an all-units price break to the whole quantity once it is reached', async () => {
+		const result = await solveAward(
+			problemOf({
+				currency: 'EUR',
+				items: [{ ref: 'A', quantity: 600 }],
+				suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+				bids: [
+					{ supplier: 'S1', item: 'A', unitPrice: 4, priceBreaks: [{ fromQuantity: 500, unitPrice: 3.5 }] },
+					{ supplier: 'S2', item: 'A', unitPrice: 3.8 }
+				],
+				rules: [{ type: 'max_share', scope: 'each_item', who: { supplier: 'S2' }, percent: 100 }]
+			}),
+			pool
+		);
+		expect(result.awards).toEqual([{ supplier: 'S1', item: 'A', quantity: 600, unitPrice: 3.5, cost: 2100 }]);
+	});
+
+	it('takes a bundle whole or not at all, and shows it as its items', async () => {
+		const result = await solveAward(
+			problemOf({
+				currency: 'EUR',
+				items: [
+					{ ref: 'TRAY', quantity: 100, baselineUnitPrice: 3 },
+					{ ref: 'LID', quantity: 100, baselineUnitPrice: 1 }
+				],
+				suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+				bids: [
+					{ supplier: 'S1', item: 'TRAY', unitPrice: 3 },
+					{ supplier: 'S1', item: 'LID', unitPrice: 1 }
+				],
+				bundles: [
+					{
+						ref: 'B1',
+						supplier: 'S2',
+						price: 360,
+						items: [
+							{ item: 'TRAY', quantity: 100 },
+							{ item: 'LID', quantity: 100 }
+						]
+					}
+				]
+			}),
+			pool
+		);
+		expect(result.totalCost).toBe(360);
+		expect(result.awards.map((a) => [a.item, a.quantity, a.bundle])).toEqual([
+			['TRAY', 100, 'B1'],
+			['LID', 100, 'B1']
+		]);
+		expect(result.awards.reduce((a, l) => a + l.cost, 0)).toBeCloseTo(360, 9);
+	});
+
+	it('gives names that would break an LP file no special meaning', async () => {
+		const result = await solveAward(
+			problemOf({
+				currency: 'EUR',
+				items: [
+					{ ref: 'item-1', quantity: 10 },
+					{ ref: 'inf', quantity: 10 },
+					{ ref: '1abc', quantity: 10 }
+				],
+				suppliers: [{ ref: 'st' }, { ref: 'x[1]' }],
+				bids: ['item-1', 'inf', '1abc'].flatMap((item, k) => [
+					{ supplier: 'st', item, unitPrice: 1 + k },
+					{ supplier: 'x[1]', item, unitPrice: 2 }
+				])
+			}),
+			pool
+		);
+		expect(result.status).toBe('optimal');
+		expect(result.totalCost).toBe(10 * 1 + 10 * 2 + 10 * 2);
+	});
+});
+
+describe('rule costs', () => {
+	it('are real solves, never negative for restricting rules, with cumulative costs in the rules order', async () => {
+		const problem = generateProblem({ items: 8, suppliers: 4, seed: 77, lots: 2, capacity: false });
+		problem.rules = [
+			{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 70, label: 'Cap 70%' },
+			{ type: 'supplier_count', scope: 'each_item', max: 2, label: 'At most two' },
+			{ type: 'award_fixed_cost', amount: 300, per: 'supplier', label: 'Cost per contract' }
+		];
+		const result = await solveAward(problem, pool, { explain: true });
+		expect(result.status).toBe('optimal');
+		expect(result.ruleCosts).toHaveLength(3);
+		for (const cost of result.ruleCosts!) expect(cost.cost!).toBeGreaterThanOrEqual(-1e-6);
+		const noRules = await solveAward({ ...problem, rules: [] }, pool);
+		const cumulative = result.ruleCosts!.reduce((a, c) => a + c.cumulativeCost!, 0);
+		expect(cumulative).toBeCloseTo(result.totalCost! - noRules.totalCost!, 6);
+		expect(result.ruleCosts![0]!.label).toBe('Cap 70%');
+	});
+});
+
+describe('conflicts', () => {
+	it('names the share cap that must rise, and by how much, when the rules cannot all hold', async () => {
+		const problem = twoBidders({
+			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60, label: 'Cap 60%' }]
+		});
+		const result = await solveAward(problem, pool, { explain: true });
+		expect(result.status).toBe('infeasible');
+		// S2 can supply only 250 of 1000, so S1 needs 750: 75%
+		expect(result.conflicts!.map((c) => c.text)).toContain(
+			'the 60% share cap on IT-17 (Cap 60%) must rise to 75%'
+		);
+	});
+
+	it('names a capacity that is short', async () => {
+		const problem = twoBidders({
+			bids: twoBidders().bids.filter((b) => !(b.supplier === 'S1' && b.item === 'IT-18'))
+		});
+		const result = await solveAward(problem, pool, { explain: true });
+		expect(result.status).toBe('infeasible');
+		expect(result.conflicts!.map((c) => c.text)).toContain("S4's capacity is 300 short");
+	});
+});
+
+describe('sensitivity', () => {
+	it('says below which price a losing bid would start to win', async () => {
+		const result = await solveAward(twoBidders(), pool, { explain: true });
+		const losing = result.sensitivity!.losingBids.find((b) => b.supplier === 'S2');
+		expect(result.sensitivity!.local).toBe(false);
+		expect(losing).toMatchObject({ item: 'IT-17', unitPrice: 4.5, winsBelow: 4 });
+		expect(losing!.text).toBe('S2 would start to win IT-17 below 4 EUR');
+	});
+
+	it('flags shadow prices of a MIP as local', async () => {
+		const problem = twoBidders({ rules: [{ type: 'supplier_count', scope: 'each_item', max: 1 }] });
+		const result = await solveAward(problem, pool, { explain: true });
+		expect(result.method).not.toBe('lp');
+		expect(result.sensitivity!.local).toBe(true);
+	});
+});
+
+describe('decomposition', () => {
+	it('gives the same optimum split into independent item groups as solved whole', async () => {
+		for (const seed of [5, 6, 7, 8]) {
+			const problem = generateProblem({
+				items: 12,
+				suppliers: 5,
+				seed,
+				lots: 3,
+				priceBreaks: true,
+				capacity: false
+			});
+			problem.rules = [
+				{ type: 'min_award', scope: 'each_item', who: 'each_supplier', percentOfItem: 20 },
+				{ type: 'supplier_count', scope: 'each_item', max: 2 }
+			];
+			const whole = await solveAward(problem, pool, { method: 'monolithic', gap: 1e-9 });
+			const split = await solveAward(problem, pool, { method: 'decomposed', gap: 1e-9 });
+			expect(split.method).toBe('decomposed');
+			expect(whole.method).toBe('mip');
+			expect(split.totalCost!).toBeCloseTo(whole.totalCost!, 6);
+			expect(split.violations).toEqual([]);
+		}
+	});
+});

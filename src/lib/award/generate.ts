@@ -1,0 +1,102 @@
+// Seeded, invented award problems for tests and benchmarks (never for the demo, never real data).
+import type { AwardProblem, AwardRule } from './problem';
+
+/** mulberry32: a small, well-known seeded generator, so every run sees the same problems. */
+export function seededRandom(seed: number): () => number {
+	let state = seed >>> 0;
+	return () => {
+		state = (state + 0x6d2b79f5) >>> 0;
+		let t = state;
+		t = Math.imul(t ^ (t >>> 15), t | 1);
+		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+	};
+}
+
+export interface GenerateOptions {
+	items: number;
+	suppliers: number;
+	seed: number;
+	/** Share of suppliers bidding on each item. */
+	bidShare?: number;
+	lots?: number;
+	priceBreaks?: boolean;
+	bundles?: number;
+	capacity?: boolean;
+	rules?: AwardRule[];
+}
+
+export function generateProblem(options: GenerateOptions): AwardProblem {
+	const random = seededRandom(options.seed);
+	const between = (low: number, high: number) => low + (high - low) * random();
+	const lots = options.lots ?? Math.max(1, Math.round(options.items / 50));
+	const items = Array.from({ length: options.items }, (_, i) => ({
+		ref: `IT-${i + 1}`,
+		quantity: Math.round(between(50, 2000)),
+		lot: `L${(i % lots) + 1}`,
+		baselineUnitPrice: Math.round(between(2, 40) * 100) / 100
+	}));
+	const suppliers = Array.from({ length: options.suppliers }, (_, s) => ({
+		ref: `S${s + 1}`,
+		...(s % 3 === 0 ? { tags: ['small_business'] } : {}),
+		...(s === 1 ? { tags: ['incumbent'] } : {})
+	}));
+	const bids: AwardProblem['bids'] = [];
+	const share = options.bidShare ?? 0.7;
+	for (const item of items) {
+		const bidders = suppliers.filter(() => random() < share);
+		if (bidders.length === 0) bidders.push(suppliers[Math.floor(random() * suppliers.length)]!);
+		for (const supplier of bidders) {
+			const unitPrice = Math.round(item.baselineUnitPrice * between(0.75, 1.15) * 100) / 100;
+			const bid: AwardProblem['bids'][number] = { supplier: supplier.ref, item: item.ref, unitPrice };
+			if (random() < 0.2) bid.maxQuantity = Math.round(item.quantity * between(0.3, 0.9));
+			if (options.priceBreaks && random() < 0.3) {
+				const from = Math.round(item.quantity * between(0.2, 0.6));
+				bid.priceBreaks = [
+					{ fromQuantity: Math.max(1, from), unitPrice: Math.round(unitPrice * 0.95 * 100) / 100 }
+				];
+			}
+			bids.push(bid);
+		}
+	}
+	const withCapacity = suppliers.map((s) => {
+		if (!options.capacity) return s;
+		const offered = bids
+			.filter((b) => b.supplier === s.ref)
+			.reduce((a, b) => a + items.find((i) => i.ref === b.item)!.quantity, 0);
+		return { ...s, capacity: Math.round(offered * between(0.4, 0.8)) };
+	});
+	const bundles: AwardProblem['bundles'] = [];
+	for (let k = 0; k < (options.bundles ?? 0) && items.length >= 2; k++) {
+		const first = Math.floor(random() * (items.length - 1));
+		const lines = [items[first]!, items[first + 1]!];
+		const supplier = suppliers[Math.floor(random() * suppliers.length)]!.ref;
+		const value = lines.reduce((a, i) => a + i.quantity * i.baselineUnitPrice, 0);
+		bundles.push({
+			ref: `B${k + 1}`,
+			supplier,
+			price: Math.round(value * between(0.8, 0.95) * 100) / 100,
+			items: lines.map((i) => ({ item: i.ref, quantity: i.quantity }))
+		});
+	}
+	return { currency: 'EUR', items, suppliers: withCapacity, bids, bundles, rules: options.rules ?? [] };
+}
+
+/** The rules of the benchmark: max 60% share, minimum award 20% of the item, at most 3 suppliers per item. */
+export const benchmarkRules: AwardRule[] = [
+	{
+		type: 'max_share',
+		scope: 'each_item',
+		who: 'each_supplier',
+		percent: 60,
+		label: 'No supplier over 60% of an item'
+	},
+	{
+		type: 'min_award',
+		scope: 'each_item',
+		who: 'each_supplier',
+		percentOfItem: 20,
+		label: 'Awards of at least 20% of an item'
+	},
+	{ type: 'supplier_count', scope: 'each_item', max: 3, label: 'At most 3 suppliers per item' }
+];
