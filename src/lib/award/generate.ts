@@ -59,13 +59,13 @@ export function generateProblem(options: GenerateOptions): AwardProblem {
 			bids.push(bid);
 		}
 	}
-	const withCapacity = suppliers.map((s) => {
-		if (!options.capacity) return s;
-		const offered = bids
-			.filter((b) => b.supplier === s.ref)
-			.reduce((a, b) => a + items.find((i) => i.ref === b.item)!.quantity, 0);
-		return { ...s, capacity: Math.round(offered * between(0.4, 0.8)) };
-	});
+	const quantityOf = new Map(items.map((i) => [i.ref, i.quantity]));
+	const offered = new Map<string, number>();
+	for (const bid of bids)
+		offered.set(bid.supplier, (offered.get(bid.supplier) ?? 0) + quantityOf.get(bid.item)!);
+	const withCapacity = suppliers.map((s) =>
+		options.capacity ? { ...s, capacity: Math.round((offered.get(s.ref) ?? 0) * between(0.4, 0.8)) } : s
+	);
 	const bundles: AwardProblem['bundles'] = [];
 	for (let k = 0; k < (options.bundles ?? 0) && items.length >= 2; k++) {
 		const first = Math.floor(random() * (items.length - 1));

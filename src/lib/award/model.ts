@@ -50,16 +50,16 @@ export interface BuildOptions {
 	withoutRules?: ReadonlySet<number>;
 }
 
-type Terms = Map<number, number>;
+/** Linear terms as flat (column, coefficient) pairs; repeated columns are summed when the model is finished. */
+type Terms = number[];
 
 function addTerm(terms: Terms, column: number, coefficient: number): void {
-	if (coefficient === 0) return;
-	terms.set(column, (terms.get(column) ?? 0) + coefficient);
+	if (coefficient !== 0) terms.push(column, coefficient);
 }
 
 function addAll(into: Terms, from: Terms | undefined, factor = 1): void {
 	if (!from) return;
-	for (const [column, coefficient] of from) addTerm(into, column, coefficient * factor);
+	for (let k = 0; k < from.length; k += 2) addTerm(into, from[k]!, from[k + 1]! * factor);
 }
 
 class Builder {
@@ -93,18 +93,34 @@ class Builder {
 	finish(uncovered: AwardModel['uncovered'], elastic: boolean): AwardModel {
 		const numCols = this.columns.length;
 		const numRows = this.rows.length;
+		// Sum repeated columns within each row (a bundle's column can reach a row through several items).
+		const mark = new Int32Array(numCols).fill(-1);
+		const at = new Int32Array(numCols);
+		const merged: Terms[] = this.rowTerms.map((terms, row) => {
+			const out: number[] = [];
+			for (let k = 0; k < terms.length; k += 2) {
+				const column = terms[k]!;
+				if (mark[column] === row) out[at[column]! + 1]! += terms[k + 1]!;
+				else {
+					mark[column] = row;
+					at[column] = out.length;
+					out.push(column, terms[k + 1]!);
+				}
+			}
+			return out;
+		});
 		const counts = new Int32Array(numCols + 1);
-		for (const terms of this.rowTerms) for (const column of terms.keys()) counts[column + 1]! += 1;
+		for (const terms of merged) for (let k = 0; k < terms.length; k += 2) counts[terms[k]! + 1]! += 1;
 		for (let j = 0; j < numCols; j++) counts[j + 1]! += counts[j]!;
 		const starts = Int32Array.from(counts);
 		const next = Int32Array.from(counts.subarray(0, numCols));
 		const indices = new Int32Array(starts[numCols]!);
 		const values = new Float64Array(starts[numCols]!);
-		this.rowTerms.forEach((terms, row) => {
-			for (const [column, coefficient] of terms) {
-				const at = next[column]!++;
-				indices[at] = row;
-				values[at] = coefficient;
+		merged.forEach((terms, row) => {
+			for (let k = 0; k < terms.length; k += 2) {
+				const position = next[terms[k]!]!++;
+				indices[position] = row;
+				values[position] = terms[k + 1]!;
 			}
 		});
 		return {
@@ -143,19 +159,33 @@ export function unitPriceAt(bid: AwardProblem['bids'][number], quantity: number)
 	return price;
 }
 
+/** An item's reference unit price: its baseline, else the mean of its bids' unit prices, else 1. */
+export function referencePrices(problem: AwardProblem): Map<string, number> {
+	const sums = new Map<string, { total: number; count: number }>();
+	for (const bid of problem.bids) {
+		const entry = sums.get(bid.item) ?? { total: 0, count: 0 };
+		entry.total += bid.unitPrice;
+		entry.count += 1;
+		sums.set(bid.item, entry);
+	}
+	const reference = new Map<string, number>();
+	for (const item of problem.items) {
+		const mean = sums.get(item.ref);
+		reference.set(item.ref, item.baselineUnitPrice ?? ((mean && mean.total / mean.count) || 1));
+	}
+	return reference;
+}
+
+const referenceCache = new WeakMap<AwardProblem, Map<string, number>>();
+
 /** Weights that split a bundle's price over its items: quantity times a reference price of the item. */
 export function bundleShares(
 	problem: AwardProblem,
 	bundle: AwardProblem['bundles'][number]
 ): Map<string, number> {
-	const reference = new Map<string, number>();
-	for (const item of problem.items)
-		if (item.baselineUnitPrice !== undefined) reference.set(item.ref, item.baselineUnitPrice);
-	const weights = bundle.items.map((line) => {
-		const prices = problem.bids.filter((b) => b.item === line.item).map((b) => b.unitPrice);
-		const fallback = prices.length ? prices.reduce((a, b) => a + b, 0) / prices.length : 1;
-		return line.quantity * (reference.get(line.item) ?? (fallback || 1));
-	});
+	let reference = referenceCache.get(problem);
+	if (!reference) referenceCache.set(problem, (reference = referencePrices(problem)));
+	const weights = bundle.items.map((line) => line.quantity * (reference.get(line.item) || 1));
 	const total = weights.reduce((a, b) => a + b, 0);
 	return new Map(
 		bundle.items.map((line, j) => [line.item, total > 0 ? weights[j]! / total : 1 / bundle.items.length])
@@ -170,15 +200,32 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
 	const capacity = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
 
-	// q(s,i) and spend(s,i) as linear terms, keyed "s\u0000i".
-	const key = (s: string, i: string) => `${s}\u0000${i}`;
-	const quantityTerms = new Map<string, Terms>();
-	const spendTerms = new Map<string, Terms>();
-	const upperOf = new Map<string, number>();
-	const termsFor = (store: Map<string, Terms>, s: string, i: string) => {
-		let found = store.get(key(s, i));
-		if (!found) store.set(key(s, i), (found = new Map()));
-		return found;
+	// q(s,i) and spend(s,i) as linear terms, keyed by supplier and item position.
+	const supplierIndex = new Map(problem.suppliers.map((s, k) => [s.ref, k]));
+	const itemIndex = new Map(problem.items.map((i, k) => [i.ref, k]));
+	const itemCount = problem.items.length;
+	const key = (s: string, i: string) => supplierIndex.get(s)! * itemCount + itemIndex.get(i)!;
+	const quantityTerms = new Map<number, Terms>();
+	const spendTerms = new Map<number, Terms>();
+	const upperOf = new Map<number, number>();
+	const offered = new Set<string>();
+	const suppliersOfItem = new Map<string, string[]>();
+	const pairsOfSupplier: number[][] = problem.suppliers.map(() => []);
+	/** The quantity and spend terms of a supplier and item, made on first use. */
+	const pairTerms = (s: string, i: string): { k: number; quantity: Terms; spend: Terms } => {
+		const k = key(s, i);
+		let quantity = quantityTerms.get(k);
+		if (!quantity) {
+			quantityTerms.set(k, (quantity = []));
+			spendTerms.set(k, []);
+			upperOf.set(k, 0);
+			offered.add(i);
+			let list = suppliersOfItem.get(i);
+			if (!list) suppliersOfItem.set(i, (list = []));
+			list.push(s);
+			pairsOfSupplier[supplierIndex.get(s)!]!.push(k);
+		}
+		return { k, quantity, spend: spendTerms.get(k)! };
 	};
 
 	const tierUsedRows: Terms[] = [];
@@ -188,11 +235,10 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		// big-M (as column bounds they would distort the duals). The relaxation lets capacity give way.
 		const bidLimit = bid.maxQuantity ?? Infinity;
 		const ceiling = Math.min(bidLimit, d, elastic ? Infinity : (capacity.get(bid.supplier) ?? Infinity));
-		const tiers = tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9);
-		const quantity = termsFor(quantityTerms, bid.supplier, bid.item);
-		const spend = termsFor(spendTerms, bid.supplier, bid.item);
-		upperOf.set(key(bid.supplier, bid.item), (upperOf.get(key(bid.supplier, bid.item)) ?? 0) + ceiling);
-		if (tiers.length === 1) {
+		const tiers = bid.priceBreaks?.length ? tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9) : null;
+		const { k, quantity, spend } = pairTerms(bid.supplier, bid.item);
+		upperOf.set(k, upperOf.get(k)! + ceiling);
+		if (!tiers || tiers.length === 1) {
 			const x = m.column(
 				{ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice },
 				bid.unitPrice,
@@ -203,7 +249,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 			addTerm(spend, x, bid.unitPrice);
 			return;
 		}
-		const oneTier: Terms = new Map();
+		const oneTier: Terms = [];
 		tiers.forEach((tier, t) => {
 			const top = Math.min(tiers[t + 1]?.from ?? Infinity, ceiling);
 			const x = m.column(
@@ -214,24 +260,8 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 			);
 			const z = m.column({ kind: 'tier_used', bid: b, tier: t }, 0, 0, 1, true);
 			// from[t]·z[b,t] <= x[b,t] <= top[t]·z[b,t]: a tier's price applies only to quantities in its range
-			m.row(
-				{ kind: 'structure' },
-				new Map([
-					[x, 1],
-					[z, -tier.from]
-				]),
-				0,
-				Infinity
-			);
-			m.row(
-				{ kind: 'structure' },
-				new Map([
-					[x, 1],
-					[z, -top]
-				]),
-				-Infinity,
-				0
-			);
+			m.row({ kind: 'structure' }, [x, 1, z, -tier.from], 0, Infinity);
+			m.row({ kind: 'structure' }, [x, 1, z, -top], -Infinity, 0);
 			addTerm(oneTier, z, 1);
 			addTerm(quantity, x, 1);
 			addTerm(spend, x, tier.unitPrice);
@@ -245,40 +275,24 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const w = m.column({ kind: 'bundle', bundle: k }, bundle.price, 0, 1, true);
 		const shares = bundleShares(problem, bundle);
 		for (const line of bundle.items) {
-			addTerm(termsFor(quantityTerms, bundle.supplier, line.item), w, line.quantity);
-			addTerm(termsFor(spendTerms, bundle.supplier, line.item), w, bundle.price * shares.get(line.item)!);
-			upperOf.set(
-				key(bundle.supplier, line.item),
-				(upperOf.get(key(bundle.supplier, line.item)) ?? 0) + line.quantity
-			);
+			const pair = pairTerms(bundle.supplier, line.item);
+			addTerm(pair.quantity, w, line.quantity);
+			addTerm(pair.spend, w, bundle.price * shares.get(line.item)!);
+			upperOf.set(pair.k, upperOf.get(pair.k)! + line.quantity);
 		}
 	});
 
-	const offered = new Set<string>();
-	for (const k of quantityTerms.keys()) offered.add(k.split('\u0000')[1]!);
 	const uncovered = problem.items
 		.filter((i) => !offered.has(i.ref))
 		.map((i) => ({ item: i.ref, reason: 'no bid or bundle offers this item' }));
 	const coveredItems = problem.items.filter((i) => offered.has(i.ref));
-	const suppliersOfItem = new Map<string, string[]>();
-	for (const k of quantityTerms.keys()) {
-		const [s, i] = k.split('\u0000') as [string, string];
-		suppliersOfItem.set(i, [...(suppliersOfItem.get(i) ?? []), s]);
-	}
 
 	// In the feasibility relaxation a slack of one unit costs its priority (rules give way before
 	// capacities, capacities before covering the demand); spend is turned into units at the items'
 	// reference price, and one supplier more or less weighs like the group's average demand.
 	const slackRows: { row: number; direction: 1 | -1; weight: number }[] = [];
 	const priority = { rule: 1, capacity: 2, cover: 4, structure: 1 };
-	const referencePrice = new Map<string, number>();
-	for (const item of problem.items) {
-		const prices = problem.bids.filter((b) => b.item === item.ref).map((b) => b.unitPrice);
-		referencePrice.set(
-			item.ref,
-			item.baselineUnitPrice ?? (prices.length ? prices.reduce((a, b) => a + b, 0) / prices.length : 1)
-		);
-	}
+	const referencePrice = referencePrices(problem);
 	const unitWeight = (meaning: RowMeaning): number => {
 		if (meaning.kind !== 'rule' || meaning.unit === 'quantity') return 1;
 		const items = meaning.items.length ? meaning.items : [...demand.keys()];
@@ -299,7 +313,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 
 	// Σ_s q(s,i) = d[i]: cover the demand of every item that has an offer
 	for (const item of coveredItems) {
-		const terms: Terms = new Map();
+		const terms: Terms = [];
 		for (const s of suppliersOfItem.get(item.ref)!) addAll(terms, quantityTerms.get(key(s, item.ref)));
 		elasticRow({ kind: 'cover', item: item.ref }, terms, item.quantity, item.quantity);
 	}
@@ -307,9 +321,9 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	// Σ_i q(s,i) <= K[s]: supplier capacity in units over all items
 	for (const supplier of problem.suppliers) {
 		if (supplier.capacity === undefined) continue;
-		const terms: Terms = new Map();
-		for (const item of coveredItems) addAll(terms, quantityTerms.get(key(supplier.ref, item.ref)));
-		if (terms.size)
+		const terms: Terms = [];
+		for (const k of pairsOfSupplier[supplierIndex.get(supplier.ref)!]!) addAll(terms, quantityTerms.get(k));
+		if (terms.length)
 			elasticRow({ kind: 'capacity', supplier: supplier.ref }, terms, -Infinity, supplier.capacity);
 	}
 
@@ -335,16 +349,16 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const isItemScope = (scope: Scope) =>
 		scope === 'each_item' || (typeof scope === 'object' && 'item' in scope);
 
-	const sum = (store: Map<string, Terms>, suppliers: string[], items: string[], factor = 1) => {
-		const terms: Terms = new Map();
+	const sum = (store: Map<number, Terms>, suppliers: string[], items: string[], factor = 1) => {
+		const terms: Terms = [];
 		for (const s of suppliers) for (const i of items) addAll(terms, store.get(key(s, i)), factor);
 		return terms;
 	};
 	const everyone = problem.suppliers.map((s) => s.ref);
 
 	// y[s,i] and v[s,G], made once when a rule needs them.
-	const wins = new Map<string, number>();
-	const minimumOf = new Map<string, number>();
+	const wins = new Map<number, number>();
+	const minimumOf = new Map<number, number>();
 	for (const { rule } of rules) {
 		if (rule.type !== 'min_award') continue;
 		for (const items of scopeGroups(rule.scope))
@@ -366,13 +380,13 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		wins.set(k, y);
 		const q = quantityTerms.get(k)!;
 		// q(s,i) <= U[s,i]·y[s,i]: any award sets y
-		const over: Terms = new Map();
+		const over: Terms = [];
 		addAll(over, q);
 		addTerm(over, y, -upper);
 		m.row({ kind: 'structure' }, over, -Infinity, 0);
 		// q(s,i) >= m[s,i]·y[s,i]: a win is at least one unit (or the whole of a smaller item)
 		const floor = Math.min(1, upper);
-		const under: Terms = new Map();
+		const under: Terms = [];
 		addAll(under, q);
 		addTerm(under, y, -floor);
 		m.row({ kind: 'structure' }, under, 0, Infinity);
@@ -380,7 +394,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	};
 	const groupWins = new Map<string, number>();
 	const winsGroupColumn = (s: string, group: string, items: string[]): number | null => {
-		const k = key(s, group);
+		const k = `${s}\u0000${group}`;
 		const found = groupWins.get(k);
 		if (found !== undefined) return found;
 		const ys = items.map((i) => winsColumn(s, i)).filter((y): y is number => y !== null);
@@ -388,17 +402,8 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const v = m.column({ kind: 'wins_group', supplier: s, group }, 0, 0, 1, true);
 		groupWins.set(k, v);
 		// y[s,i] <= v[s,G] for i in G, and v[s,G] <= Σ_i y[s,i]
-		for (const y of ys)
-			m.row(
-				{ kind: 'structure' },
-				new Map([
-					[y, 1],
-					[v, -1]
-				]),
-				-Infinity,
-				0
-			);
-		const some: Terms = new Map([[v, 1]]);
+		for (const y of ys) m.row({ kind: 'structure' }, [y, 1, v, -1], -Infinity, 0);
+		const some: Terms = [v, 1];
 		for (const y of ys) addTerm(some, y, -1);
 		m.row({ kind: 'structure' }, some, -Infinity, 0);
 		return v;
@@ -430,7 +435,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 							// Σ_{s∈W} Σ_{i∈G} q(s,i) <= p·Σ_{i∈G} d[i]  (>= for a share floor)
 							terms = sum(quantityTerms, suppliers, items);
 							const total = items.reduce((a, i) => a + demand.get(i)!, 0);
-							if (!terms.size && rule.type === 'max_share') continue;
+							if (!terms.length && rule.type === 'max_share') continue;
 							if (rule.type === 'max_share')
 								elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, p * total);
 							else elasticRow(meaning(items, suppliers, 'quantity'), terms, p * total, Infinity);
@@ -454,7 +459,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 							for (const i of items) {
 								const y = winsColumn(s, i);
 								if (y === null) continue;
-								const terms: Terms = new Map();
+								const terms: Terms = [];
 								addAll(terms, quantityTerms.get(key(s, i)));
 								addTerm(terms, y, -minimumOf.get(key(s, i))!);
 								elasticRow(meaning([i], [s], 'quantity'), terms, 0, Infinity);
@@ -465,7 +470,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				// L <= Σ_s y[s,i] <= U per item; over a lot or the event with v[s,G]
 				for (const items of scopeGroups(rule.scope)) {
 					if (!items.length) continue;
-					const terms: Terms = new Map();
+					const terms: Terms = [];
 					const bidders = [...new Set(items.flatMap((i) => suppliersOfItem.get(i) ?? []))];
 					for (const s of bidders) {
 						const column =
@@ -483,7 +488,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				for (const items of scopeGroups(rule.scope))
 					for (const suppliers of whoGroups(rule.who)) {
 						const terms = sum(spendTerms, suppliers, items);
-						if (terms.size) elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, rule.amount);
+						if (terms.length) elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, rule.amount);
 					}
 				break;
 			}
@@ -492,7 +497,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				for (const items of scopeGroups(rule.scope))
 					for (const suppliers of whoGroups(rule.who)) {
 						const terms = sum(quantityTerms, suppliers, items);
-						if (terms.size) elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, 0);
+						if (terms.length) elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, 0);
 					}
 				break;
 			}
