@@ -61,14 +61,40 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 			violations.push(`bundle ${ref} costs ${cost}, not its price ${bundle.price}`);
 	}
 
+	// Totals by supplier and item, so every rule is checked by lookups rather than scans.
+	const pairQuantity = new Map<string, number>();
+	const pairSpend = new Map<string, number>();
+	const itemQuantity = new Map<string, number>();
+	const itemSpend = new Map<string, number>();
+	const itemWinners = new Map<string, Set<string>>();
+	const supplierQuantity = new Map<string, number>();
+	const add = (m: Map<string, number>, k: string, v: number) => m.set(k, (m.get(k) ?? 0) + v);
+	for (const l of lines) {
+		add(pairQuantity, `${l.supplier}|${l.item}`, l.quantity);
+		add(pairSpend, `${l.supplier}|${l.item}`, l.cost);
+		add(itemQuantity, l.item, l.quantity);
+		add(itemSpend, l.item, l.cost);
+		add(supplierQuantity, l.supplier, l.quantity);
+		if (l.quantity > TOLERANCE) {
+			let winners = itemWinners.get(l.item);
+			if (!winners) itemWinners.set(l.item, (winners = new Set()));
+			winners.add(l.supplier);
+		}
+	}
 	const quantity = (s: string | null, items: string[]) =>
-		lines
-			.filter((l) => (s === null || l.supplier === s) && items.includes(l.item))
-			.reduce((a, l) => a + l.quantity, 0);
+		items.reduce(
+			(a, i) => a + (s === null ? (itemQuantity.get(i) ?? 0) : (pairQuantity.get(`${s}|${i}`) ?? 0)),
+			0
+		);
 	const spend = (suppliers: string[] | null, items: string[]) =>
-		lines
-			.filter((l) => (suppliers === null || suppliers.includes(l.supplier)) && items.includes(l.item))
-			.reduce((a, l) => a + l.cost, 0);
+		items.reduce(
+			(a, i) =>
+				a +
+				(suppliers === null
+					? (itemSpend.get(i) ?? 0)
+					: suppliers.reduce((b, s) => b + (pairSpend.get(`${s}|${i}`) ?? 0), 0)),
+			0
+		);
 
 	for (const item of problem.items) {
 		if (uncovered.has(item.ref)) {
@@ -81,7 +107,7 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 	}
 	for (const supplier of problem.suppliers) {
 		if (supplier.capacity === undefined) continue;
-		const used = lines.filter((l) => l.supplier === supplier.ref).reduce((a, l) => a + l.quantity, 0);
+		const used = supplierQuantity.get(supplier.ref) ?? 0;
 		if (!atMost(used, supplier.capacity))
 			violations.push(`${supplier.ref} gets ${used} units, above its capacity ${supplier.capacity}`);
 	}
@@ -99,8 +125,7 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 		return [problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref)];
 	};
 	const demand = (items: string[]) => items.reduce((a, i) => a + itemOf.get(i)!.quantity, 0);
-	const winners = (items: string[]) =>
-		new Set(lines.filter((l) => items.includes(l.item) && l.quantity > TOLERANCE).map((l) => l.supplier));
+	const winners = (items: string[]) => new Set(items.flatMap((i) => [...(itemWinners.get(i) ?? [])]));
 
 	problem.rules.forEach((rule, r) => {
 		const name = rule.label ?? `rule ${r + 1} (${rule.type})`;

@@ -1,6 +1,6 @@
 import { afterAll, describe, expect, it } from 'vitest';
-import { solveAward } from './engine';
-import { generateProblem } from './generate';
+import { FULL_MIP_MAX_INTEGERS, solveAward } from './engine';
+import { benchmarkRules, generateProblem } from './generate';
 import { SolverPool } from './pool';
 import { parseProblem, type AwardProblem } from './problem';
 
@@ -212,5 +212,42 @@ describe('decomposition', () => {
 			expect(split.totalCost!).toBeCloseTo(whole.totalCost!, 6);
 			expect(split.violations).toEqual([]);
 		}
+	});
+});
+
+describe('the LP-guided method for large models', () => {
+	it('keeps every rule and proves its gap against a valid lower bound, agreeing with the full MIP', async () => {
+		const problem = generateProblem({
+			items: 120,
+			suppliers: 8,
+			seed: 21,
+			capacity: true,
+			rules: benchmarkRules
+		});
+		const full = await solveAward(problem, pool, { method: 'monolithic', gap: 1e-6 });
+		const guided = await solveAward(problem, pool, { method: 'lp_guided', gap: 1e-6 });
+		expect(full.status).toBe('optimal');
+		expect(guided.method).toBe('lp_guided');
+		expect(guided.violations).toEqual([]);
+		// a lower bound never exceeds a feasible cost, and each method's answer lies within its own gap
+		expect(guided.bound!).toBeLessThanOrEqual(full.totalCost! * (1 + 1e-9));
+		expect(full.bound!).toBeLessThanOrEqual(guided.totalCost! * (1 + 1e-9));
+		expect(guided.gap!).toBeGreaterThanOrEqual(0);
+		expect((guided.totalCost! - guided.bound!) / guided.totalCost!).toBeCloseTo(guided.gap!, 9);
+	});
+
+	it('is chosen by default above the full-MIP size', async () => {
+		const problem = generateProblem({
+			items: 600,
+			suppliers: 16,
+			seed: 2,
+			capacity: true,
+			rules: benchmarkRules
+		});
+		const result = await solveAward(problem, pool, { gap: 1e-4 });
+		expect(result.modelSize.integers).toBeGreaterThan(FULL_MIP_MAX_INTEGERS);
+		expect(result.method).toBe('lp_guided');
+		expect(result.violations).toEqual([]);
+		expect(result.gap!).toBeLessThanOrEqual(1e-3);
 	});
 });

@@ -3,7 +3,8 @@
 // the Solver it is given (the worker pool in the app, one in-process instance in tests and the CLI).
 import { allocationCost, checkAllocation } from './check';
 import { buildModel, type AwardModel } from './model';
-import type { AwardProblem, AwardRule } from './problem';
+import { lpGuidedApplies, solveLpGuided } from './lp-guided';
+import { restrictToItems, type AwardProblem, type AwardRule } from './problem';
 import { awardLines, baselineCost, supplierTotals, type AwardLine, type SupplierTotal } from './result';
 import type { SolveOptions, SolveOutcome, SolveStatus } from './solve';
 
@@ -11,11 +12,17 @@ export interface Solver {
 	solve(model: AwardModel, options: SolveOptions): Promise<SolveOutcome>;
 }
 
-export type Method = 'lp' | 'mip' | 'decomposed';
+export type Method = 'lp' | 'mip' | 'decomposed' | 'lp_guided';
+
+/** Above this many integer choices (in one group of linked items) the LP-guided method replaces the full MIP. */
+export const FULL_MIP_MAX_INTEGERS = 5_000;
 
 export interface AwardOptions extends SolveOptions {
-	/** `auto` splits the items into independent groups when there is more than one and integers are needed. */
-	method?: 'auto' | 'monolithic' | 'decomposed';
+	/**
+	 * `auto`: independent item groups are solved apart when integers are needed; a single large group
+	 * goes LP-guided. `monolithic` always solves one full model.
+	 */
+	method?: 'auto' | 'monolithic' | 'decomposed' | 'lp_guided';
 	explain?: boolean;
 }
 
@@ -107,19 +114,6 @@ export function independentItemGroups(model: AwardModel, problem: AwardProblem):
 	return [...groups.values()];
 }
 
-export function restrictToItems(problem: AwardProblem, items: string[]): AwardProblem {
-	const keep = new Set(items);
-	return {
-		...problem,
-		items: problem.items.filter((i) => keep.has(i.ref)),
-		bids: problem.bids.filter((b) => keep.has(b.item)),
-		bundles: problem.bundles.filter((b) => b.items.every((l) => keep.has(l.item))),
-		rules: problem.rules.filter(
-			(r) => !('scope' in r) || typeof r.scope !== 'object' || !('item' in r.scope) || keep.has(r.scope.item)
-		)
-	};
-}
-
 interface Solved {
 	status: SolveStatus;
 	method: Method;
@@ -173,6 +167,15 @@ async function solveOnce(
 			model,
 			outcome: null
 		};
+	}
+	const guided =
+		model.integers > 0 &&
+		lpGuidedApplies(model) &&
+		(options.method === 'lp_guided' ||
+			((options.method ?? 'auto') === 'auto' && model.integers > FULL_MIP_MAX_INTEGERS));
+	if (guided) {
+		const outcome = await solveLpGuided(problem, solver, options, model);
+		return { ...outcome, method: 'lp_guided', model, outcome: null };
 	}
 	const outcome = await solver.solve(model, options);
 	const usable = outcome.status === 'optimal' || outcome.status === 'feasible';

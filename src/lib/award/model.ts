@@ -302,6 +302,15 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		return units / Math.max(1e-9, value);
 	};
 	const elasticRow = (meaning: RowMeaning, terms: Terms, lower: number, upper: number) => {
+		// A rule on one continuous column (a share cap of one supplier on one item) is a bound, not a row:
+		// the model stays small. The relaxation keeps it a row so that it can give way.
+		const single = terms.length === 2 && terms[1]! > 0 && !m.integer[terms[0]!];
+		if (!elastic && meaning.kind === 'rule' && single) {
+			const [column, coefficient] = [terms[0]!, terms[1]!];
+			m.upper[column] = Math.min(m.upper[column]!, upper / coefficient);
+			m.lower[column] = Math.max(m.lower[column]!, lower / coefficient);
+			return -1;
+		}
 		const row = m.row(meaning, terms, lower, upper);
 		if (elastic) {
 			const weight = priority[meaning.kind] * unitWeight(meaning);

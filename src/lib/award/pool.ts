@@ -37,10 +37,10 @@ export class SolveCancelled extends Error {
 	}
 }
 
-export function assertSolvable(model: AwardModel): void {
+export function assertSolvable(model: AwardModel, options: SolveOptions = {}): void {
 	const entries = model.indices.length;
 	const tooBig =
-		model.integers > 0
+		model.integers > 0 && !options.relax
 			? entries > LIMITS.mipEntries || model.integers > LIMITS.mipIntegers
 			: entries > LIMITS.lpEntries;
 	if (tooBig) throw new ModelTooLarge(entries, model.integers);
@@ -100,7 +100,7 @@ export class SolverPool implements Solver {
 	solve(model: AwardModel, options: SolveOptions, signal?: AbortSignal): Promise<SolveOutcome> {
 		if (this.closed) return Promise.reject(new Error('the solver pool is closed'));
 		try {
-			assertSolvable(model);
+			assertSolvable(model, options);
 		} catch (error) {
 			return Promise.reject(error as Error);
 		}

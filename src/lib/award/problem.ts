@@ -246,6 +246,20 @@ export function parseProblem(input: unknown): Parsed {
 	return problems.length ? { ok: false, problems } : { ok: true, problem };
 }
 
+/** The same problem over some items only: their bids, the bundles wholly inside them, the rules that apply. */
+export function restrictToItems(problem: AwardProblem, items: string[]): AwardProblem {
+	const keep = new Set(items);
+	return {
+		...problem,
+		items: problem.items.filter((i) => keep.has(i.ref)),
+		bids: problem.bids.filter((b) => keep.has(b.item)),
+		bundles: problem.bundles.filter((b) => b.items.every((l) => keep.has(l.item))),
+		rules: problem.rules.filter(
+			(r) => !('scope' in r) || typeof r.scope !== 'object' || !('item' in r.scope) || keep.has(r.scope.item)
+		)
+	};
+}
+
 /** The input contract as JSON Schema (draft 2020-12), for docs/ and for API clients. */
 export function problemJsonSchema(): unknown {
 	return z.toJSONSchema(problemSchema, { io: 'input', unrepresentable: 'any' });
