@@ -190,6 +190,27 @@ describe('sensitivity', () => {
 	});
 });
 
+describe('shadow prices', () => {
+	it('equal the change of the optimum when a binding capacity moves by one (LP duality)', async () => {
+		const problem = generateProblem({ items: 30, suppliers: 6, seed: 11, bidShare: 1 });
+		// the two biggest winners get 80% of what they win without a capacity: both bind
+		const free = await solveAward(problem, pool);
+		for (const total of free.supplierTotals.slice(0, 2)) {
+			problem.suppliers.find((s) => s.ref === total.supplier)!.capacity = Math.floor(total.quantity * 0.8);
+		}
+		const base = await solveAward(problem, pool, { explain: true });
+		expect(base.status).toBe('optimal');
+		const binding = base.sensitivity!.capacityPrices.filter((p) => p.valuePerUnit > 1e-9);
+		expect(binding.length).toBeGreaterThan(0);
+		for (const price of binding) {
+			const more = structuredClone(problem);
+			more.suppliers.find((s) => s.ref === price.supplier)!.capacity! += 1;
+			const after = await solveAward(more, pool);
+			expect(base.totalCost! - after.totalCost!).toBeCloseTo(price.valuePerUnit, 6);
+		}
+	});
+});
+
 describe('decomposition', () => {
 	it('gives the same optimum split into independent item groups as solved whole', async () => {
 		for (const seed of [5, 6, 7, 8]) {

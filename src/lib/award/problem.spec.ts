@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { parseProblem, problemJsonSchema } from './problem';
 
@@ -99,5 +100,12 @@ describe('award problem validation', () => {
 		expect(schema.type).toBe('object');
 		expect(schema.required).toEqual(expect.arrayContaining(['currency', 'items', 'suppliers', 'bids']));
 		expect(schema.required).not.toContain('rules');
+	});
+});
+
+describe('the published JSON Schema', () => {
+	it('matches the schema in docs/ (run npm run award:schema after changing the contract)', () => {
+		const published = JSON.parse(readFileSync('docs/award-problem.schema.json', 'utf8'));
+		expect(published).toEqual(problemJsonSchema());
 	});
 });
