@@ -3,7 +3,7 @@
 // the Solver it is given (the worker pool in the app, one in-process instance in tests and the CLI).
 import { allocationCost, checkAllocation } from './check';
 import { buildModel, type AwardModel } from './model';
-import { lpGuidedApplies, solveLpGuided } from './lp-guided';
+import { integerEstimate, lpGuidedAppliesTo, solveLpGuided } from './lp-guided';
 import { restrictToItems, type AwardProblem, type AwardRule } from './problem';
 import { awardLines, baselineCost, supplierTotals, type AwardLine, type SupplierTotal } from './result';
 import type { SolveOptions, SolveOutcome, SolveStatus } from './solve';
@@ -122,7 +122,9 @@ interface Solved {
 	gap: number | null;
 	lines: AwardLine[];
 	seconds: number;
-	model: AwardModel;
+	model: AwardModel | null;
+	uncovered: { item: string; reason: string }[];
+	modelSize: { rows: number; columns: number; integers: number };
 	outcome: SolveOutcome | null;
 }
 
@@ -132,7 +134,21 @@ async function solveOnce(
 	options: AwardOptions,
 	withoutRules?: Set<number>
 ): Promise<Solved> {
+	const effective = withoutRules?.size
+		? { ...problem, rules: problem.rules.filter((_, r) => !withoutRules.has(r)) }
+		: problem;
+	const integers = integerEstimate(effective);
+	const guided =
+		integers > 0 &&
+		lpGuidedAppliesTo(effective) &&
+		(options.method === 'lp_guided' ||
+			((options.method ?? 'auto') === 'auto' && integers > FULL_MIP_MAX_INTEGERS));
+	if (guided) {
+		const outcome = await solveLpGuided(effective, solver, options);
+		return { ...outcome, method: 'lp_guided', model: null, outcome: null };
+	}
 	const model = buildModel(problem, { withoutRules });
+	const sizeOf = { rows: model.numRows, columns: model.numCols, integers: model.integers };
 	const wantSplit =
 		options.method === 'decomposed' || (options.method !== 'monolithic' && model.integers > 0);
 	const groups = wantSplit ? independentItemGroups(model, problem) : [];
@@ -165,17 +181,10 @@ async function solveOnce(
 			lines: usable ? parts.flatMap((p) => awardLines(p.part, p.partModel, p.outcome.columns!)) : [],
 			seconds: parts.reduce((a, p) => Math.max(a, p.outcome.seconds), 0),
 			model,
+			uncovered: model.uncovered,
+			modelSize: sizeOf,
 			outcome: null
 		};
-	}
-	const guided =
-		model.integers > 0 &&
-		lpGuidedApplies(model) &&
-		(options.method === 'lp_guided' ||
-			((options.method ?? 'auto') === 'auto' && model.integers > FULL_MIP_MAX_INTEGERS));
-	if (guided) {
-		const outcome = await solveLpGuided(problem, solver, options, model);
-		return { ...outcome, method: 'lp_guided', model, outcome: null };
 	}
 	const outcome = await solver.solve(model, options);
 	const usable = outcome.status === 'optimal' || outcome.status === 'feasible';
@@ -188,6 +197,8 @@ async function solveOnce(
 		lines: usable ? awardLines(problem, model, outcome.columns!) : [],
 		seconds: outcome.seconds,
 		model,
+		uncovered: model.uncovered,
+		modelSize: sizeOf,
 		outcome
 	};
 }
@@ -201,8 +212,7 @@ export async function solveAward(
 	options: AwardOptions = {}
 ): Promise<AwardResult> {
 	const solved = await solveOnce(problem, solver, options);
-	const { model } = solved;
-	const uncovered = new Set(model.uncovered.map((u) => u.item));
+	const uncovered = new Set(solved.uncovered.map((u) => u.item));
 	const usable = solved.status === 'optimal' || solved.status === 'feasible';
 	const baseline = baselineCost(problem, uncovered);
 	const total = usable ? allocationCost(problem, solved.lines) : null;
@@ -217,9 +227,9 @@ export async function solveAward(
 		gap: solved.gap,
 		awards: solved.lines,
 		supplierTotals: supplierTotals(solved.lines),
-		uncoveredItems: model.uncovered,
+		uncoveredItems: solved.uncovered,
 		solveSeconds: solved.seconds,
-		modelSize: { rows: model.numRows, columns: model.numCols, integers: model.integers },
+		modelSize: solved.modelSize,
 		violations: usable ? checkAllocation(problem, solved.lines, uncovered) : []
 	};
 	if (!options.explain) return result;
@@ -337,9 +347,9 @@ async function sensitivity(
 	options: AwardOptions,
 	solved: Solved
 ): Promise<Sensitivity> {
-	let model = solved.model;
+	let model = solved.model ?? buildModel(problem);
 	let outcome = solved.outcome;
-	const local = model.integers > 0 || solved.method === 'decomposed';
+	const local = model.integers > 0 || solved.method === 'decomposed' || solved.method === 'lp_guided';
 	if (local || !outcome?.rowDuals) {
 		// Duals of the LP with every integer fixed at its value in the solution: valid only near it.
 		const fixed = buildModel(problem);

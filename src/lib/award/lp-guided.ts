@@ -6,7 +6,7 @@
 import { allocationCost } from './check';
 import type { Solver } from './engine';
 import { buildModel, type AwardModel } from './model';
-import { restrictToItems, type AwardProblem } from './problem';
+import type { AwardProblem, Scope, Who } from './problem';
 import { awardLines, type AwardLine } from './result';
 import type { SolveOptions, SolveOutcome, SolveStatus } from './solve';
 
@@ -21,75 +21,138 @@ export interface GuidedOutcome {
 	lines: AwardLine[];
 	seconds: number;
 	repairedItems: number;
+	modelSize: { rows: number; columns: number; integers: number };
+	uncovered: { item: string; reason: string }[];
 }
 
-/** Whether the only rows joining items are capacities: rules over a lot or the event need the full MIP. */
-export function lpGuidedApplies(model: AwardModel): boolean {
-	return (
-		!model.columns.some((c) => c.kind === 'wins_group') &&
-		!model.rows.some((r) => r.kind === 'rule' && r.items.length > 1)
+/** Rules that join items other than through capacities need the full MIP: lot or event shares and spend caps, lot or event supplier counts, fixed costs per supplier. */
+export function lpGuidedAppliesTo(problem: AwardProblem, withoutRules?: ReadonlySet<number>): boolean {
+	return problem.rules.every((rule, r) => {
+		if (withoutRules?.has(r)) return true;
+		if (rule.type === 'award_fixed_cost') return rule.per === 'supplier_item';
+		if (rule.type === 'exclude') return true;
+		return rule.scope === 'each_item' || (typeof rule.scope === 'object' && 'item' in rule.scope);
+	});
+}
+
+/** Integer choices a full model would have, counted without building it. */
+export function integerEstimate(problem: AwardProblem, withoutRules?: ReadonlySet<number>): number {
+	const active = problem.rules.filter((_, r) => !withoutRules?.has(r));
+	const tiers = problem.bids.reduce((n, b) => n + (b.priceBreaks?.length ? b.priceBreaks.length + 1 : 0), 0);
+	const needsWins = active.some(
+		(r) => r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost'
 	);
+	const pairs = new Set(problem.bids.map((b) => `${b.supplier}|${b.item}`));
+	for (const bundle of problem.bundles)
+		for (const line of bundle.items) pairs.add(`${bundle.supplier}|${line.item}`);
+	return tiers + problem.bundles.length + (needsWins ? pairs.size : 0);
 }
 
-function itemsOfColumns(model: AwardModel, problem: AwardProblem): string[][] {
-	return model.columns.map((c) => {
-		if (c.kind === 'tier' || c.kind === 'tier_used') return [problem.bids[c.bid]!.item];
-		if (c.kind === 'bundle') return problem.bundles[c.bundle]!.items.map((l) => l.item);
-		if (c.kind === 'wins') return [c.item];
-		return [];
-	});
+/** Bids and bundles grouped by item, so sub-problems of a few items are made without scanning every bid. */
+function indexByItem(problem: AwardProblem) {
+	const bids = new Map<string, AwardProblem['bids']>();
+	for (const bid of problem.bids) {
+		let list = bids.get(bid.item);
+		if (!list) bids.set(bid.item, (list = []));
+		list.push(bid);
+	}
+	const items = new Map(problem.items.map((i) => [i.ref, i]));
+	return (refs: string[]): AwardProblem => {
+		const keep = new Set(refs);
+		return {
+			...problem,
+			items: refs.map((r) => items.get(r)!),
+			bids: refs.flatMap((r) => bids.get(r) ?? []),
+			bundles: problem.bundles.filter((b) => b.items.every((l) => keep.has(l.item))),
+			rules: problem.rules.filter(
+				(r) =>
+					!('scope' in r) || typeof r.scope !== 'object' || !('item' in r.scope) || keep.has(r.scope.item)
+			)
+		};
+	};
 }
 
-/** Items whose LP split breaks an integer rule once every integer choice is rounded to what the split implies. */
-function itemsNeedingRepair(problem: AwardProblem, model: AwardModel, lp: Float64Array): Set<string> {
-	const quantityOfPair = new Map<string, number>();
-	model.columns.forEach((c, j) => {
-		if (c.kind !== 'tier') return;
-		const bid = problem.bids[c.bid]!;
-		const pair = `${bid.supplier}|${bid.item}`;
-		quantityOfPair.set(pair, (quantityOfPair.get(pair) ?? 0) + lp[j]!);
-	});
+/**
+ * Items whose LP split breaks a rule that only integers express: a minimum award, a supplier count, a
+ * win under one unit where wins are counted, a bid spread over price tiers, a bundle taken in part.
+ */
+function itemsBreakingIntegerRules(
+	problem: AwardProblem,
+	relaxed: AwardModel,
+	lp: Float64Array,
+	pairQuantity: Map<string, number>
+): Set<string> {
 	const repair = new Set<string>();
-	const columnItems = itemsOfColumns(model, problem);
-	const rounded = Float64Array.from(lp);
-	const tierColumn = new Map<string, number>();
-	model.columns.forEach((c, j) => {
-		if (c.kind === 'tier') tierColumn.set(`${c.bid}|${c.tier}`, j);
-	});
-	model.columns.forEach((c, j) => {
-		if (!model.integrality[j]) return;
+	const tol = TOLERANCE;
+	const demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
+	const suppliersOf = new Map<string, string[]>();
+	for (const [pair, q] of pairQuantity) {
+		if (q <= tol) continue;
+		const [s, i] = pair.split('|') as [string, string];
+		suppliersOf.set(i, [...(suppliersOf.get(i) ?? []), s]);
+	}
+	const itemsOf = (scope: Scope) =>
+		scope === 'each_item'
+			? problem.items.map((i) => i.ref)
+			: typeof scope === 'object' && 'item' in scope
+				? [scope.item]
+				: [];
+	const whoOf = (who: Who) =>
+		who === 'each_supplier'
+			? null
+			: 'supplier' in who
+				? new Set([who.supplier])
+				: new Set(problem.suppliers.filter((s) => s.tags?.includes(who.tag)).map((s) => s.ref));
+	const countsWins = problem.rules.some(
+		(r) => r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost'
+	);
+	if (countsWins) {
+		for (const [item, winners] of suppliersOf) {
+			const floor = Math.min(1, demand.get(item)!);
+			if (winners.some((s) => pairQuantity.get(`${s}|${item}`)! < floor - tol)) repair.add(item);
+		}
+	}
+	for (const rule of problem.rules) {
+		if (rule.type === 'min_award') {
+			const who = whoOf(rule.who);
+			for (const item of itemsOf(rule.scope)) {
+				const d = demand.get(item)!;
+				const minimum = Math.min(d, rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * d);
+				for (const s of suppliersOf.get(item) ?? []) {
+					if (
+						(who === null || who.has(s)) &&
+						pairQuantity.get(`${s}|${item}`)! < minimum - tol * Math.max(1, minimum)
+					)
+						repair.add(item);
+				}
+			}
+		}
+		if (rule.type === 'supplier_count') {
+			for (const item of itemsOf(rule.scope)) {
+				const count = (suppliersOf.get(item) ?? []).length;
+				if ((rule.min !== undefined && count < rule.min) || (rule.max !== undefined && count > rule.max))
+					repair.add(item);
+			}
+		}
+	}
+	// Tiers: a bid's quantity must sit in one tier, inside its range; bundles must be whole.
+	const tiersUsed = new Map<number, number>();
+	relaxed.columns.forEach((c, j) => {
 		const value = lp[j]!;
-		if (c.kind === 'wins')
-			rounded[j] = (quantityOfPair.get(`${c.supplier}|${c.item}`) ?? 0) > TOLERANCE ? 1 : 0;
-		else if (c.kind === 'tier_used') {
-			const tier = tierColumn.get(`${c.bid}|${c.tier}`);
-			rounded[j] = tier !== undefined && lp[tier]! > TOLERANCE ? 1 : 0;
-		} else {
-			rounded[j] = Math.round(value);
-			if (Math.abs(value - rounded[j]!) > TOLERANCE) for (const item of columnItems[j]!) repair.add(item);
+		if (c.kind === 'tier' && value > tol) {
+			const bid = problem.bids[c.bid]!;
+			if (bid.priceBreaks?.length) {
+				tiersUsed.set(c.bid, (tiersUsed.get(c.bid) ?? 0) + 1);
+				const from = c.tier === 0 ? 0 : bid.priceBreaks[c.tier - 1]!.fromQuantity;
+				if (value < from - tol * Math.max(1, from)) repair.add(bid.item);
+			}
 		}
+		if (c.kind === 'bundle' && Math.abs(value - Math.round(value)) > tol)
+			for (const l of problem.bundles[c.bundle]!.items) repair.add(l.item);
 	});
-	const activity = new Float64Array(model.numRows);
-	for (let j = 0; j < model.numCols; j++) {
-		for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++)
-			activity[model.indices[k]!]! += model.values[k]! * rounded[j]!;
-	}
-	const finite = (v: number) => (Number.isFinite(v) ? Math.abs(v) : 0);
-	const broken = new Uint8Array(model.numRows);
-	for (let row = 0; row < model.numRows; row++) {
-		const slack = TOLERANCE * Math.max(1, finite(model.rowLower[row]!), finite(model.rowUpper[row]!));
-		if (activity[row]! < model.rowLower[row]! - slack || activity[row]! > model.rowUpper[row]! + slack)
-			broken[row] = 1;
-	}
-	for (let j = 0; j < model.numCols; j++) {
-		for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
-			if (broken[model.indices[k]!]) for (const item of columnItems[j]!) repair.add(item);
-		}
-	}
-	// A bundle is repaired with all its items together.
-	for (const bundle of problem.bundles) {
+	for (const [b, used] of tiersUsed) if (used > 1) repair.add(problem.bids[b]!.item);
+	for (const bundle of problem.bundles)
 		if (bundle.items.some((l) => repair.has(l.item))) for (const l of bundle.items) repair.add(l.item);
-	}
 	return repair;
 }
 
@@ -118,20 +181,20 @@ function batchesOf(problem: AwardProblem, items: string[]): string[][] {
 export async function solveLpGuided(
 	problem: AwardProblem,
 	solver: Solver,
-	options: SolveOptions,
-	model = buildModel(problem)
+	options: SolveOptions
 ): Promise<GuidedOutcome> {
 	const began = performance.now();
+	const elapsed = () => (performance.now() - began) / 1000;
 	// The bound: the LP without the rules that only integers express (minimum awards, supplier counts,
-	// fixed costs). Its columns are the first columns of the full model, in the same order.
+	// fixed costs), with price tiers and bundles relaxed.
 	const integerRules = new Set(
 		problem.rules.flatMap((r, k) =>
 			r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost' ? [k] : []
 		)
 	);
 	const relaxed = buildModel(problem, { withoutRules: integerRules });
+	const size = { rows: relaxed.numRows, columns: relaxed.numCols, integers: integerEstimate(problem) };
 	const lp = await solver.solve(relaxed, { ...options, relax: true });
-	const elapsed = () => (performance.now() - began) / 1000;
 	if (lp.status !== 'optimal' || !lp.columns) {
 		return {
 			status: lp.status,
@@ -140,30 +203,45 @@ export async function solveLpGuided(
 			gap: null,
 			lines: [],
 			seconds: elapsed(),
-			repairedItems: 0
+			repairedItems: 0,
+			modelSize: size,
+			uncovered: relaxed.uncovered
 		};
 	}
-	const full = new Float64Array(model.numCols);
-	full.set(lp.columns.subarray(0, Math.min(relaxed.numCols, model.numCols)));
-	const repair = itemsNeedingRepair(problem, model, full);
+	const pairQuantity = new Map<string, number>();
+	const used = new Map<string, number>();
+	const add = (m: Map<string, number>, k: string, v: number) => m.set(k, (m.get(k) ?? 0) + v);
+	relaxed.columns.forEach((c, j) => {
+		const value = lp.columns![j]!;
+		if (c.kind === 'tier' && value > 0) {
+			const bid = problem.bids[c.bid]!;
+			add(pairQuantity, `${bid.supplier}|${bid.item}`, value);
+			add(used, bid.supplier, value);
+		}
+		if (c.kind === 'bundle' && value > 0) {
+			const bundle = problem.bundles[c.bundle]!;
+			for (const l of bundle.items) {
+				add(pairQuantity, `${bundle.supplier}|${l.item}`, l.quantity * value);
+				add(used, bundle.supplier, l.quantity * value);
+			}
+		}
+	});
+	const repair = itemsBreakingIntegerRules(problem, relaxed, lp.columns, pairQuantity);
 	const all = awardLines(problem, relaxed, lp.columns);
-	const kept = all.filter((l) => !repair.has(l.item));
+	const lines = all.filter((l) => !repair.has(l.item));
 	// Capacity the LP left unused, shared by the batches in turn.
-	const free = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
-	for (const line of all) free.set(line.supplier, free.get(line.supplier)! - line.quantity);
-	const lines = [...kept];
+	const free = new Map(
+		problem.suppliers.map((s) => [s.ref, (s.capacity ?? Infinity) - (used.get(s.ref) ?? 0)])
+	);
+	const subproblem = indexByItem(problem);
 	const ordered = problem.items.map((i) => i.ref).filter((i) => repair.has(i));
 	for (const batch of batchesOf(problem, ordered)) {
-		const part = restrictToItems(problem, batch);
-		const lpAmounts = new Map<string, number>();
-		for (const line of all)
-			if (batch.includes(line.item))
-				lpAmounts.set(line.supplier, (lpAmounts.get(line.supplier) ?? 0) + line.quantity);
-		part.suppliers = part.suppliers.map((s) =>
-			s.capacity === undefined
-				? s
-				: { ...s, capacity: Math.max(0, (lpAmounts.get(s.ref) ?? 0) + free.get(s.ref)!) }
-		);
+		const part = subproblem(batch);
+		part.suppliers = part.suppliers.map((s) => {
+			if (s.capacity === undefined) return s;
+			const lpAmount = batch.reduce((a, i) => a + (pairQuantity.get(`${s.ref}|${i}`) ?? 0), 0);
+			return { ...s, capacity: Math.max(0, lpAmount + free.get(s.ref)!) };
+		});
 		const partModel = buildModel(part);
 		const outcome = await solver.solve(partModel, options);
 		if (outcome.status !== 'optimal' && outcome.status !== 'feasible') {
@@ -174,18 +252,30 @@ export async function solveLpGuided(
 				gap: null,
 				lines: [],
 				seconds: elapsed(),
-				repairedItems: repair.size
+				repairedItems: repair.size,
+				modelSize: size,
+				uncovered: relaxed.uncovered
 			};
 		}
 		const partLines = awardLines(part, partModel, outcome.columns!);
+		const usedHere = new Map<string, number>();
+		for (const l of partLines) add(usedHere, l.supplier, l.quantity);
 		for (const supplier of part.suppliers) {
-			if (supplier.capacity === undefined) continue;
-			const used = partLines.filter((l) => l.supplier === supplier.ref).reduce((a, l) => a + l.quantity, 0);
-			free.set(supplier.ref, supplier.capacity - used);
+			if (supplier.capacity !== undefined)
+				free.set(supplier.ref, supplier.capacity - (usedHere.get(supplier.ref) ?? 0));
 		}
 		lines.push(...partLines);
 	}
-	const bound = await lagrangianBound(problem, relaxed, lp, all, ordered, solver, options);
+	const bound = await lagrangianBound(
+		problem,
+		relaxed,
+		lp,
+		pairQuantity,
+		ordered,
+		solver,
+		options,
+		subproblem
+	);
 	const order = new Map(problem.items.map((item, index) => [item.ref, index]));
 	lines.sort((a, b) => order.get(a.item)! - order.get(b.item)! || a.supplier.localeCompare(b.supplier));
 	const objective = allocationCost(problem, lines);
@@ -197,7 +287,9 @@ export async function solveLpGuided(
 		gap,
 		lines,
 		seconds: elapsed(),
-		repairedItems: repair.size
+		repairedItems: repair.size,
+		modelSize: size,
+		uncovered: relaxed.uncovered
 	};
 }
 
@@ -212,10 +304,11 @@ async function lagrangianBound(
 	problem: AwardProblem,
 	relaxed: AwardModel,
 	lp: SolveOutcome,
-	lpLines: AwardLine[],
+	pairQuantity: Map<string, number>,
 	repaired: string[],
 	solver: Solver,
-	options: SolveOptions
+	options: SolveOptions,
+	subproblem: (items: string[]) => AwardProblem
 ): Promise<number> {
 	const lpBound = lp.objective!;
 	const readsSpend = problem.rules.some(
@@ -228,29 +321,42 @@ async function lagrangianBound(
 		if (meaning.kind === 'capacity') price.set(meaning.supplier, Math.max(0, -lp.rowDuals![row]!));
 	});
 	const lambda = (s: string) => price.get(s) ?? 0;
-	const priced: AwardProblem = {
-		...problem,
-		suppliers: problem.suppliers.map(({ capacity: _capacity, ...rest }) => rest),
-		bids: problem.bids.map((b) => ({
-			...b,
-			unitPrice: b.unitPrice + lambda(b.supplier),
-			priceBreaks: b.priceBreaks?.map((p) => ({ ...p, unitPrice: p.unitPrice + lambda(b.supplier) }))
-		})),
-		bundles: problem.bundles.map((b) => ({
-			...b,
-			price: b.price + lambda(b.supplier) * b.items.reduce((a, l) => a + l.quantity, 0)
-		}))
-	};
+	const priced = { suppliers: problem.suppliers.map(({ capacity: _capacity, ...rest }) => rest) };
+	// The LP's cost of each item at prices c + λ (a bundle's counted on its first item; batches keep a
+	// bundle's items together).
+	const lpCost = new Map<string, number>();
+	relaxed.columns.forEach((c, j) => {
+		const value = lp.columns![j]!;
+		if (value <= 0) return;
+		if (c.kind === 'tier') {
+			const bid = problem.bids[c.bid]!;
+			lpCost.set(bid.item, (lpCost.get(bid.item) ?? 0) + value * (c.unitPrice + lambda(bid.supplier)));
+		}
+		if (c.kind === 'bundle') {
+			const bundle = problem.bundles[c.bundle]!;
+			const first = bundle.items[0]!.item;
+			const cost =
+				value * (bundle.price + lambda(bundle.supplier) * bundle.items.reduce((a, l) => a + l.quantity, 0));
+			lpCost.set(first, (lpCost.get(first) ?? 0) + cost);
+		}
+	});
 	// Items without capacities are independent, so a batch's MIP bound is the sum of its items' bounds.
 	const parts = batchesOf(problem, repaired);
 	const gains = await Promise.all(
 		parts.map(async (items) => {
-			const part = restrictToItems(priced, items);
+			const part = { ...subproblem(items), suppliers: priced.suppliers };
+			part.bids = part.bids.map((b) => ({
+				...b,
+				unitPrice: b.unitPrice + lambda(b.supplier),
+				priceBreaks: b.priceBreaks?.map((p) => ({ ...p, unitPrice: p.unitPrice + lambda(b.supplier) }))
+			}));
+			part.bundles = part.bundles.map((b) => ({
+				...b,
+				price: b.price + lambda(b.supplier) * b.items.reduce((a, l) => a + l.quantity, 0)
+			}));
 			const outcome = await solver.solve(buildModel(part), options);
 			if (outcome.bound === null || (outcome.status !== 'optimal' && outcome.status !== 'feasible')) return 0;
-			const atLp = lpLines
-				.filter((l) => items.includes(l.item))
-				.reduce((a, l) => a + l.cost + lambda(l.supplier) * l.quantity, 0);
+			const atLp = items.reduce((sum, i) => sum + (lpCost.get(i) ?? 0), 0);
 			return Math.max(0, outcome.bound - atLp);
 		})
 	);
