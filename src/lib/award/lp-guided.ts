@@ -235,47 +235,57 @@ export async function solveLpGuided(
 	);
 	const subproblem = indexByItem(problem);
 	const ordered = problem.items.map((i) => i.ref).filter((i) => repair.has(i));
-	for (const batch of batchesOf(problem, ordered)) {
+	const batches = batchesOf(problem, ordered);
+	// The Lagrangian batches come first (in parallel): they give the bound, and their solutions are
+	// taken as the repair wherever they fit in the capacity left; only the others are solved again.
+	const lagrangian = await lagrangianBatches(problem, relaxed, lp, batches, solver, options, subproblem);
+	for (const [k, batch] of batches.entries()) {
 		const part = subproblem(batch);
-		part.suppliers = part.suppliers.map((s) => {
-			if (s.capacity === undefined) return s;
+		const capacityLeft = new Map<string, number>();
+		for (const s of part.suppliers) {
+			if (s.capacity === undefined) continue;
 			const lpAmount = batch.reduce((a, i) => a + (pairQuantity.get(`${s.ref}|${i}`) ?? 0), 0);
-			return { ...s, capacity: Math.max(0, lpAmount + free.get(s.ref)!) };
-		});
-		const partModel = buildModel(part);
-		const outcome = await solver.solve(partModel, options);
-		if (outcome.status !== 'optimal' && outcome.status !== 'feasible') {
-			return {
-				status: outcome.status === 'infeasible' ? 'no_solution_in_time' : outcome.status,
-				objective: null,
-				bound: lp.objective,
-				gap: null,
-				lines: [],
-				seconds: elapsed(),
-				repairedItems: repair.size,
-				modelSize: size,
-				uncovered: relaxed.uncovered
-			};
+			capacityLeft.set(s.ref, Math.max(0, lpAmount + free.get(s.ref)!));
 		}
-		const partLines = awardLines(part, partModel, outcome.columns!);
-		const usedHere = new Map<string, number>();
-		for (const l of partLines) add(usedHere, l.supplier, l.quantity);
-		for (const supplier of part.suppliers) {
-			if (supplier.capacity !== undefined)
-				free.set(supplier.ref, supplier.capacity - (usedHere.get(supplier.ref) ?? 0));
+		const usedBy = (candidate: AwardLine[]) => {
+			const totals = new Map<string, number>();
+			for (const l of candidate) add(totals, l.supplier, l.quantity);
+			return totals;
+		};
+		let partLines = lagrangian.candidates[k] ?? null;
+		if (partLines) {
+			const totals = usedBy(partLines);
+			const fits = [...capacityLeft].every(
+				([s, cap]) => (totals.get(s) ?? 0) <= cap + TOLERANCE * Math.max(1, cap)
+			);
+			if (!fits) partLines = null;
 		}
+		if (!partLines) {
+			part.suppliers = part.suppliers.map((s) =>
+				s.capacity === undefined ? s : { ...s, capacity: capacityLeft.get(s.ref)! }
+			);
+			const partModel = buildModel(part);
+			const outcome = await solver.solve(partModel, options);
+			if (outcome.status !== 'optimal' && outcome.status !== 'feasible') {
+				return {
+					status: outcome.status === 'infeasible' ? 'no_solution_in_time' : outcome.status,
+					objective: null,
+					bound: lagrangian.bound,
+					gap: null,
+					lines: [],
+					seconds: elapsed(),
+					repairedItems: repair.size,
+					modelSize: size,
+					uncovered: relaxed.uncovered
+				};
+			}
+			partLines = awardLines(part, partModel, outcome.columns!);
+		}
+		const totals = usedBy(partLines);
+		for (const [s, cap] of capacityLeft) free.set(s, cap - (totals.get(s) ?? 0));
 		lines.push(...partLines);
 	}
-	const bound = await lagrangianBound(
-		problem,
-		relaxed,
-		lp,
-		pairQuantity,
-		ordered,
-		solver,
-		options,
-		subproblem
-	);
+	const bound = lagrangian.bound;
 	const order = new Map(problem.items.map((item, index) => [item.ref, index]));
 	lines.sort((a, b) => order.get(a.item)! - order.get(b.item)! || a.supplier.localeCompare(b.supplier));
 	const objective = allocationCost(problem, lines);
@@ -300,28 +310,26 @@ export async function solveLpGuided(
  *   bound = LP + Σ_repaired (MIP_i(c + λ) - LP_i(c + λ)).
  * Rules that read spend would change with the prices, so with those the LP bound is kept.
  */
-async function lagrangianBound(
+async function lagrangianBatches(
 	problem: AwardProblem,
 	relaxed: AwardModel,
 	lp: SolveOutcome,
-	pairQuantity: Map<string, number>,
-	repaired: string[],
+	batches: string[][],
 	solver: Solver,
 	options: SolveOptions,
 	subproblem: (items: string[]) => AwardProblem
-): Promise<number> {
+): Promise<{ bound: number; candidates: (AwardLine[] | null)[] }> {
 	const lpBound = lp.objective!;
 	const readsSpend = problem.rules.some(
 		(r) =>
 			r.type === 'max_spend' || ((r.type === 'max_share' || r.type === 'min_share') && r.basis === 'spend')
 	);
-	if (!repaired.length || readsSpend || !lp.rowDuals) return lpBound;
+	if (!batches.length || readsSpend || !lp.rowDuals) return { bound: lpBound, candidates: [] };
 	const price = new Map<string, number>();
 	relaxed.rows.forEach((meaning, row) => {
 		if (meaning.kind === 'capacity') price.set(meaning.supplier, Math.max(0, -lp.rowDuals![row]!));
 	});
 	const lambda = (s: string) => price.get(s) ?? 0;
-	const priced = { suppliers: problem.suppliers.map(({ capacity: _capacity, ...rest }) => rest) };
 	// The LP's cost of each item at prices c + λ (a bundle's counted on its first item; batches keep a
 	// bundle's items together).
 	const lpCost = new Map<string, number>();
@@ -340,25 +348,41 @@ async function lagrangianBound(
 			lpCost.set(first, (lpCost.get(first) ?? 0) + cost);
 		}
 	});
-	// Items without capacities are independent, so a batch's MIP bound is the sum of its items' bounds.
-	const parts = batchesOf(problem, repaired);
-	const gains = await Promise.all(
-		parts.map(async (items) => {
-			const part = { ...subproblem(items), suppliers: priced.suppliers };
-			part.bids = part.bids.map((b) => ({
-				...b,
-				unitPrice: b.unitPrice + lambda(b.supplier),
-				priceBreaks: b.priceBreaks?.map((p) => ({ ...p, unitPrice: p.unitPrice + lambda(b.supplier) }))
-			}));
-			part.bundles = part.bundles.map((b) => ({
-				...b,
-				price: b.price + lambda(b.supplier) * b.items.reduce((a, l) => a + l.quantity, 0)
-			}));
-			const outcome = await solver.solve(buildModel(part), options);
-			if (outcome.bound === null || (outcome.status !== 'optimal' && outcome.status !== 'feasible')) return 0;
+	// Without capacities the items are independent, so a batch's MIP bound is the sum of its items'.
+	const results = await Promise.all(
+		batches.map(async (items) => {
+			const plain = {
+				...subproblem(items),
+				suppliers: problem.suppliers.map(({ capacity: _capacity, ...rest }) => rest)
+			};
+			const pricedPart: AwardProblem = {
+				...plain,
+				bids: plain.bids.map((b) => ({
+					...b,
+					unitPrice: b.unitPrice + lambda(b.supplier),
+					priceBreaks: b.priceBreaks?.map((p) => ({ ...p, unitPrice: p.unitPrice + lambda(b.supplier) }))
+				})),
+				bundles: plain.bundles.map((b) => ({
+					...b,
+					price: b.price + lambda(b.supplier) * b.items.reduce((a, l) => a + l.quantity, 0)
+				}))
+			};
+			const outcome = await solver.solve(buildModel(pricedPart), options);
+			if (
+				outcome.bound === null ||
+				!outcome.columns ||
+				(outcome.status !== 'optimal' && outcome.status !== 'feasible')
+			) {
+				return { gain: 0, candidate: null };
+			}
 			const atLp = items.reduce((sum, i) => sum + (lpCost.get(i) ?? 0), 0);
-			return Math.max(0, outcome.bound - atLp);
+			// Same structure, original prices: the columns read as the candidate's lines at cost c.
+			const candidate = awardLines(plain, buildModel(plain), outcome.columns);
+			return { gain: Math.max(0, outcome.bound - atLp), candidate };
 		})
 	);
-	return lpBound + gains.reduce((a, b) => a + b, 0);
+	return {
+		bound: lpBound + results.reduce((a, r) => a + r.gain, 0),
+		candidates: results.map((r) => r.candidate)
+	};
 }

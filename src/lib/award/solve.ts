@@ -54,7 +54,10 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 		instance.options.set({
 			output_flag: false,
 			time_limit: options.timeLimit ?? 60,
-			mip_rel_gap: options.gap ?? 1e-6
+			mip_rel_gap: options.gap ?? 1e-6,
+			// Measured on award LPs of 350k bids: HiGHS's presolve takes 2-7 s and the simplex then 0.4 s;
+			// without presolve the same optimum comes in 0.4-0.5 s. MIPs keep presolve.
+			presolve: isMip ? 'choose' : 'off'
 		});
 		instance.run();
 		const code = instance.getModelStatus();
