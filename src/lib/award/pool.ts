@@ -149,7 +149,14 @@ export class SolverPool implements Solver {
 			};
 			worker.on('message', onMessage);
 			worker.on('exit', onExit);
-			worker.postMessage({ id: job.id, model: job.model, options: job.options });
+			// Only the numbers cross to the thread: cloning the column and row meanings (hundreds of
+			// thousands of small objects) would cost more than the solve.
+			const { columns: _columns, rows: _rows, uncovered: _uncovered, ...numbers } = job.model;
+			worker.postMessage({
+				id: job.id,
+				model: { ...numbers, columns: [], rows: [], uncovered: [] },
+				options: job.options
+			});
 		}
 	}
 
