@@ -152,13 +152,6 @@ export function tiersOf(bid: AwardProblem['bids'][number]): { from: number; unit
 	];
 }
 
-/** The unit price a bid charges for a quantity, by its all-units price breaks. */
-export function unitPriceAt(bid: AwardProblem['bids'][number], quantity: number): number {
-	let price = bid.unitPrice;
-	for (const tier of tiersOf(bid)) if (quantity >= tier.from - 1e-9) price = tier.unitPrice;
-	return price;
-}
-
 /** An item's reference unit price: its baseline, else the mean of its bids' unit prices, else 1. */
 export function referencePrices(problem: AwardProblem): Map<string, number> {
 	const sums = new Map<string, { total: number; count: number }>();

@@ -1,7 +1,6 @@
 // Reading a solved model back into the trade's words: who gets how much of what, at what price.
 import { bundleShares, type AwardModel } from './model';
 import type { AwardProblem } from './problem';
-import type { SolveOutcome } from './solve';
 
 export interface AwardLine {
 	supplier: string;
@@ -84,8 +83,4 @@ export function baselineCost(problem: AwardProblem, uncovered: Set<string>): num
 	const priced = problem.items.filter((i) => !uncovered.has(i.ref));
 	if (!priced.length || priced.some((i) => i.baselineUnitPrice === undefined)) return null;
 	return round(priced.reduce((sum, i) => sum + i.quantity * i.baselineUnitPrice!, 0));
-}
-
-export function outcomeSummary(outcome: SolveOutcome) {
-	return { status: outcome.status, objective: outcome.objective, bound: outcome.bound, gap: outcome.gap };
 }

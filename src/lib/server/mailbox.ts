@@ -11,10 +11,6 @@ export interface MailboxMessage {
 	attachments: { filename: string | null }[];
 }
 
-export function mailboxEnabled(): boolean {
-	return Boolean(config().MAIL_FAKE_API);
-}
-
 export async function listMailbox(): Promise<MailboxMessage[]> {
 	const api = config().MAIL_FAKE_API;
 	if (!api) return [];

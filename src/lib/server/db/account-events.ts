@@ -1,5 +1,4 @@
 import type { Db } from './knex';
-import type { AccountEventRow } from './tables';
 
 export interface AccountEvent {
 	actorUserId: number | null;
@@ -19,8 +18,4 @@ export async function recordAccountEvent(db: Db, event: AccountEvent): Promise<v
 		detail: JSON.stringify(event.detail ?? {}),
 		ip: event.ip ?? null
 	});
-}
-
-export function listAccountEvents(db: Db, subjectUserId: number): Promise<AccountEventRow[]> {
-	return db<AccountEventRow>('account_events').where({ subject_user_id: subjectUserId }).orderBy('id');
 }
