@@ -15,6 +15,13 @@ afterAll(async () => {
 	await closeTestDb();
 });
 
+/** Fills and sends the staff password form of the sign-in page in view. */
+async function submitPassword(email: string, password: string) {
+	await browser.page.locator('#password-email').fill(email);
+	await browser.page.getByLabel('Password', { exact: true }).fill(password);
+	await browser.page.getByRole('button', { name: 'Sign in', exact: true }).click();
+}
+
 async function expectAccessible(what: string) {
 	expect(await accessibilityViolations(browser.page), what).toEqual([]);
 }
@@ -51,9 +58,7 @@ describe('signing in with a browser', () => {
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/buyer`);
 		await page.waitForURL('**/signin?callbackUrl=%2Fbuyer');
-		await page.locator('#password-email').fill(buyer.email);
-		await page.getByLabel('Password', { exact: true }).fill(buyer.password!);
-		await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+		await submitPassword(buyer.email, buyer.password!);
 		await page.waitForURL('**/buyer');
 		expect(await page.getByTestId('home-role').textContent()).toBe('Buyer');
 		expect(await page.getByRole('complementary', { name: 'Please note' }).textContent()).toContain(
@@ -78,9 +83,7 @@ describe('signing in with a browser', () => {
 		const { page } = browser;
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/signin`);
-		await page.locator('#password-email').fill(buyer.email);
-		await page.getByLabel('Password', { exact: true }).fill('not the right one');
-		await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+		await submitPassword(buyer.email, 'not the right one');
 		await page.waitForURL(/error=CredentialsSignin/);
 		expect(await page.getByRole('alert').textContent()).toBe('The e-mail address or password is not right.');
 		await expectAccessible('sign-in page with an error');
@@ -91,9 +94,7 @@ describe('signing in with a browser', () => {
 		const { page } = browser;
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/signin`);
-		await page.locator('#password-email').fill(admin.email);
-		await page.getByLabel('Password', { exact: true }).fill(admin.password!);
-		await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+		await submitPassword(admin.email, admin.password!);
 		await page.waitForURL('**/admin');
 		await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Users' }).click();
 		await page.waitForURL('**/admin/users');

@@ -10,6 +10,10 @@ import {
 
 afterAll(closeTestDb);
 
+/** A user row written straight to the table, past every service rule: for testing the constraints. */
+const aRawUser = (fields: Record<string, unknown>) =>
+	testDb()('users').insert({ email: `${unique('x')}@example.test`, ...fields });
+
 describe('users, roles and organisations in PostgreSQL', () => {
 	it('keeps a supplier user in its supplier organisation and staff in the buying organisation', async () => {
 		const supplier = await anOrganisation('supplier');
@@ -30,8 +34,7 @@ describe('users, roles and organisations in PostgreSQL', () => {
 	it('refuses a staff role in a supplier organisation', async () => {
 		const supplier = await anOrganisation('supplier');
 		await expect(
-			testDb()('users').insert({
-				email: `${unique('x')}@example.test`,
+			aRawUser({
 				role: 'buyer',
 				organisation_id: supplier.id,
 				organisation_kind: 'supplier'
@@ -42,8 +45,7 @@ describe('users, roles and organisations in PostgreSQL', () => {
 	it('refuses a supplier user whose organisation kind is misstated', async () => {
 		const supplier = await anOrganisation('supplier');
 		await expect(
-			testDb()('users').insert({
-				email: `${unique('x')}@example.test`,
+			aRawUser({
 				role: 'supplier',
 				organisation_id: supplier.id,
 				organisation_kind: 'buyer'
@@ -54,8 +56,7 @@ describe('users, roles and organisations in PostgreSQL', () => {
 	it('refuses a role that does not exist', async () => {
 		const buying = await theBuyingOrganisation();
 		await expect(
-			testDb()('users').insert({
-				email: `${unique('x')}@example.test`,
+			aRawUser({
 				role: 'superuser',
 				organisation_id: buying.id,
 				organisation_kind: 'buyer'
@@ -66,8 +67,7 @@ describe('users, roles and organisations in PostgreSQL', () => {
 	it('refuses a password on a supplier account', async () => {
 		const supplier = await anOrganisation('supplier');
 		await expect(
-			testDb()('users').insert({
-				email: `${unique('x')}@example.test`,
+			aRawUser({
 				role: 'supplier',
 				organisation_id: supplier.id,
 				organisation_kind: 'supplier',
