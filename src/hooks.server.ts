@@ -1,4 +1,5 @@
 import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
+import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle, closeAuthPool } from '$lib/server/auth';
 import { closeDb } from '$lib/server/db/knex';
@@ -6,14 +7,22 @@ import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import type { SessionUser } from '$lib/server/auth/session-user';
 import { hookError, jsonError, newErrorId } from '$lib/server/http';
+import { stopJobs } from '$lib/server/jobs';
+import { startWorkers } from '$lib/server/jobs/workers';
+import type { ServerInit } from '@sveltejs/kit';
 
 const READS = new Set(['GET', 'HEAD', 'OPTIONS']);
 
 // adapter-node emits this once the server has stopped taking requests; idle pools would otherwise
 // hold the process open for their idle timeout.
 process.once('sveltekit:shutdown', () => {
-	void Promise.all([closeDb(), closeAuthPool()]);
+	void stopJobs().finally(() => Promise.all([closeDb(), closeAuthPool()]));
 });
+
+/** Web processes take queued work too, unless RUN_WORKERS=false (then another process must run the workers). */
+export const init: ServerInit = async () => {
+	if (process.env.RUN_WORKERS !== 'false' && !building) await startWorkers();
+};
 
 const isSignInAttempt = (method: string, path: string) =>
 	method === 'POST' &&

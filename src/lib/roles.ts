@@ -44,8 +44,14 @@ export const navigation: Record<Role, NavLink[]> = {
 		{ href: '/admin', label: 'Home' },
 		{ href: '/admin/users', label: 'Users' }
 	],
-	buyer: [{ href: '/buyer', label: 'Home' }],
+	buyer: [
+		{ href: '/buyer', label: 'Home' },
+		{ href: '/buyer/events', label: 'Events' }
+	],
 	approver: [{ href: '/approver', label: 'Home' }],
-	supplier: [{ href: '/supplier', label: 'Home' }],
+	supplier: [
+		{ href: '/supplier', label: 'Home' },
+		{ href: '/supplier/events', label: 'Events' }
+	],
 	auditor: [{ href: '/audit', label: 'Home' }]
 };

@@ -83,6 +83,23 @@ describe('sealed bids in the database', () => {
 		}
 	});
 
+	it('gates every revision (and so its price breaks and bundles) through visible_bid_revisions', async () => {
+		const { eventId, buying, suppliers } = await anEventWithTwoBids(deadline);
+		const revisions = async (viewer: string, now: Date) =>
+			(
+				await testDb().raw('select supplier_organisation_id from visible_bid_revisions(?, ?, ?)', [
+					eventId,
+					viewer,
+					now
+				])
+			).rows.map((r: { supplier_organisation_id: string }) => r.supplier_organisation_id);
+		expect(await revisions(buying.id, before)).toEqual([]);
+		expect((await revisions(buying.id, deadline)).sort()).toEqual(suppliers.map((s) => s.id).sort());
+		expect(await revisions(suppliers[1]!.id, before)).toEqual([suppliers[1]!.id]);
+		const stranger = await anOrganisation('supplier');
+		expect(await revisions(stranger.id, deadline)).toEqual([]);
+	});
+
 	it('keeps prices as numeric, never floating point', async () => {
 		const { rows } = await testDb().raw(
 			`select data_type from information_schema.columns where table_name in ('bid_lines', 'price_breaks', 'items', 'bundle_offers') and column_name in ('unit_price', 'quantity', 'price', 'from_quantity', 'max_quantity')`

@@ -18,11 +18,17 @@ function scheduledPrice(bid: AwardProblem['bids'][number], quantity: number): nu
 export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncovered: Set<string>): string[] {
 	const violations: string[] = [];
 	const itemOf = new Map(problem.items.map((i) => [i.ref, i]));
-	const bids = new Map(problem.bids.map((b) => [`${b.supplier}|${b.item}`, b]));
+	// Bids by item (a few dozen each), so finding a line's bid makes no key string per bid.
+	const bidsOfItem = new Map<string, AwardProblem['bids']>();
+	for (const bid of problem.bids) {
+		const list = bidsOfItem.get(bid.item);
+		if (list) list.push(bid);
+		else bidsOfItem.set(bid.item, [bid]);
+	}
 
 	for (const line of lines) {
 		if (line.bundle) continue;
-		const bid = bids.get(`${line.supplier}|${line.item}`);
+		const bid = bidsOfItem.get(line.item)?.find((b) => b.supplier === line.supplier);
 		if (!bid) {
 			violations.push(`${line.supplier} is awarded ${line.item} without a bid for it`);
 			continue;

@@ -42,10 +42,11 @@ export function integerEstimate(problem: AwardProblem, withoutRules?: ReadonlySe
 	const needsWins = active.some(
 		(r) => r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost'
 	);
+	if (!needsWins) return tiers + problem.bundles.length;
 	const pairs = new Set(problem.bids.map((b) => `${b.supplier}|${b.item}`));
 	for (const bundle of problem.bundles)
 		for (const line of bundle.items) pairs.add(`${bundle.supplier}|${line.item}`);
-	return tiers + problem.bundles.length + (needsWins ? pairs.size : 0);
+	return tiers + problem.bundles.length + pairs.size;
 }
 
 /** Bids and bundles grouped by item, so sub-problems of a few items are made without scanning every bid. */

@@ -63,23 +63,40 @@ function addAll(into: Terms, from: Terms | undefined, factor = 1): void {
 }
 
 class Builder {
-	readonly cost: number[] = [];
-	readonly lower: number[] = [];
-	readonly upper: number[] = [];
-	readonly integer: number[] = [];
+	// Column data in typed arrays that double when full: a model of 350k bids makes no garbage here.
+	cost: Float64Array;
+	lower: Float64Array;
+	upper: Float64Array;
+	integer: Uint8Array;
 	readonly columns: ColumnMeaning[] = [];
 	readonly rowTerms: Terms[] = [];
 	readonly rowLower: number[] = [];
 	readonly rowUpper: number[] = [];
 	readonly rows: RowMeaning[] = [];
 
+	constructor(expectedColumns: number) {
+		const size = Math.max(16, expectedColumns);
+		this.cost = new Float64Array(size);
+		this.lower = new Float64Array(size);
+		this.upper = new Float64Array(size);
+		this.integer = new Uint8Array(size);
+	}
+
 	column(meaning: ColumnMeaning, cost: number, lower: number, upper: number, integer = false): number {
+		const j = this.columns.length;
+		if (j === this.cost.length) {
+			const grow = <T extends Float64Array | Uint8Array>(from: T, to: T): T => (to.set(from), to);
+			this.cost = grow(this.cost, new Float64Array(2 * j));
+			this.lower = grow(this.lower, new Float64Array(2 * j));
+			this.upper = grow(this.upper, new Float64Array(2 * j));
+			this.integer = grow(this.integer, new Uint8Array(2 * j));
+		}
 		this.columns.push(meaning);
-		this.cost.push(cost);
-		this.lower.push(lower);
-		this.upper.push(upper);
-		this.integer.push(integer ? 1 : 0);
-		return this.columns.length - 1;
+		this.cost[j] = cost;
+		this.lower[j] = lower;
+		this.upper[j] = upper;
+		this.integer[j] = integer ? 1 : 0;
+		return j;
 	}
 
 	row(meaning: RowMeaning, terms: Terms, lower: number, upper: number): number {
@@ -93,21 +110,25 @@ class Builder {
 	finish(uncovered: AwardModel['uncovered'], elastic: boolean): AwardModel {
 		const numCols = this.columns.length;
 		const numRows = this.rows.length;
-		// Sum repeated columns within each row (a bundle's column can reach a row through several items).
+		// Sum repeated columns within each row (a bundle's column can reach a row through several items),
+		// compacting each row's terms in place.
 		const mark = new Int32Array(numCols).fill(-1);
 		const at = new Int32Array(numCols);
-		const merged: Terms[] = this.rowTerms.map((terms, row) => {
-			const out: number[] = [];
+		const merged: Terms[] = this.rowTerms;
+		merged.forEach((terms, row) => {
+			let end = 0;
 			for (let k = 0; k < terms.length; k += 2) {
 				const column = terms[k]!;
-				if (mark[column] === row) out[at[column]! + 1]! += terms[k + 1]!;
+				if (mark[column] === row) terms[at[column]! + 1]! += terms[k + 1]!;
 				else {
 					mark[column] = row;
-					at[column] = out.length;
-					out.push(column, terms[k + 1]!);
+					at[column] = end;
+					terms[end] = column;
+					terms[end + 1] = terms[k + 1]!;
+					end += 2;
 				}
 			}
-			return out;
+			terms.length = end;
 		});
 		const counts = new Int32Array(numCols + 1);
 		for (const terms of merged) for (let k = 0; k < terms.length; k += 2) counts[terms[k]! + 1]! += 1;
@@ -126,10 +147,10 @@ class Builder {
 		return {
 			numCols,
 			numRows,
-			colCost: Float64Array.from(this.cost),
-			colLower: Float64Array.from(this.lower),
-			colUpper: Float64Array.from(this.upper),
-			integrality: Int32Array.from(this.integer),
+			colCost: this.cost.slice(0, numCols),
+			colLower: this.lower.slice(0, numCols),
+			colUpper: this.upper.slice(0, numCols),
+			integrality: Int32Array.from(this.integer.subarray(0, numCols)),
 			rowLower: Float64Array.from(this.rowLower),
 			rowUpper: Float64Array.from(this.rowUpper),
 			starts,
@@ -137,7 +158,7 @@ class Builder {
 			values,
 			columns: this.columns,
 			rows: this.rows,
-			integers: this.integer.reduce((a, b) => a + b, 0),
+			integers: this.integer.subarray(0, numCols).reduce((a, b) => a + b, 0),
 			uncovered,
 			elastic
 		};
@@ -189,7 +210,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const elastic = options.elastic ?? false;
 	const skip = options.withoutRules ?? new Set<number>();
 	const rules = problem.rules.map((rule, index) => ({ rule, index })).filter(({ index }) => !skip.has(index));
-	const m = new Builder();
+	const m = new Builder(problem.bids.length + problem.bundles.length);
 	const demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
 	const capacity = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
 
@@ -198,27 +219,56 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const itemIndex = new Map(problem.items.map((i, k) => [i.ref, k]));
 	const itemCount = problem.items.length;
 	const key = (s: string, i: string) => supplierIndex.get(s)! * itemCount + itemIndex.get(i)!;
-	const quantityTerms = new Map<number, Terms>();
-	const spendTerms = new Map<number, Terms>();
-	const upperOf = new Map<number, number>();
+	// One entry per supplier and item with an offer: its quantity terms, the bundle part of its spend
+	// (a price break's spend is its column's unit price, read from the cost when a rule needs it) and the
+	// most it can get. Spend terms are made only for rules on spend: an LP with no rules never builds them.
+	interface Pair {
+		quantity: Terms;
+		bundleSpend: Terms | null;
+		spend: Terms | null;
+		upper: number;
+	}
+	// Keyed by supplier x item position: a plain array while that is small enough to hold, else a map.
+	const pairs: { get(k: number): Pair | undefined; set(k: number, pair: Pair): void } =
+		problem.suppliers.length * itemCount <= 1 << 24
+			? (() => {
+					// Filled up front so the array stays in fast elements (filled out of order it would not).
+					const slots: (Pair | undefined)[] = Array.from({ length: problem.suppliers.length * itemCount });
+					return { get: (k) => slots[k], set: (k, pair) => void (slots[k] = pair) };
+				})()
+			: new Map<number, Pair>();
+	const pairsOfItem: number[][] = problem.items.map(() => []);
 	const offered = new Set<string>();
 	const suppliersOfItem = new Map<string, string[]>();
 	const pairsOfSupplier: number[][] = problem.suppliers.map(() => []);
-	/** The quantity and spend terms of a supplier and item, made on first use. */
-	const pairTerms = (s: string, i: string): { k: number; quantity: Terms; spend: Terms } => {
+	/** The terms of a supplier and item, made on first use. */
+	const pairOf = (s: string, i: string): Pair => {
 		const k = key(s, i);
-		let quantity = quantityTerms.get(k);
-		if (!quantity) {
-			quantityTerms.set(k, (quantity = []));
-			spendTerms.set(k, []);
-			upperOf.set(k, 0);
+		let pair = pairs.get(k);
+		if (!pair) {
+			pairs.set(k, (pair = { quantity: [], bundleSpend: null, spend: null, upper: 0 }));
 			offered.add(i);
 			let list = suppliersOfItem.get(i);
 			if (!list) suppliersOfItem.set(i, (list = []));
 			list.push(s);
 			pairsOfSupplier[supplierIndex.get(s)!]!.push(k);
+			pairsOfItem[k % itemCount]!.push(k);
 		}
-		return { k, quantity, spend: spendTerms.get(k)! };
+		return pair;
+	};
+	const isBundleColumn = (column: number) => m.columns[column]!.kind === 'bundle';
+	const spendOf = (pair: Pair): Terms => {
+		if (pair.spend) return pair.spend;
+		const spend: Terms = [];
+		const q = pair.quantity;
+		for (let t = 0; t < q.length; t += 2) if (!isBundleColumn(q[t]!)) addTerm(spend, q[t]!, m.cost[q[t]!]!);
+		addAll(spend, pair.bundleSpend ?? undefined);
+		return (pair.spend = spend);
+	};
+	const quantityOf = (k: number): Terms | undefined => pairs.get(k)?.quantity;
+	const spendTermsOf = (k: number): Terms | undefined => {
+		const pair = pairs.get(k);
+		return pair && spendOf(pair);
 	};
 
 	const tierUsedRows: Terms[] = [];
@@ -229,8 +279,9 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const bidLimit = bid.maxQuantity ?? Infinity;
 		const ceiling = Math.min(bidLimit, d, elastic ? Infinity : (capacity.get(bid.supplier) ?? Infinity));
 		const tiers = bid.priceBreaks?.length ? tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9) : null;
-		const { k, quantity, spend } = pairTerms(bid.supplier, bid.item);
-		upperOf.set(k, upperOf.get(k)! + ceiling);
+		const pair = pairOf(bid.supplier, bid.item);
+		const quantity = pair.quantity;
+		pair.upper += ceiling;
 		if (!tiers || tiers.length === 1) {
 			const x = m.column(
 				{ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice },
@@ -239,7 +290,6 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				bidLimit
 			);
 			addTerm(quantity, x, 1);
-			addTerm(spend, x, bid.unitPrice);
 			return;
 		}
 		const oneTier: Terms = [];
@@ -257,7 +307,6 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 			m.row({ kind: 'structure' }, [x, 1, z, -top], -Infinity, 0);
 			addTerm(oneTier, z, 1);
 			addTerm(quantity, x, 1);
-			addTerm(spend, x, tier.unitPrice);
 		});
 		tierUsedRows.push(oneTier);
 	});
@@ -268,10 +317,10 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 		const w = m.column({ kind: 'bundle', bundle: k }, bundle.price, 0, 1, true);
 		const shares = bundleShares(problem, bundle);
 		for (const line of bundle.items) {
-			const pair = pairTerms(bundle.supplier, line.item);
+			const pair = pairOf(bundle.supplier, line.item);
 			addTerm(pair.quantity, w, line.quantity);
-			addTerm(pair.spend, w, bundle.price * shares.get(line.item)!);
-			upperOf.set(pair.k, upperOf.get(pair.k)! + line.quantity);
+			addTerm((pair.bundleSpend ??= []), w, bundle.price * shares.get(line.item)!);
+			pair.upper += line.quantity;
 		}
 	});
 
@@ -316,7 +365,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	// Σ_s q(s,i) = d[i]: cover the demand of every item that has an offer
 	for (const item of coveredItems) {
 		const terms: Terms = [];
-		for (const s of suppliersOfItem.get(item.ref)!) addAll(terms, quantityTerms.get(key(s, item.ref)));
+		for (const k of pairsOfItem[itemIndex.get(item.ref)!]!) addAll(terms, quantityOf(k));
 		elasticRow({ kind: 'cover', item: item.ref }, terms, item.quantity, item.quantity);
 	}
 
@@ -324,7 +373,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	for (const supplier of problem.suppliers) {
 		if (supplier.capacity === undefined) continue;
 		const terms: Terms = [];
-		for (const k of pairsOfSupplier[supplierIndex.get(supplier.ref)!]!) addAll(terms, quantityTerms.get(k));
+		for (const k of pairsOfSupplier[supplierIndex.get(supplier.ref)!]!) addAll(terms, quantityOf(k));
 		if (terms.length)
 			elasticRow({ kind: 'capacity', supplier: supplier.ref }, terms, -Infinity, supplier.capacity);
 	}
@@ -351,9 +400,14 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	const isItemScope = (scope: Scope) =>
 		scope === 'each_item' || (typeof scope === 'object' && 'item' in scope);
 
-	const sum = (store: Map<number, Terms>, suppliers: string[], items: string[], factor = 1) => {
+	const sum = (
+		termsOf: (k: number) => Terms | undefined,
+		suppliers: string[],
+		items: string[],
+		factor = 1
+	) => {
 		const terms: Terms = [];
-		for (const s of suppliers) for (const i of items) addAll(terms, store.get(key(s, i)), factor);
+		for (const s of suppliers) for (const i of items) addAll(terms, termsOf(key(s, i)), factor);
 		return terms;
 	};
 	const everyone = problem.suppliers.map((s) => s.ref);
@@ -374,13 +428,14 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 	}
 	const winsColumn = (s: string, i: string): number | null => {
 		const k = key(s, i);
-		if (!quantityTerms.has(k)) return null;
+		const pair = pairs.get(k);
+		if (!pair) return null;
 		const found = wins.get(k);
 		if (found !== undefined) return found;
-		const upper = Math.min(upperOf.get(k)!, demand.get(i)!);
+		const upper = Math.min(pair.upper, demand.get(i)!);
 		const y = m.column({ kind: 'wins', supplier: s, item: i }, 0, 0, 1, true);
 		wins.set(k, y);
-		const q = quantityTerms.get(k)!;
+		const q = pair.quantity;
 		// q(s,i) <= U[s,i]·y[s,i]: any award sets y
 		const over: Terms = [];
 		addAll(over, q);
@@ -435,7 +490,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 						let terms: Terms;
 						if (basis === 'quantity') {
 							// Σ_{s∈W} Σ_{i∈G} q(s,i) <= p·Σ_{i∈G} d[i]  (>= for a share floor)
-							terms = sum(quantityTerms, suppliers, items);
+							terms = sum(quantityOf, suppliers, items);
 							const total = items.reduce((a, i) => a + demand.get(i)!, 0);
 							if (!terms.length && rule.type === 'max_share') continue;
 							if (rule.type === 'max_share')
@@ -443,8 +498,8 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 							else elasticRow(meaning(items, suppliers, 'quantity'), terms, p * total, Infinity);
 						} else {
 							// Σ_{s∈W} spend(s,G) - p·Σ_all spend(·,G) <= 0  (>= 0 for a share floor)
-							terms = sum(spendTerms, suppliers, items);
-							addAll(terms, sum(spendTerms, everyone, items), -p);
+							terms = sum(spendTermsOf, suppliers, items);
+							addAll(terms, sum(spendTermsOf, everyone, items), -p);
 							if (rule.type === 'max_share')
 								elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, 0);
 							else elasticRow(meaning(items, suppliers, 'spend'), terms, 0, Infinity);
@@ -462,7 +517,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 								const y = winsColumn(s, i);
 								if (y === null) continue;
 								const terms: Terms = [];
-								addAll(terms, quantityTerms.get(key(s, i)));
+								addAll(terms, quantityOf(key(s, i)));
 								addTerm(terms, y, -minimumOf.get(key(s, i))!);
 								elasticRow(meaning([i], [s], 'quantity'), terms, 0, Infinity);
 							}
@@ -489,7 +544,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				// Σ_{s∈W} spend(s,G) <= amount
 				for (const items of scopeGroups(rule.scope))
 					for (const suppliers of whoGroups(rule.who)) {
-						const terms = sum(spendTerms, suppliers, items);
+						const terms = sum(spendTermsOf, suppliers, items);
 						if (terms.length) elasticRow(meaning(items, suppliers, 'spend'), terms, -Infinity, rule.amount);
 					}
 				break;
@@ -498,7 +553,7 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				// Σ_{s∈W} Σ_{i∈G} q(s,i) <= 0
 				for (const items of scopeGroups(rule.scope))
 					for (const suppliers of whoGroups(rule.who)) {
-						const terms = sum(quantityTerms, suppliers, items);
+						const terms = sum(quantityOf, suppliers, items);
 						if (terms.length) elasticRow(meaning(items, suppliers, 'quantity'), terms, -Infinity, 0);
 					}
 				break;

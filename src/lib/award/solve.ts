@@ -57,7 +57,10 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 			mip_rel_gap: options.gap ?? 1e-6,
 			// Measured on award LPs of 350k bids: HiGHS's presolve takes 2-7 s and the simplex then 0.4 s;
 			// without presolve the same optimum comes in 0.4-0.5 s. MIPs keep presolve.
-			presolve: isMip ? 'choose' : 'off'
+			presolve: isMip ? 'choose' : 'off',
+			// Devex pricing for the dual simplex: on the same LPs 300-400 ms against 520-1170 ms with the
+			// default choice (all 10,000 iterations either way).
+			...(isMip ? {} : { simplex_dual_edge_weight_strategy: 1 })
 		});
 		instance.run();
 		const code = instance.getModelStatus();

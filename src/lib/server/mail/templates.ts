@@ -51,3 +51,106 @@ export function invitationMail(
 		html: layout(lines, { label: 'Accept and sign in', url: invitation.url })
 	};
 }
+
+/** A plain notice: paragraphs and one link. Values are escaped by the layout. */
+function notice(to: string, subject: string, lines: string[], action: { label: string; url: string }) {
+	return {
+		to,
+		subject,
+		text: `${lines.join('\n\n')}\n\n${action.label}: ${action.url}\n`,
+		html: layout(lines, action)
+	} satisfies OutgoingMail;
+}
+
+export interface EventMailContext {
+	reference: string;
+	title: string;
+	buyerName: string;
+	deadline: string;
+	url: string;
+}
+
+export function eventInvitationMail(to: string, event: EventMailContext): OutgoingMail {
+	return notice(
+		to,
+		`Invitation to bid: ${event.reference} ${event.title}`,
+		[
+			`${event.buyerName} invites your organisation to bid in the sourcing event ${event.reference} “${event.title}”.`,
+			`Bids close at ${event.deadline}. The bid sheet, the terms and the clarifications are on the event's page.`
+		],
+		{ label: 'Open the event', url: event.url }
+	);
+}
+
+export function amendmentMail(
+	to: string,
+	event: EventMailContext,
+	amendment: { number: number; summary: string; changes: string[] }
+): OutgoingMail {
+	return notice(
+		to,
+		`Amendment ${amendment.number} to ${event.reference} ${event.title}`,
+		[
+			`The buyer has amended the sourcing event ${event.reference} “${event.title}” (amendment ${amendment.number}).`,
+			amendment.summary,
+			...amendment.changes,
+			`Bids close at ${event.deadline}. Check that your bid still fits the amended event.`
+		],
+		{ label: 'Open the event', url: event.url }
+	);
+}
+
+export function clarificationMail(
+	to: string,
+	event: EventMailContext,
+	clarification: { question: string; answer: string }
+): OutgoingMail {
+	return notice(
+		to,
+		`Clarification for ${event.reference} ${event.title}`,
+		[
+			`A question about ${event.reference} “${event.title}” has been answered for every invited supplier. The asker is not named.`,
+			`Question: ${clarification.question}`,
+			`Answer: ${clarification.answer}`
+		],
+		{ label: 'Open the event', url: event.url }
+	);
+}
+
+export function bidReceiptMail(
+	to: string,
+	event: EventMailContext,
+	receipt: {
+		revision: number;
+		receivedAt: string;
+		fileName: string | null;
+		sha256: string | null;
+		lines: number;
+	}
+): OutgoingMail {
+	return notice(
+		to,
+		`Bid received: ${event.reference} revision ${receipt.revision}`,
+		[
+			`Your bid for ${event.reference} “${event.title}” was received and accepted as revision ${receipt.revision}.`,
+			`Received at ${receipt.receivedAt} (server time).`,
+			receipt.fileName
+				? `File: ${receipt.fileName}, SHA-256 ${receipt.sha256}.`
+				: 'Entered on screen; no file.',
+			`Lines priced: ${receipt.lines}. You can change or withdraw the bid until ${event.deadline}; the latest revision is your bid.`
+		],
+		{ label: 'Open the event', url: event.url }
+	);
+}
+
+export function withdrawalMail(to: string, event: EventMailContext, at: string): OutgoingMail {
+	return notice(
+		to,
+		`Bid withdrawn: ${event.reference}`,
+		[
+			`Your bid for ${event.reference} “${event.title}” was withdrawn at ${at} (server time).`,
+			`You can submit a new bid until ${event.deadline}.`
+		],
+		{ label: 'Open the event', url: event.url }
+	);
+}

@@ -59,7 +59,7 @@ export function neutralise(value: string): string {
 	return /^[=+\-@\t\r]/.test(value) ? `'${value}` : value;
 }
 
-function priceColumns(event: SheetEvent): string[] {
+export function priceColumns(event: SheetEvent): string[] {
 	const columns = ['Item ref', 'Description', 'Lot', 'Unit', 'Quantity', `Unit price (${event.currency})`];
 	if (event.allowCapacity) columns.push('Max quantity');
 	if (event.allowPriceBreaks) {
@@ -203,7 +203,7 @@ class Problems {
 function numberIn(
 	problems: Problems,
 	sheet: string,
-	row: number,
+	row: number | null,
 	column: string,
 	value: Cell,
 	rule: { positive?: boolean }
@@ -472,4 +472,38 @@ export function parseBidCsv(event: SheetEvent, text: string): ParseOutcome {
 	return problems.list.length
 		? { ok: false, problems: problems.list }
 		: { ok: true, bid: { lines, capacity: null, bundles: [] } };
+}
+
+export const SCREEN_SHEET = 'On-screen prices';
+
+/**
+ * Prices typed in the on-screen table: one row of cells per item, in the columns of the price sheet
+ * after the item columns (unit price, max quantity, breaks). The same checks as an upload; problems
+ * name the table and the item's row (row 2 is the first item, as on the sheet).
+ */
+export function parseScreenPrices(
+	event: SheetEvent,
+	entries: { item: string; cells: (string | null)[] }[],
+	capacity: string | null
+): ParseOutcome {
+	const problems = new Problems();
+	const columns = priceColumns(event);
+	const byRef = new Map(entries.map((e) => [e.item, e.cells]));
+	const rows: Cell[][] = [
+		columns,
+		...event.items.map((item) => {
+			const typed = (byRef.get(item.ref) ?? []).map((c) => (c === null || c.trim() === '' ? null : c.trim()));
+			return [item.ref, item.description, item.lot, item.unit, item.quantity, ...typed];
+		})
+	];
+	const lines = readPriceRows(event, SCREEN_SHEET, rows, problems);
+	const capacityValue =
+		event.allowCapacity && capacity !== null && capacity.trim() !== ''
+			? numberIn(problems, SCREEN_SHEET, null, 'Capacity', capacity.trim(), {})
+			: null;
+	if (!problems.list.length && !lines.length)
+		problems.add(SCREEN_SHEET, null, null, 'enter a unit price for at least one item');
+	return problems.list.length
+		? { ok: false, problems: problems.list }
+		: { ok: true, bid: { lines, capacity: capacityValue, bundles: [] } };
 }

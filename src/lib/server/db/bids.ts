@@ -1,0 +1,266 @@
+// Uploads and sealed bids. Rows with prices (bid lines, price breaks, bundle offers) are read only
+// through the database function visible_bid_revisions(event, viewer organisation, now): a supplier sees
+// its own, the buying organisation sees every bid once the deadline has passed, and nobody else anything.
+import type { ParsedBid, SheetProblem } from '../sheets/bid-sheet';
+import type { Db } from './knex';
+
+export interface UploadRow {
+	id: string;
+	event_id: string;
+	supplier_organisation_id: string;
+	uploaded_by: number;
+	storage_key: string;
+	sha256: string;
+	size_bytes: string;
+	file_name: string;
+	kind: 'xlsx' | 'csv' | null;
+	status: 'accepted' | 'rejected';
+	report: SheetProblem[];
+	received_at: Date;
+}
+
+export interface RevisionRow {
+	id: string;
+	event_id: string;
+	supplier_organisation_id: string;
+	number: number;
+	source: 'upload' | 'screen' | 'withdrawal';
+	upload_id: string | null;
+	capacity: string | null;
+	submitted_by: number;
+	submitted_at: Date;
+}
+
+export async function insertUpload(
+	db: Db,
+	upload: Omit<UploadRow, 'id' | 'received_at' | 'size_bytes'> & { size_bytes: number; received_at: Date }
+): Promise<UploadRow> {
+	const [row] = await db('uploads')
+		.insert({ ...upload, report: JSON.stringify(upload.report) })
+		.returning('*');
+	return row!;
+}
+
+export function listUploads(db: Db, eventId: string, supplierOrganisationId: string): Promise<UploadRow[]> {
+	return db<UploadRow>('uploads')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.orderBy('received_at', 'desc');
+}
+
+/** The next revision number; call inside the transaction that holds the event's lock. */
+async function nextRevisionNumber(db: Db, eventId: string, supplierOrganisationId: string): Promise<number> {
+	const [{ next }] = await db('bid_revisions')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.select(db.raw('coalesce(max(number), 0)::int + 1 as next'));
+	return next as number;
+}
+
+/** A new numbered revision with all its lines, breaks and bundles (a withdrawal has none). */
+export async function insertRevision(
+	db: Db,
+	revision: {
+		eventId: string;
+		supplierOrganisationId: string;
+		source: RevisionRow['source'];
+		uploadId: string | null;
+		submittedBy: number;
+		submittedAt: Date;
+		bid: ParsedBid | null;
+		itemIds: Map<string, string>;
+	}
+): Promise<RevisionRow> {
+	const number = await nextRevisionNumber(db, revision.eventId, revision.supplierOrganisationId);
+	const [row] = await db<RevisionRow>('bid_revisions')
+		.insert({
+			event_id: revision.eventId,
+			supplier_organisation_id: revision.supplierOrganisationId,
+			number,
+			source: revision.source,
+			upload_id: revision.uploadId,
+			capacity: revision.bid?.capacity === null || !revision.bid ? null : String(revision.bid.capacity),
+			submitted_by: revision.submittedBy,
+			submitted_at: revision.submittedAt
+		})
+		.returning('*');
+	const bid = revision.bid;
+	if (!bid) return row!;
+	const lines = bid.lines.map((l) => ({
+		revision_id: row!.id,
+		item_id: revision.itemIds.get(l.item)!,
+		unit_price: l.unitPrice,
+		max_quantity: l.maxQuantity
+	}));
+	for (let k = 0; k < lines.length; k += 2000) {
+		const stored: { id: string; item_id: string }[] = await db('bid_lines')
+			.insert(lines.slice(k, k + 2000))
+			.returning(['id', 'item_id']);
+		const lineOf = new Map(stored.map((s) => [s.item_id, s.id]));
+		const breaks = bid.lines.slice(k, k + 2000).flatMap((l) =>
+			l.priceBreaks.map((b) => ({
+				bid_line_id: lineOf.get(revision.itemIds.get(l.item)!)!,
+				from_quantity: b.fromQuantity,
+				unit_price: b.unitPrice
+			}))
+		);
+		for (let j = 0; j < breaks.length; j += 5000) await db('price_breaks').insert(breaks.slice(j, j + 5000));
+	}
+	for (const bundle of bid.bundles) {
+		const [offer] = await db('bundle_offers')
+			.insert({ revision_id: row!.id, ref: bundle.ref, price: bundle.price })
+			.returning('id');
+		await db('bundle_offer_items').insert(
+			bundle.items.map((i) => ({
+				bundle_offer_id: (offer as { id: string }).id,
+				item_id: revision.itemIds.get(i.item)!,
+				quantity: i.quantity
+			}))
+		);
+	}
+	return row!;
+}
+
+export interface Submission {
+	supplier_organisation_id: string;
+	supplier_name: string;
+	revisions: number;
+	latest_number: number;
+	latest_source: RevisionRow['source'];
+	latest_at: Date;
+}
+
+/** Who has submitted and when: no prices, no files. For the buying organisation at any time. */
+export function listSubmissions(db: Db, eventId: string): Promise<Submission[]> {
+	return db
+		.select('latest.*', 'o.name as supplier_name')
+		.from(
+			db('bid_revisions')
+				.where({ event_id: eventId })
+				.distinctOn('supplier_organisation_id')
+				.select(
+					'supplier_organisation_id',
+					'number as latest_number',
+					'source as latest_source',
+					'submitted_at as latest_at',
+					db.raw('count(*) over (partition by supplier_organisation_id)::int as revisions')
+				)
+				.orderBy([{ column: 'supplier_organisation_id' }, { column: 'number', order: 'desc' }])
+				.as('latest')
+		)
+		.join('organisations as o', 'o.id', 'latest.supplier_organisation_id')
+		.orderBy('latest.latest_at') as unknown as Promise<Submission[]>;
+}
+
+export function listOwnRevisions(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string
+): Promise<RevisionRow[]> {
+	return db<RevisionRow>('bid_revisions')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.orderBy('number', 'desc');
+}
+
+export interface VisibleLine {
+	revision_id: string;
+	supplier_organisation_id: string;
+	revision_number: number;
+	item_ref: string;
+	unit_price: string;
+	max_quantity: string | null;
+}
+
+export interface VisibleBid {
+	supplierOrganisationId: string;
+	supplierName: string;
+	revision: number;
+	submittedAt: Date;
+	source: RevisionRow['source'];
+	capacity: string | null;
+	lines: {
+		item: string;
+		unitPrice: string;
+		maxQuantity: string | null;
+		priceBreaks: { fromQuantity: string; unitPrice: string }[];
+	}[];
+	bundles: { ref: string; price: string; items: { item: string; quantity: string }[] }[];
+}
+
+/**
+ * The current bid (latest revision) of every supplier the viewer may see, with prices. A withdrawn bid
+ * is its withdrawal revision with no lines. `revision` picks one revision number of a single supplier.
+ */
+export async function visibleBids(
+	db: Db,
+	eventId: string,
+	viewerOrganisationId: string,
+	now: Date,
+	options: { supplierOrganisationId?: string; revision?: number } = {}
+): Promise<VisibleBid[]> {
+	let revisions = db
+		.select('r.*', 'o.name as supplier_name')
+		.from(db.raw('visible_bid_revisions(?, ?, ?) as r', [eventId, viewerOrganisationId, now]))
+		.join('organisations as o', 'o.id', 'r.supplier_organisation_id');
+	if (options.supplierOrganisationId)
+		revisions = revisions.where('r.supplier_organisation_id', options.supplierOrganisationId);
+	if (options.revision !== undefined) revisions = revisions.where('r.number', options.revision);
+	else
+		revisions = revisions.whereRaw(
+			'r.number = (select max(number) from bid_revisions x where x.event_id = r.event_id and x.supplier_organisation_id = r.supplier_organisation_id)'
+		);
+	const rows = (await revisions.orderBy('o.name')) as (RevisionRow & { supplier_name: string })[];
+	if (!rows.length) return [];
+	const ids = rows.map((r) => r.id);
+	const [lines, breaks, bundles] = await Promise.all([
+		db('bid_lines as l')
+			.join('items as i', 'i.id', 'l.item_id')
+			.whereIn('l.revision_id', ids)
+			.select('l.id', 'l.revision_id', 'i.ref as item', 'l.unit_price', 'l.max_quantity')
+			.orderBy('i.position'),
+		db('price_breaks as b')
+			.join('bid_lines as l', 'l.id', 'b.bid_line_id')
+			.whereIn('l.revision_id', ids)
+			.select('b.bid_line_id', 'b.from_quantity', 'b.unit_price')
+			.orderBy('b.from_quantity'),
+		db('bundle_offers as b')
+			.join('bundle_offer_items as bi', 'bi.bundle_offer_id', 'b.id')
+			.join('items as i', 'i.id', 'bi.item_id')
+			.whereIn('b.revision_id', ids)
+			.select('b.id', 'b.revision_id', 'b.ref', 'b.price', 'i.ref as item', 'bi.quantity')
+			.orderBy(['b.ref', 'i.position'])
+	]);
+	const breaksOf = new Map<string, { fromQuantity: string; unitPrice: string }[]>();
+	for (const b of breaks) {
+		const list = breaksOf.get(b.bid_line_id) ?? [];
+		list.push({ fromQuantity: b.from_quantity, unitPrice: b.unit_price });
+		breaksOf.set(b.bid_line_id, list);
+	}
+	return rows.map((r) => {
+		const offers = new Map<string, VisibleBid['bundles'][number]>();
+		for (const b of bundles.filter((x) => x.revision_id === r.id)) {
+			const offer: VisibleBid['bundles'][number] = offers.get(b.id) ?? {
+				ref: b.ref,
+				price: b.price,
+				items: []
+			};
+			offer.items.push({ item: b.item, quantity: b.quantity });
+			offers.set(b.id, offer);
+		}
+		return {
+			supplierOrganisationId: r.supplier_organisation_id,
+			supplierName: r.supplier_name,
+			revision: r.number,
+			submittedAt: r.submitted_at,
+			source: r.source,
+			capacity: r.capacity,
+			lines: lines
+				.filter((l) => l.revision_id === r.id)
+				.map((l) => ({
+					item: l.item,
+					unitPrice: l.unit_price,
+					maxQuantity: l.max_quantity,
+					priceBreaks: breaksOf.get(l.id) ?? []
+				})),
+			bundles: [...offers.values()]
+		};
+	});
+}

@@ -1,0 +1,63 @@
+import PgBoss from 'pg-boss';
+import { config } from '../config';
+import type { OutgoingMail } from '../mail';
+
+// Background work through pg-boss on the same PostgreSQL: closing events at their deadline and sending
+// mail with retries. Any process may enqueue; the processes that call startWorkers() do the work.
+export const QUEUES = { closeEvent: 'event-close', mail: 'mail' } as const;
+
+let boss: PgBoss | undefined;
+let starting: Promise<PgBoss> | undefined;
+
+/** The process's pg-boss, started (and its queues created) on first use. */
+export function jobs(): Promise<PgBoss> {
+	starting ??= (async () => {
+		const instance = new PgBoss({ connectionString: config().DATABASE_URL, max: 4 });
+		instance.on('error', (error) =>
+			console.error(JSON.stringify({ level: 'error', source: 'pg-boss', message: error.message }))
+		);
+		await instance.start();
+		for (const name of Object.values(QUEUES)) await instance.createQueue(name);
+		boss = instance;
+		return instance;
+	})();
+	return starting;
+}
+
+export async function stopJobs(): Promise<void> {
+	const running = boss;
+	boss = undefined;
+	starting = undefined;
+	await running?.stop({ graceful: true, wait: true, timeout: 5_000 });
+}
+
+/** Mail through the queue: retried with backoff while the relay is down. */
+export async function enqueueMail(mails: OutgoingMail[]): Promise<void> {
+	if (!mails.length) return;
+	const queue = await jobs();
+	await Promise.all(
+		mails.map((mail) =>
+			queue.send(
+				QUEUES.mail,
+				{
+					...mail,
+					attachments: mail.attachments?.map((a) => ({ ...a, content: a.content.toString('base64') }))
+				},
+				{ retryLimit: 10, retryDelay: 5, retryBackoff: true }
+			)
+		)
+	);
+}
+
+export interface CloseEventJob {
+	eventId: string;
+}
+
+export async function scheduleEventClose(eventId: string, deadline: Date): Promise<void> {
+	const queue = await jobs();
+	await queue.send(QUEUES.closeEvent, { eventId } satisfies CloseEventJob, {
+		startAfter: deadline,
+		singletonKey: `close-${eventId}-${deadline.toISOString()}`,
+		retryLimit: 5
+	});
+}

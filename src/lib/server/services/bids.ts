@@ -1,0 +1,287 @@
+// A supplier's bid: the sheet to fill, uploads (stored in S3 under a generated key with their SHA-256,
+// checked by content, parsed with every problem reported), on-screen entry, withdrawal and history; and
+// what the buying organisation may see: who submitted when, and prices only after the deadline.
+import { createHash, randomUUID } from 'node:crypto';
+import type { SessionUser } from '../auth/session-user';
+import { now } from '../clock';
+import {
+	insertRevision,
+	insertUpload,
+	listOwnRevisions,
+	listSubmissions,
+	listUploads,
+	visibleBids,
+	type RevisionRow,
+	type Submission,
+	type UploadRow,
+	type VisibleBid
+} from '../db/bids';
+import { listItems, lockEvent, type EventRow } from '../db/events';
+import { db } from '../db/knex';
+import { enqueueMail } from '../jobs';
+import { bidReceiptMail, withdrawalMail } from '../mail/templates';
+import {
+	buildBidCsv,
+	buildBidSheet,
+	parseBidCsv,
+	parseBidWorkbook,
+	parseScreenPrices,
+	type ParsedBid,
+	type SheetProblem
+} from '../sheets/bid-sheet';
+import { inspectUpload } from '../sheets/inspect';
+import { putObject } from '../storage';
+import { RuleViolation } from './errors';
+import { effectiveState, eventFor, mailContext, sheetEvent } from './events';
+import type { RequestContext } from './users';
+import { formatInZone } from '$lib/time';
+
+async function supplierEvent(actor: SessionUser, id: string): Promise<EventRow> {
+	const access = await eventFor(actor, id);
+	if (access.view !== 'supplier') throw new RuleViolation('Only invited suppliers bid.', undefined, 403);
+	return access.event;
+}
+
+function refuseUnlessOpen(event: EventRow, at = now()): void {
+	const state = effectiveState(event, at);
+	if (state === 'open') return;
+	const when = `${formatInZone(event.deadline, event.time_zone)} (${event.time_zone})`;
+	throw new RuleViolation(
+		state === 'draft'
+			? 'The event is not open for bids yet.'
+			: `The bid deadline passed at ${when}: bids can no longer be submitted, changed or withdrawn.`,
+		undefined,
+		409
+	);
+}
+
+export async function bidSheet(
+	actor: SessionUser,
+	id: string,
+	format: 'xlsx' | 'csv'
+): Promise<{ body: Buffer; fileName: string; contentType: string }> {
+	const event = await supplierEvent(actor, id);
+	const sheet = sheetEvent(event, await listItems(db(), id));
+	const base = `bid-sheet-${event.reference.replace(/[^A-Za-z0-9._-]/g, '_')}`;
+	return format === 'csv'
+		? {
+				body: Buffer.from(buildBidCsv(sheet), 'utf8'),
+				fileName: `${base}.csv`,
+				contentType: 'text/csv; charset=utf-8'
+			}
+		: {
+				body: await buildBidSheet(sheet, actor.organisationName),
+				fileName: `${base}.xlsx`,
+				contentType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet'
+			};
+}
+
+export type SubmitOutcome =
+	| { ok: true; revision: RevisionRow; upload: UploadRow | null; sha256: string | null }
+	| { ok: false; problems: SheetProblem[]; upload: UploadRow | null };
+
+const sheetProblem = (message: string): SheetProblem => ({
+	sheet: '(file)',
+	row: null,
+	column: null,
+	message
+});
+
+/**
+ * An uploaded bid sheet. The file is stored first (under a generated key, with its SHA-256); then its
+ * type, size and entries are checked before any parsing, then every cell. A rejected upload is kept
+ * with its report and changes nothing else; an accepted one becomes the next numbered revision, in
+ * one transaction that holds the event's lock and checks the deadline again by the server's clock.
+ */
+export async function submitUpload(
+	actor: SessionUser,
+	id: string,
+	file: { name: string; bytes: Buffer },
+	context: RequestContext
+): Promise<SubmitOutcome> {
+	const event = await supplierEvent(actor, id);
+	refuseUnlessOpen(event);
+	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
+	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
+	const inspection = await inspectUpload(file.bytes, file.name);
+	await putObject(key, file.bytes, 'application/octet-stream', { sha256 });
+	const items = await listItems(db(), id);
+	let problems: SheetProblem[] = [];
+	let bid: ParsedBid | null = null;
+	if (!inspection.ok) problems = [sheetProblem(inspection.message)];
+	else {
+		const sheet = sheetEvent(event, items);
+		const parsed =
+			inspection.kind === 'xlsx'
+				? await parseBidWorkbook(sheet, inspection.bytes)
+				: parseBidCsv(sheet, inspection.text);
+		if (parsed.ok) bid = parsed.bid;
+		else problems = parsed.problems;
+	}
+	const record = {
+		event_id: event.id,
+		supplier_organisation_id: actor.organisationId,
+		uploaded_by: actor.id,
+		storage_key: key,
+		sha256,
+		size_bytes: file.bytes.length,
+		file_name: file.name.slice(0, 255) || 'upload',
+		kind: inspection.ok ? inspection.kind : null
+	};
+	if (!bid) {
+		const upload = await insertUpload(db(), {
+			...record,
+			status: 'rejected',
+			report: problems,
+			received_at: now()
+		});
+		return { ok: false, problems, upload };
+	}
+	const accepted = bid;
+	const { revision, upload } = await db().transaction(async (trx) => {
+		const locked = (await lockEvent(trx, id))!;
+		const at = now();
+		refuseUnlessOpen(locked, at);
+		const upload = await insertUpload(trx, { ...record, status: 'accepted', report: [], received_at: at });
+		const revision = await insertRevision(trx, {
+			eventId: id,
+			supplierOrganisationId: actor.organisationId,
+			source: 'upload',
+			uploadId: upload.id,
+			submittedBy: actor.id,
+			submittedAt: at,
+			bid: accepted,
+			itemIds: new Map(items.map((i) => [i.ref, i.id]))
+		});
+		return { revision, upload };
+	});
+	await mailReceipt(actor, event, revision, context, {
+		fileName: upload.file_name,
+		sha256,
+		lines: accepted.lines.length
+	});
+	return { ok: true, revision, upload, sha256 };
+}
+
+async function mailReceipt(
+	actor: SessionUser,
+	event: EventRow,
+	revision: RevisionRow,
+	context: RequestContext,
+	detail: { fileName: string | null; sha256: string | null; lines: number }
+): Promise<void> {
+	await enqueueMail([
+		bidReceiptMail(actor.email, mailContext(event, context.origin, ''), {
+			revision: revision.number,
+			receivedAt: revision.submitted_at.toISOString(),
+			...detail
+		})
+	]);
+}
+
+/** Prices typed in the on-screen table, with the same checks as an upload. */
+export async function submitScreen(
+	actor: SessionUser,
+	id: string,
+	entries: { item: string; cells: (string | null)[] }[],
+	capacity: string | null,
+	context: RequestContext
+): Promise<SubmitOutcome> {
+	const event = await supplierEvent(actor, id);
+	refuseUnlessOpen(event);
+	const items = await listItems(db(), id);
+	const parsed = parseScreenPrices(sheetEvent(event, items), entries, capacity);
+	if (!parsed.ok) return { ok: false, problems: parsed.problems, upload: null };
+	const revision = await db().transaction(async (trx) => {
+		const locked = (await lockEvent(trx, id))!;
+		const at = now();
+		refuseUnlessOpen(locked, at);
+		return insertRevision(trx, {
+			eventId: id,
+			supplierOrganisationId: actor.organisationId,
+			source: 'screen',
+			uploadId: null,
+			submittedBy: actor.id,
+			submittedAt: at,
+			bid: parsed.bid,
+			itemIds: new Map(items.map((i) => [i.ref, i.id]))
+		});
+	});
+	await mailReceipt(actor, event, revision, context, {
+		fileName: null,
+		sha256: null,
+		lines: parsed.bid.lines.length
+	});
+	return { ok: true, revision, upload: null, sha256: null };
+}
+
+export async function withdraw(
+	actor: SessionUser,
+	id: string,
+	context: RequestContext
+): Promise<RevisionRow> {
+	const event = await supplierEvent(actor, id);
+	const revision = await db().transaction(async (trx) => {
+		const locked = (await lockEvent(trx, id))!;
+		const at = now();
+		refuseUnlessOpen(locked, at);
+		const own = await listOwnRevisions(trx, id, actor.organisationId);
+		if (!own.length || own[0]!.source === 'withdrawal')
+			throw new RuleViolation('There is no bid to withdraw.', undefined, 409);
+		return insertRevision(trx, {
+			eventId: id,
+			supplierOrganisationId: actor.organisationId,
+			source: 'withdrawal',
+			uploadId: null,
+			submittedBy: actor.id,
+			submittedAt: at,
+			bid: null,
+			itemIds: new Map()
+		});
+	});
+	await enqueueMail([
+		withdrawalMail(actor.email, mailContext(event, context.origin, ''), revision.submitted_at.toISOString())
+	]);
+	return revision;
+}
+
+export interface SupplierBidView {
+	current: VisibleBid | null;
+	revisions: RevisionRow[];
+	uploads: UploadRow[];
+}
+
+/** The supplier's own bid, revisions and uploads (with their reports). */
+export async function ownBid(actor: SessionUser, id: string, revision?: number): Promise<SupplierBidView> {
+	const event = await supplierEvent(actor, id);
+	const [current, revisions, uploads] = await Promise.all([
+		visibleBids(db(), event.id, actor.organisationId, now(), {
+			supplierOrganisationId: actor.organisationId,
+			revision
+		}),
+		listOwnRevisions(db(), event.id, actor.organisationId),
+		listUploads(db(), event.id, actor.organisationId)
+	]);
+	return { current: current[0] ?? null, revisions, uploads };
+}
+
+/** Who submitted and when, for the buying organisation's staff; never prices, never files. */
+export async function submissions(actor: SessionUser, id: string): Promise<Submission[]> {
+	const access = await eventFor(actor, id);
+	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bidders.', undefined, 403);
+	return listSubmissions(db(), id);
+}
+
+/** Every current bid with prices, for staff, once the deadline has passed; 403 before. */
+export async function openedBids(actor: SessionUser, id: string): Promise<VisibleBid[]> {
+	const access = await eventFor(actor, id);
+	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bids.', undefined, 403);
+	if (['draft', 'open'].includes(effectiveState(access.event))) {
+		throw new RuleViolation(
+			`Bids are sealed until the deadline, ${formatInZone(access.event.deadline, access.event.time_zone)} (${access.event.time_zone}).`,
+			undefined,
+			403
+		);
+	}
+	return visibleBids(db(), id, actor.organisationId, now());
+}

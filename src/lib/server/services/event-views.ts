@@ -1,0 +1,164 @@
+// What an event looks like to each side, as plain JSON for pages and the API. Suppliers never get the
+// names or the number of other invited suppliers.
+import { isStaff } from '$lib/roles';
+import type { SessionUser } from '../auth/session-user';
+import type { VisibleBid } from '../db/bids';
+import {
+	listAmendments,
+	listInvitations,
+	listItems,
+	listOrganisationEvents,
+	listInvitedEvents,
+	listQuestions,
+	listQuestionsForSupplier,
+	type EventRow,
+	type ItemRow
+} from '../db/events';
+import { db } from '../db/knex';
+import { now } from '../clock';
+import { effectiveState, eventFor } from './events';
+
+export function eventJson(event: EventRow) {
+	return {
+		id: event.id,
+		reference: event.reference,
+		title: event.title,
+		description: event.description,
+		currency: event.currency,
+		incoterm: event.incoterm,
+		deliveryPlace: event.delivery_place,
+		deadline: event.deadline.toISOString(),
+		timeZone: event.time_zone,
+		bidValidityDays: event.bid_validity_days,
+		allowPriceBreaks: event.allow_price_breaks,
+		allowCapacity: event.allow_capacity,
+		allowBundles: event.allow_bundles,
+		state: effectiveState(event),
+		publishedAt: event.published_at?.toISOString() ?? null,
+		openedAt: event.opened_at?.toISOString() ?? null,
+		serverTime: now().toISOString()
+	};
+}
+export type EventJson = ReturnType<typeof eventJson>;
+
+export function itemJson(item: ItemRow) {
+	const num = (v: string | null) => (v === null ? null : Number(v));
+	return {
+		ref: item.ref,
+		description: item.description,
+		lot: item.lot_ref,
+		quantity: Number(item.quantity),
+		unit: item.unit,
+		baselineUnitPrice: num(item.baseline_unit_price),
+		freightPerUnit: num(item.freight_per_unit),
+		dutyPerUnit: num(item.duty_per_unit)
+	};
+}
+export type ItemJson = ReturnType<typeof itemJson>;
+
+export async function eventsFor(user: SessionUser) {
+	const rows = isStaff(user.role)
+		? await listOrganisationEvents(db(), user.organisationId)
+		: await listInvitedEvents(db(), user.organisationId);
+	return rows.map((e) => ({
+		...eventJson(e),
+		items: e.items,
+		...(isStaff(user.role) ? { invited: e.invited } : {})
+	}));
+}
+
+/** Items without the buyer's baseline prices for suppliers (those are the buyer's own estimates). */
+export async function itemsFor(user: SessionUser, id: string): Promise<ItemJson[]> {
+	const { view } = await eventFor(user, id);
+	const items = (await listItems(db(), id)).map(itemJson);
+	return view === 'staff' ? items : items.map((i) => ({ ...i, baselineUnitPrice: null }));
+}
+
+export async function eventDetail(user: SessionUser, id: string) {
+	const { event, view, canEdit } = await eventFor(user, id);
+	const amendments = (await listAmendments(db(), id)).map((a) => ({
+		number: a.number,
+		summary: a.summary,
+		changes: a.detail,
+		at: a.created_at.toISOString()
+	}));
+	if (view === 'staff') {
+		const [invitations, questions] = await Promise.all([listInvitations(db(), id), listQuestions(db(), id)]);
+		return {
+			view,
+			canEdit,
+			event: eventJson(event),
+			openingRecord: event.opening_record,
+			amendments,
+			invitations: invitations.map((i) => ({
+				supplierOrganisationId: i.supplier_organisation_id,
+				supplierName: i.supplier_name,
+				invitedAt: i.invited_at.toISOString()
+			})),
+			questions: questions.map((q) => ({
+				id: q.id,
+				text: q.text,
+				askedAt: q.asked_at.toISOString(),
+				publishedQuestion: q.published_question,
+				answer: q.answer,
+				answeredAt: q.answered_at?.toISOString() ?? null
+			}))
+		};
+	}
+	const questions = await listQuestionsForSupplier(db(), id, user.organisationId);
+	return {
+		view,
+		canEdit: false,
+		event: eventJson(event),
+		openingRecord: null,
+		amendments,
+		invitations: [],
+		// Own questions as asked; everyone else's only as published with the answer, never who asked.
+		questions: questions.map((q) =>
+			q.supplier_organisation_id === user.organisationId
+				? {
+						id: q.id,
+						text: q.text,
+						askedAt: q.asked_at.toISOString(),
+						publishedQuestion: q.published_question,
+						answer: q.answer,
+						answeredAt: q.answered_at?.toISOString() ?? null
+					}
+				: {
+						id: q.id,
+						text: null,
+						askedAt: null,
+						publishedQuestion: q.published_question,
+						answer: q.answer,
+						answeredAt: q.answered_at?.toISOString() ?? null
+					}
+		)
+	};
+}
+export type EventDetail = Awaited<ReturnType<typeof eventDetail>>;
+
+export function bidJson(bid: VisibleBid) {
+	const num = (v: string | null) => (v === null ? null : Number(v));
+	return {
+		supplierOrganisationId: bid.supplierOrganisationId,
+		supplierName: bid.supplierName,
+		revision: bid.revision,
+		submittedAt: bid.submittedAt.toISOString(),
+		withdrawn: bid.source === 'withdrawal',
+		capacity: num(bid.capacity),
+		lines: bid.lines.map((l) => ({
+			item: l.item,
+			unitPrice: Number(l.unitPrice),
+			maxQuantity: num(l.maxQuantity),
+			priceBreaks: l.priceBreaks.map((b) => ({
+				fromQuantity: Number(b.fromQuantity),
+				unitPrice: Number(b.unitPrice)
+			}))
+		})),
+		bundles: bid.bundles.map((b) => ({
+			ref: b.ref,
+			price: Number(b.price),
+			items: b.items.map((i) => ({ item: i.item, quantity: Number(i.quantity) }))
+		}))
+	};
+}

@@ -1,0 +1,367 @@
+// Sourcing events from draft to opening: who may see and change what, publication, amendments,
+// invitations, clarifications and the closing at the deadline. Every deadline decision reads clock.now().
+import { isStaff } from '$lib/roles';
+import type { ItemFields } from '../db/events';
+import type { SessionUser } from '../auth/session-user';
+import { now } from '../clock';
+import {
+	answerQuestion,
+	deleteInvitation,
+	findEvent,
+	insertAmendment,
+	insertEvent,
+	insertInvitation,
+	insertQuestion,
+	invitedSupplierUsers,
+	isInvited,
+	listInvitations,
+	listItems,
+	listQuestions,
+	lockEvent,
+	findEventByReference,
+	replaceItems,
+	setEventState,
+	updateEventFields,
+	type EventFields,
+	type EventRow,
+	type EventState,
+	type ItemRow
+} from '../db/events';
+import { db, type Db } from '../db/knex';
+import { findOrganisation } from '../db/organisations';
+import { findUserByEmail } from '../db/users';
+import { enqueueMail, scheduleEventClose } from '../jobs';
+import {
+	amendmentMail,
+	clarificationMail,
+	eventInvitationMail,
+	type EventMailContext
+} from '../mail/templates';
+import type { SheetEvent } from '../sheets/bid-sheet';
+import { RuleViolation } from './errors';
+import { inviteUser, type RequestContext } from './users';
+import { formatInZone } from '$lib/time';
+
+export type EventAccess = { event: EventRow; view: 'staff' | 'supplier'; canEdit: boolean };
+
+/** The state as the rules see it: an open event past its deadline is closed, even before the job runs. */
+export function effectiveState(event: Pick<EventRow, 'state' | 'deadline'>, at = now()): EventState {
+	return event.state === 'open' && event.deadline.getTime() <= at.getTime() ? 'closed' : event.state;
+}
+
+export const isPastDeadline = (event: Pick<EventRow, 'deadline'>, at = now()) =>
+	event.deadline.getTime() <= at.getTime();
+
+const notFound = () => new RuleViolation('There is no such event, or it is not open to you.', undefined, 404);
+
+/**
+ * The event if the user may see it: staff of the buying organisation that owns it (buyers change it,
+ * approvers and auditors read), or a supplier organisation invited to it once it is published. Anyone
+ * else gets the same 404 as for an event that does not exist, so not even its existence leaks.
+ */
+export async function eventFor(user: SessionUser, id: string): Promise<EventAccess> {
+	let event = await findEvent(db(), id);
+	if (!event) throw notFound();
+	if (event.state === 'open' && isPastDeadline(event))
+		event = (await closeIfDue(event.id, 'first read after the deadline')) ?? event;
+	if (isStaff(user.role)) {
+		if (event.organisation_id !== user.organisationId) throw notFound();
+		return { event, view: 'staff', canEdit: user.role === 'buyer' };
+	}
+	if (event.state === 'draft' || !(await isInvited(db(), event.id, user.organisationId))) throw notFound();
+	return { event, view: 'supplier', canEdit: false };
+}
+
+export async function buyerEvent(user: SessionUser, id: string): Promise<EventRow> {
+	const access = await eventFor(user, id);
+	if (!access.canEdit) throw new RuleViolation('Only buyers change events.', undefined, 403);
+	return access.event;
+}
+
+/**
+ * Closes an open event whose deadline has passed and records the opening: called by the deadline job
+ * and by the first read after the deadline, whichever comes first. Idempotent.
+ */
+export async function closeIfDue(eventId: string, by: string): Promise<EventRow | undefined> {
+	return db().transaction(async (trx) => {
+		const event = await lockEvent(trx, eventId);
+		if (!event || event.state !== 'open' || !isPastDeadline(event)) return event;
+		const [{ suppliers, revisions }] = await trx('bid_revisions')
+			.where({ event_id: eventId })
+			.select(
+				trx.raw('count(distinct supplier_organisation_id)::int as suppliers'),
+				trx.raw('count(*)::int as revisions')
+			);
+		const at = now();
+		const record = { at: at.toISOString(), by, suppliers, revisions };
+		await setEventState(trx, eventId, 'closed', { opened_at: at, opening_record: record });
+		return { ...event, state: 'closed', opened_at: at, opening_record: record };
+	});
+}
+
+export function eventFields(form: {
+	reference: string;
+	title: string;
+	description: string;
+	currency: string;
+	incoterm: string;
+	deliveryPlace: string;
+	deadline: Date;
+	timeZone: string;
+	bidValidityDays: number;
+	allowPriceBreaks: boolean;
+	allowCapacity: boolean;
+	allowBundles: boolean;
+}): EventFields {
+	return { ...form };
+}
+
+async function referenceFree(trx: Db, organisationId: string, reference: string, except?: string) {
+	const clash = await findEventByReference(trx, organisationId, reference);
+	if (clash && clash.id !== except)
+		throw new RuleViolation(`Another event already has the reference ${reference}.`, 'reference', 409);
+}
+
+export async function createEvent(actor: SessionUser, fields: EventFields): Promise<EventRow> {
+	return db().transaction(async (trx) => {
+		await referenceFree(trx, actor.organisationId, fields.reference);
+		return insertEvent(trx, actor.organisationId, actor.id, fields);
+	});
+}
+
+export async function updateDraft(actor: SessionUser, id: string, fields: EventFields): Promise<void> {
+	await db().transaction(async (trx) => {
+		const event = await lockedDraft(trx, actor, id);
+		await referenceFree(trx, event.organisation_id, fields.reference, event.id);
+		await updateEventFields(trx, id, fields);
+	});
+}
+
+async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
+	await buyerEvent(actor, id);
+	const event = (await lockEvent(trx, id))!;
+	if (event.state !== 'draft') {
+		throw new RuleViolation(
+			'The event is published: its items and terms are locked. Change it by an amendment.',
+			undefined,
+			409
+		);
+	}
+	return event;
+}
+
+export async function saveItems(actor: SessionUser, id: string, items: ItemFields[]): Promise<void> {
+	await db().transaction(async (trx) => {
+		await lockedDraft(trx, actor, id);
+		await replaceItems(trx, id, items);
+	});
+}
+
+export function mailContext(event: EventRow, origin: string, buyerName: string): EventMailContext {
+	return {
+		reference: event.reference,
+		title: event.title,
+		buyerName,
+		deadline: `${formatInZone(event.deadline, event.time_zone)} (${event.time_zone})`,
+		url: `${origin}/supplier/events/${event.id}`
+	};
+}
+
+async function buyerName(event: EventRow): Promise<string> {
+	return (await findOrganisation(db(), event.organisation_id))?.name ?? 'The buyer';
+}
+
+export async function publish(
+	actor: SessionUser,
+	id: string,
+	context: RequestContext
+): Promise<{ invited: number; mailed: number }> {
+	const published = await db().transaction(async (trx) => {
+		const event = await lockedDraft(trx, actor, id);
+		const [items, invitations] = await Promise.all([listItems(trx, id), listInvitations(trx, id)]);
+		const missing = [
+			items.length ? null : 'at least one line item',
+			invitations.length ? null : 'at least one invited supplier',
+			isPastDeadline(event) ? 'a bid deadline in the future' : null
+		].filter(Boolean);
+		if (missing.length)
+			throw new RuleViolation(`Before publishing, the event needs ${missing.join(', ')}.`, undefined, 409);
+		await setEventState(trx, id, 'open', { published_at: now() });
+		return { event: { ...event, state: 'open' as const }, invited: invitations.length };
+	});
+	await scheduleEventClose(id, published.event.deadline);
+	const recipients = await invitedSupplierUsers(db(), id);
+	const mail = mailContext(published.event, context.origin, await buyerName(published.event));
+	await enqueueMail(recipients.map((r) => eventInvitationMail(r.email, mail)));
+	return { invited: published.invited, mailed: recipients.length };
+}
+
+export interface InviteRequest {
+	supplierOrganisationId: string;
+	email: string;
+	name: string;
+	newSupplierName: string;
+}
+
+/** Invites an existing supplier organisation, or a new one by e-mail (its account invitation goes out too). */
+export async function inviteSupplier(
+	actor: SessionUser,
+	id: string,
+	request: InviteRequest,
+	context: RequestContext
+): Promise<{ organisationName: string; added: boolean }> {
+	const event = await buyerEvent(actor, id);
+	if (!['draft', 'open'].includes(effectiveState(event)))
+		throw new RuleViolation('Suppliers can be invited only before the bid deadline.', undefined, 409);
+	let organisationId = request.supplierOrganisationId;
+	if (!organisationId) {
+		const existing = await findUserByEmail(db(), request.email.trim().toLowerCase());
+		if (existing) {
+			if (existing.role !== 'supplier')
+				throw new RuleViolation(`${request.email} belongs to a staff account, not a supplier.`, 'email', 409);
+			organisationId = existing.organisation_id;
+		} else {
+			const { user } = await inviteUser(
+				actor,
+				{
+					email: request.email,
+					name: request.name || request.email,
+					role: 'supplier',
+					supplierOrganisationId: '',
+					newSupplierName: request.newSupplierName
+				},
+				context
+			);
+			organisationId = user.organisation_id;
+		}
+	}
+	const organisation = await findOrganisation(db(), organisationId);
+	if (!organisation || organisation.kind !== 'supplier')
+		throw new RuleViolation('Choose a supplier organisation from the list.', 'supplierOrganisationId', 422);
+	const added = await insertInvitation(db(), id, organisationId, actor.id);
+	if (added && event.state === 'open') {
+		const mail = mailContext(event, context.origin, await buyerName(event));
+		const users = (await invitedSupplierUsers(db(), id)).filter((u) => u.organisation_id === organisationId);
+		await enqueueMail(users.map((u) => eventInvitationMail(u.email, mail)));
+	}
+	return { organisationName: organisation.name, added };
+}
+
+export async function removeInvitation(
+	actor: SessionUser,
+	id: string,
+	organisationId: string
+): Promise<void> {
+	await db().transaction(async (trx) => {
+		await lockedDraft(trx, actor, id);
+		await deleteInvitation(trx, id, organisationId);
+	});
+}
+
+export interface AmendmentRequest {
+	summary: string;
+	description: string;
+	deliveryPlace: string;
+	deadline: Date;
+}
+
+/** A change after publishing: recorded with what changed, shown to suppliers and mailed to every invited one. */
+export async function amend(
+	actor: SessionUser,
+	id: string,
+	request: AmendmentRequest,
+	context: RequestContext
+): Promise<{ number: number; mailed: number }> {
+	const { event, amendment, changes } = await db().transaction(async (trx) => {
+		await buyerEvent(actor, id);
+		const event = (await lockEvent(trx, id))!;
+		if (effectiveState(event) !== 'open')
+			throw new RuleViolation('Only an open event before its deadline can be amended.', undefined, 409);
+		if (request.deadline.getTime() <= now().getTime())
+			throw new RuleViolation('The new deadline must be in the future.', 'deadlineLocal', 422);
+		const detail: Record<string, { before: unknown; after: unknown }> = {};
+		const changes: string[] = [];
+		if (request.description !== event.description) {
+			detail.description = { before: event.description, after: request.description };
+			changes.push(`Description: ${request.description || '(none)'}`);
+		}
+		if (request.deliveryPlace !== event.delivery_place) {
+			detail.deliveryPlace = { before: event.delivery_place, after: request.deliveryPlace };
+			changes.push(`Delivery place: ${event.incoterm} ${request.deliveryPlace}`);
+		}
+		if (request.deadline.getTime() !== event.deadline.getTime()) {
+			detail.deadline = { before: event.deadline.toISOString(), after: request.deadline.toISOString() };
+			changes.push(
+				`Bid deadline: ${formatInZone(request.deadline, event.time_zone)} (${event.time_zone}), was ${formatInZone(event.deadline, event.time_zone)}`
+			);
+		}
+		if (!changes.length) throw new RuleViolation('Nothing would change.', 'summary', 422);
+		await trx('events').where({ id }).update({
+			description: request.description,
+			delivery_place: request.deliveryPlace,
+			deadline: request.deadline,
+			updated_at: trx.fn.now()
+		});
+		const amendment = await insertAmendment(trx, id, request.summary, detail, actor.id);
+		return { event: { ...event, deadline: request.deadline }, amendment, changes };
+	});
+	await scheduleEventClose(id, event.deadline);
+	const recipients = await invitedSupplierUsers(db(), id);
+	const mail = mailContext(event, context.origin, await buyerName(event));
+	await enqueueMail(
+		recipients.map((r) =>
+			amendmentMail(r.email, mail, { number: amendment.number, summary: amendment.summary, changes })
+		)
+	);
+	return { number: amendment.number, mailed: recipients.length };
+}
+
+export async function askQuestion(actor: SessionUser, id: string, text: string): Promise<void> {
+	const { event, view } = await eventFor(actor, id);
+	if (view !== 'supplier') throw new RuleViolation('Only invited suppliers ask questions.', undefined, 403);
+	if (effectiveState(event) !== 'open')
+		throw new RuleViolation('Questions can be asked only while the event is open for bids.', 'text', 409);
+	await insertQuestion(db(), id, actor.organisationId, actor.id, text);
+}
+
+export async function answer(
+	actor: SessionUser,
+	id: string,
+	request: { questionId: string; publishedQuestion: string; answer: string },
+	context: RequestContext
+): Promise<{ mailed: number }> {
+	const event = await buyerEvent(actor, id);
+	const question = (await listQuestions(db(), id)).find((q) => q.id === request.questionId);
+	if (!question) throw new RuleViolation('There is no such question in this event.', undefined, 404);
+	if (question.answer) throw new RuleViolation('This question has been answered already.', undefined, 409);
+	await answerQuestion(db(), question.id, request.publishedQuestion, request.answer, actor.id, now());
+	const recipients = await invitedSupplierUsers(db(), id);
+	const mail = mailContext(event, context.origin, await buyerName(event));
+	await enqueueMail(
+		recipients.map((r) =>
+			clarificationMail(r.email, mail, { question: request.publishedQuestion, answer: request.answer })
+		)
+	);
+	return { mailed: recipients.length };
+}
+
+export function sheetEvent(event: EventRow, items: ItemRow[]): SheetEvent {
+	return {
+		reference: event.reference,
+		title: event.title,
+		currency: event.currency,
+		bidValidityDays: event.bid_validity_days,
+		deadline: event.deadline,
+		timeZone: event.time_zone,
+		allowPriceBreaks: event.allow_price_breaks,
+		allowCapacity: event.allow_capacity,
+		allowBundles: event.allow_bundles,
+		items: items.map((i) => ({
+			ref: i.ref,
+			description: i.description,
+			lot: i.lot_ref,
+			unit: i.unit,
+			quantity: Number(i.quantity)
+		}))
+	};
+}

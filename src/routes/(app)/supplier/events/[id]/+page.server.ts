@@ -1,0 +1,102 @@
+import { fail } from '@sveltejs/kit';
+import { questionSchema } from '$lib/schemas/events';
+import { requireRole } from '$lib/server/auth/guard';
+import { httpError } from '$lib/server/http';
+import { requestContext } from '$lib/server/request-context';
+import { ownBid, submitScreen, withdraw } from '$lib/server/services/bids';
+import { RuleViolation } from '$lib/server/services/errors';
+import { bidJson, eventDetail, itemsFor } from '$lib/server/services/event-views';
+import { askQuestion, eventFor, sheetEvent } from '$lib/server/services/events';
+import { listItems } from '$lib/server/db/events';
+import { db } from '$lib/server/db/knex';
+import { priceColumns } from '$lib/server/sheets/bid-sheet';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	const user = requireRole(event, 'supplier');
+	try {
+		const [detail, items, own] = await Promise.all([
+			eventDetail(user, event.params.id),
+			itemsFor(user, event.params.id),
+			ownBid(user, event.params.id)
+		]);
+		const { event: row } = await eventFor(user, event.params.id);
+		return {
+			title: detail.event.reference,
+			detail,
+			items,
+			// The columns a supplier types, after the item columns of the sheet.
+			priceColumns: priceColumns(sheetEvent(row, await listItems(db(), row.id))).slice(5),
+			current: own.current ? bidJson(own.current) : null,
+			revisions: own.revisions.map((r) => ({
+				number: r.number,
+				source: r.source,
+				submittedAt: r.submitted_at.toISOString()
+			})),
+			uploads: own.uploads.map((u) => ({
+				id: u.id,
+				fileName: u.file_name,
+				sha256: u.sha256,
+				status: u.status,
+				report: u.report,
+				receivedAt: u.received_at.toISOString()
+			}))
+		};
+	} catch (error) {
+		if (error instanceof RuleViolation) httpError(error.status, error.message, { path: event.url.pathname });
+		throw error;
+	}
+};
+
+async function attempt<T>(work: () => Promise<T>) {
+	try {
+		return await work();
+	} catch (error) {
+		if (error instanceof RuleViolation) return fail(error.status, { error: error.message });
+		throw error;
+	}
+}
+
+export const actions: Actions = {
+	prices: async (event) => {
+		const user = requireRole(event, 'supplier');
+		const data = await event.request.formData();
+		let entries: { item: string; cells: (string | null)[] }[];
+		try {
+			entries = JSON.parse(String(data.get('entries') ?? '[]'));
+			if (!Array.isArray(entries)) throw new Error('not a list');
+		} catch {
+			return fail(400, { error: 'The price table could not be read.' });
+		}
+		const capacity = data.get('capacity');
+		return attempt(async () => {
+			const outcome = await submitScreen(
+				user,
+				event.params.id,
+				entries,
+				typeof capacity === 'string' ? capacity : null,
+				requestContext(event)
+			);
+			if (!outcome.ok) return fail(422, { problems: outcome.problems });
+			return {
+				accepted: `Accepted as revision ${outcome.revision.number} at ${outcome.revision.submitted_at.toISOString()}.`
+			};
+		});
+	},
+	withdraw: async (event) => {
+		const user = requireRole(event, 'supplier');
+		return attempt(async () => {
+			const revision = await withdraw(user, event.params.id, requestContext(event));
+			return { accepted: `Your bid is withdrawn (revision ${revision.number}).` };
+		});
+	},
+	ask: async (event) => {
+		const user = requireRole(event, 'supplier');
+		const parsed = questionSchema.safeParse(Object.fromEntries(await event.request.formData()));
+		if (!parsed.success) return fail(400, { askError: parsed.error.issues[0]!.message });
+		return attempt(async () => {
+			await askQuestion(user, event.params.id, parsed.data.text);
+			return { asked: 'Your question is sent. The answer goes to all invited suppliers, without your name.' };
+		});
+	}
+};

@@ -1,0 +1,125 @@
+// Events for tests, made directly in the database, and signed-in clients for each role.
+import ExcelJS from 'exceljs';
+import type { Role } from '../../src/lib/roles';
+import { Browserless } from './http';
+import { aUser, anOrganisation, testDb, theBuyingOrganisation, unique, type TestUser } from './factories';
+
+export async function signedIn(user: TestUser): Promise<Browserless> {
+	const client = new Browserless();
+	if (user.role === 'supplier') await client.signInByEmailLink(user.email);
+	else await client.signInWithPassword(user.email, user.password!);
+	return client;
+}
+
+export async function aSignedInUser(role: Role, options: { organisationId?: string } = {}) {
+	const user = await aUser(role, options);
+	return { user, client: await signedIn(user) };
+}
+
+export interface TestEvent {
+	id: string;
+	reference: string;
+	items: { id: string; ref: string; quantity: number }[];
+}
+
+/** An open event (published) of the buying organisation with items in lots, and the given suppliers invited. */
+export async function anOpenEvent(options: {
+	createdBy: number;
+	invite: string[];
+	items?: number;
+	deadline?: Date;
+	allowPriceBreaks?: boolean;
+	allowCapacity?: boolean;
+	allowBundles?: boolean;
+	state?: 'draft' | 'open';
+}): Promise<TestEvent> {
+	const db = testDb();
+	const buying = await theBuyingOrganisation();
+	const reference = unique('EV');
+	const [event] = await db('events')
+		.insert({
+			organisation_id: buying.id,
+			reference,
+			title: 'Test event',
+			currency: 'EUR',
+			incoterm: 'DAP',
+			delivery_place: 'Test town',
+			deadline: options.deadline ?? new Date(Date.now() + 7 * 24 * 3600_000),
+			time_zone: 'Europe/Berlin',
+			state: options.state ?? 'open',
+			published_at: options.state === 'draft' ? null : new Date(),
+			allow_price_breaks: options.allowPriceBreaks ?? false,
+			allow_capacity: options.allowCapacity ?? false,
+			allow_bundles: options.allowBundles ?? false,
+			created_by: options.createdBy
+		})
+		.returning('id');
+	const [lot] = await db('lots').insert({ event_id: event.id, ref: 'L1', title: 'Lot 1' }).returning('id');
+	const count = options.items ?? 3;
+	const items = await db('items')
+		.insert(
+			Array.from({ length: count }, (_, k) => ({
+				event_id: event.id,
+				lot_id: lot.id,
+				ref: `IT-${k + 1}`,
+				description: `Test item ${k + 1}`,
+				quantity: 100 * (k + 1),
+				unit: 'C62',
+				position: k
+			}))
+		)
+		.returning(['id', 'ref', 'quantity']);
+	for (const organisationId of options.invite)
+		await db('invitations').insert({
+			event_id: event.id,
+			supplier_organisation_id: organisationId,
+			invited_by: options.createdBy
+		});
+	return {
+		id: event.id,
+		reference,
+		items: items.map((i: { id: string; ref: string; quantity: string }) => ({
+			...i,
+			quantity: Number(i.quantity)
+		}))
+	};
+}
+
+export async function aSupplierOrganisationWithUser() {
+	const organisation = await anOrganisation('supplier');
+	const user = await aUser('supplier', { organisationId: organisation.id });
+	return { organisation, user };
+}
+
+/** Fills the Prices sheet of a downloaded bid sheet: one row per item ref with the given cells from column F. */
+export async function fillSheet(
+	sheet: Buffer,
+	prices: Record<string, (string | number | null)[]>,
+	edit?: (workbook: ExcelJS.Workbook) => void
+): Promise<Buffer> {
+	const workbook = new ExcelJS.Workbook();
+	await workbook.xlsx.load(sheet as unknown as ArrayBuffer);
+	const ws = workbook.getWorksheet('Prices')!;
+	ws.eachRow((row, number) => {
+		if (number === 1) return;
+		const cells = prices[String(row.getCell(1).value)];
+		cells?.forEach((value, k) => (row.getCell(6 + k).value = value));
+	});
+	edit?.(workbook);
+	return Buffer.from(await workbook.xlsx.writeBuffer());
+}
+
+export async function uploadSheet(
+	client: Browserless,
+	eventId: string,
+	bytes: Buffer,
+	fileName = 'bid.xlsx'
+) {
+	const form = new FormData();
+	form.append('file', new Blob([new Uint8Array(bytes)]), fileName);
+	return client.request(`/api/events/${eventId}/bids`, {
+		method: 'POST',
+		body: form,
+		accept: 'application/json'
+	});
+}
