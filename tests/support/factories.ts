@@ -28,18 +28,20 @@ export async function anOrganisation(
 }
 
 /** The buying organisation staff join; made once per database. */
-export async function theBuyingOrganisation() {
-	const found = await testDb()('organisations')
-		.where({ kind: 'buyer' })
-		.orderBy('created_at')
-		.first(['id', 'name', 'kind']);
-	if (found) return found as { id: string; name: string; kind: 'buyer' };
-	// Tests running side by side may both find none: the second insert gives way to the first.
-	await testDb()('organisations')
-		.insert({ name: 'Test buying organisation', kind: 'buyer' })
-		.onConflict(['kind', 'name'])
-		.ignore();
-	return theBuyingOrganisation();
+export async function theBuyingOrganisation(): Promise<{ id: string; name: string; kind: 'buyer' }> {
+	// Tests running side by side may all find none: a transaction-scoped advisory lock lets one make it.
+	return testDb().transaction(async (trx) => {
+		await trx.raw(`select pg_advisory_xact_lock(hashtext('tests: the buying organisation'))`);
+		const found = await trx('organisations')
+			.where({ kind: 'buyer' })
+			.orderBy('created_at')
+			.first(['id', 'name', 'kind']);
+		if (found) return found as { id: string; name: string; kind: 'buyer' };
+		const [row] = await trx('organisations')
+			.insert({ name: 'Test buying organisation', kind: 'buyer' })
+			.returning(['id', 'name', 'kind']);
+		return row as { id: string; name: string; kind: 'buyer' };
+	});
 }
 
 export interface TestUser {
