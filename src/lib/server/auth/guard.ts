@@ -32,6 +32,7 @@ export const areas: { prefix: string; roles: readonly Role[] }[] = [
 	{ prefix: '/approver', roles: ['approver'] },
 	{ prefix: '/supplier', roles: ['supplier'] },
 	{ prefix: '/audit', roles: ['auditor'] },
+	{ prefix: '/events', roles: ['buyer', 'approver', 'auditor', 'admin'] },
 	{ prefix: '/api/organisations', roles: ['admin', 'buyer'] },
 	{ prefix: '/api/admin', roles: ['admin'] }
 ];

@@ -31,6 +31,7 @@ import {
 } from '../sheets/bid-sheet';
 import { inspectUpload } from '../sheets/inspect';
 import { putObject } from '../storage';
+import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, mailContext, sheetEvent } from './events';
 import type { RequestContext } from './users';
@@ -129,11 +130,27 @@ export async function submitUpload(
 		kind: inspection.ok ? inspection.kind : null
 	};
 	if (!bid) {
-		const upload = await insertUpload(db(), {
-			...record,
-			status: 'rejected',
-			report: problems,
-			received_at: now()
+		const upload = await db().transaction(async (trx) => {
+			const stored = await insertUpload(trx, {
+				...record,
+				status: 'rejected',
+				report: problems,
+				received_at: now()
+			});
+			await appendTrail(trx, {
+				eventId: id,
+				actor,
+				action: 'upload rejected',
+				detail: {
+					supplier: actor.organisationName,
+					upload: stored.id,
+					sha256,
+					bytes: file.bytes.length,
+					problems: problems.length
+				},
+				at: stored.received_at
+			});
+			return stored;
 		});
 		return { ok: false, problems, upload };
 	}
@@ -152,6 +169,21 @@ export async function submitUpload(
 			submittedAt: at,
 			bid: accepted,
 			itemIds: new Map(items.map((i) => [i.ref, i.id]))
+		});
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'upload accepted',
+			detail: {
+				supplier: actor.organisationName,
+				revision: revision.number,
+				upload: upload.id,
+				sha256,
+				bytes: file.bytes.length,
+				lines: accepted.lines.length,
+				bundles: accepted.bundles.length
+			},
+			at
 		});
 		return { revision, upload };
 	});
@@ -196,7 +228,7 @@ export async function submitScreen(
 		const locked = (await lockEvent(trx, id))!;
 		const at = now();
 		refuseUnlessOpen(locked, at);
-		return insertRevision(trx, {
+		const revision = await insertRevision(trx, {
 			eventId: id,
 			supplierOrganisationId: actor.organisationId,
 			source: 'screen',
@@ -206,6 +238,14 @@ export async function submitScreen(
 			bid: parsed.bid,
 			itemIds: new Map(items.map((i) => [i.ref, i.id]))
 		});
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'on-screen bid received',
+			detail: { supplier: actor.organisationName, revision: revision.number, lines: parsed.bid.lines.length },
+			at
+		});
+		return revision;
 	});
 	await mailReceipt(actor, event, revision, context, {
 		fileName: null,
@@ -228,7 +268,7 @@ export async function withdraw(
 		const own = await listOwnRevisions(trx, id, actor.organisationId);
 		if (!own.length || own[0]!.source === 'withdrawal')
 			throw new RuleViolation('There is no bid to withdraw.', undefined, 409);
-		return insertRevision(trx, {
+		const revision = await insertRevision(trx, {
 			eventId: id,
 			supplierOrganisationId: actor.organisationId,
 			source: 'withdrawal',
@@ -238,6 +278,14 @@ export async function withdraw(
 			bid: null,
 			itemIds: new Map()
 		});
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'bid withdrawn',
+			detail: { supplier: actor.organisationName, revision: revision.number },
+			at
+		});
+		return revision;
 	});
 	await enqueueMail([
 		withdrawalMail(actor.email, mailContext(event, context.origin, ''), revision.submitted_at.toISOString())

@@ -38,6 +38,7 @@ import {
 	type EventMailContext
 } from '../mail/templates';
 import type { SheetEvent } from '../sheets/bid-sheet';
+import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { RuleViolation } from './errors';
 import { inviteUser, type RequestContext } from './users';
 import { formatInZone } from '$lib/time';
@@ -95,6 +96,13 @@ export async function closeIfDue(eventId: string, by: string): Promise<EventRow 
 		const at = now();
 		const record = { at: at.toISOString(), by, suppliers, revisions };
 		await setEventState(trx, eventId, 'closed', { opened_at: at, opening_record: record });
+		await appendTrail(trx, {
+			eventId,
+			actor: 'system',
+			action: 'bids opened',
+			detail: { ...record, state: { from: 'open', to: 'closed' } },
+			at
+		});
 		return { ...event, state: 'closed', opened_at: at, opening_record: record };
 	});
 }
@@ -125,7 +133,14 @@ async function referenceFree(trx: Db, organisationId: string, reference: string,
 export async function createEvent(actor: SessionUser, fields: EventFields): Promise<EventRow> {
 	return db().transaction(async (trx) => {
 		await referenceFree(trx, actor.organisationId, fields.reference);
-		return insertEvent(trx, actor.organisationId, actor.id, fields);
+		const event = await insertEvent(trx, actor.organisationId, actor.id, fields);
+		await appendTrail(trx, {
+			eventId: event.id,
+			actor,
+			action: 'event created',
+			detail: trailFields(fields)
+		});
+		return event;
 	});
 }
 
@@ -134,6 +149,7 @@ export async function updateDraft(actor: SessionUser, id: string, fields: EventF
 		const event = await lockedDraft(trx, actor, id);
 		await referenceFree(trx, event.organisation_id, fields.reference, event.id);
 		await updateEventFields(trx, id, fields);
+		await appendTrail(trx, { eventId: id, actor, action: 'draft changed', detail: trailFields(fields) });
 	});
 }
 
@@ -154,6 +170,16 @@ export async function saveItems(actor: SessionUser, id: string, items: ItemField
 	await db().transaction(async (trx) => {
 		await lockedDraft(trx, actor, id);
 		await replaceItems(trx, id, items);
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'items saved',
+			detail: {
+				items: items.length,
+				lots: new Set(items.map((i) => i.lot)).size,
+				sha256: sha256(canonicalJson(items))
+			}
+		});
 	});
 }
 
@@ -186,7 +212,21 @@ export async function publish(
 		].filter(Boolean);
 		if (missing.length)
 			throw new RuleViolation(`Before publishing, the event needs ${missing.join(', ')}.`, undefined, 409);
-		await setEventState(trx, id, 'open', { published_at: now() });
+		const at = now();
+		await setEventState(trx, id, 'open', { published_at: at });
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'event published',
+			detail: {
+				state: { from: 'draft', to: 'open' },
+				deadline: event.deadline.toISOString(),
+				timeZone: event.time_zone,
+				items: items.length,
+				invited: invitations.map((i) => i.supplier_name)
+			},
+			at
+		});
 		return { event: { ...event, state: 'open' as const }, invited: invitations.length };
 	});
 	await scheduleEventClose(id, published.event.deadline);
@@ -238,7 +278,17 @@ export async function inviteSupplier(
 	const organisation = await findOrganisation(db(), organisationId);
 	if (!organisation || organisation.kind !== 'supplier')
 		throw new RuleViolation('Choose a supplier organisation from the list.', 'supplierOrganisationId', 422);
-	const added = await insertInvitation(db(), id, organisationId, actor.id);
+	const added = await db().transaction(async (trx) => {
+		const inserted = await insertInvitation(trx, id, organisationId, actor.id);
+		if (inserted)
+			await appendTrail(trx, {
+				eventId: id,
+				actor,
+				action: 'supplier invited',
+				detail: { supplier: organisation.name }
+			});
+		return inserted;
+	});
 	if (added && event.state === 'open') {
 		const mail = mailContext(event, context.origin, await buyerName(event));
 		const users = (await invitedSupplierUsers(db(), id)).filter((u) => u.organisation_id === organisationId);
@@ -255,6 +305,13 @@ export async function removeInvitation(
 	await db().transaction(async (trx) => {
 		await lockedDraft(trx, actor, id);
 		await deleteInvitation(trx, id, organisationId);
+		const organisation = await findOrganisation(trx, organisationId);
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'invitation withdrawn',
+			detail: { supplier: organisation?.name ?? organisationId }
+		});
 	});
 }
 
@@ -303,6 +360,12 @@ export async function amend(
 			updated_at: trx.fn.now()
 		});
 		const amendment = await insertAmendment(trx, id, request.summary, detail, actor.id);
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: `amendment ${amendment.number}`,
+			detail: { summary: request.summary, changes: detail }
+		});
 		return { event: { ...event, deadline: request.deadline }, amendment, changes };
 	});
 	await scheduleEventClose(id, event.deadline);
@@ -321,7 +384,15 @@ export async function askQuestion(actor: SessionUser, id: string, text: string):
 	if (view !== 'supplier') throw new RuleViolation('Only invited suppliers ask questions.', undefined, 403);
 	if (effectiveState(event) !== 'open')
 		throw new RuleViolation('Questions can be asked only while the event is open for bids.', 'text', 409);
-	await insertQuestion(db(), id, actor.organisationId, actor.id, text);
+	await db().transaction(async (trx) => {
+		const question = await insertQuestion(trx, id, actor.organisationId, actor.id, text);
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'question asked',
+			detail: { question: question.id, supplier: actor.organisationName, text }
+		});
+	});
 }
 
 export async function answer(
@@ -334,7 +405,15 @@ export async function answer(
 	const question = (await listQuestions(db(), id)).find((q) => q.id === request.questionId);
 	if (!question) throw new RuleViolation('There is no such question in this event.', undefined, 404);
 	if (question.answer) throw new RuleViolation('This question has been answered already.', undefined, 409);
-	await answerQuestion(db(), question.id, request.publishedQuestion, request.answer, actor.id, now());
+	await db().transaction(async (trx) => {
+		await answerQuestion(trx, question.id, request.publishedQuestion, request.answer, actor.id, now());
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'answer published',
+			detail: { question: question.id, publishedQuestion: request.publishedQuestion, answer: request.answer }
+		});
+	});
 	const recipients = await invitedSupplierUsers(db(), id);
 	const mail = mailContext(event, context.origin, await buyerName(event));
 	await enqueueMail(
@@ -343,6 +422,10 @@ export async function answer(
 		)
 	);
 	return { mailed: recipients.length };
+}
+
+function trailFields(fields: EventFields) {
+	return { ...fields, deadline: fields.deadline.toISOString() };
 }
 
 export function sheetEvent(event: EventRow, items: ItemRow[]): SheetEvent {
