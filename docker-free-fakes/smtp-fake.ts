@@ -1,6 +1,8 @@
 // The local SMTP stand-in: accepts every message on loopback, keeps each one as JSON under
 // SMTP_FAKE_DIR (so they survive a restart), and serves them over a small HTTP API:
 //   GET /messages (newest first; ?to= filters by recipient), GET /messages/:id, DELETE /messages
+//   PUT /outages/:address, DELETE /outages/:address: while an address is listed, the fake answers its
+//   RCPT TO with "451 try again later", as a relay in trouble would (tests of retried mail)
 import { randomUUID } from 'node:crypto';
 import { mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:http';
@@ -30,12 +32,24 @@ function addresses(field: AddressObject | AddressObject[] | undefined): string[]
 	return list.flatMap((a) => a.value.map((v) => v.address ?? '')).filter(Boolean);
 }
 
+const outages = new Set<string>();
+
 const smtp = new SMTPServer({
 	// The bundled certificate of smtp-server has expired; the fake speaks plain SMTP on loopback only.
 	authOptional: true,
 	disabledCommands: ['STARTTLS'],
 	size: 25 * 1024 * 1024,
 	logger: false,
+	onRcptTo(address, _session, callback) {
+		if (outages.has(address.address.toLowerCase())) {
+			const error = new Error('451 4.3.0 Temporary failure: try again later') as Error & {
+				responseCode: number;
+			};
+			error.responseCode = 451;
+			return callback(error);
+		}
+		callback();
+	},
 	onData(stream, session, callback) {
 		simpleParser(stream)
 			.then((mail) => {
@@ -88,6 +102,13 @@ const http = createServer((request, response) => {
 	if (url.pathname === '/messages' && request.method === 'DELETE') {
 		for (const f of readdirSync(directory)) rmSync(join(directory, f), { force: true });
 		return send(200, { deleted: true });
+	}
+	const outage = /^\/outages\/(.+)$/.exec(url.pathname);
+	if (outage && (request.method === 'PUT' || request.method === 'DELETE')) {
+		const address = decodeURIComponent(outage[1]!).toLowerCase();
+		if (request.method === 'PUT') outages.add(address);
+		else outages.delete(address);
+		return send(200, { address, outage: outages.has(address) });
 	}
 	const one = /^\/messages\/([\w-]+)$/.exec(url.pathname);
 	if (one && request.method === 'GET') {

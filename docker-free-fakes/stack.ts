@@ -3,7 +3,7 @@
 // lint, unit, integration and browser tests; it stops everything it started. `fakes`: only the
 // services, for `npm run dev`.
 import { spawn, spawnSync } from 'node:child_process';
-import { chmodSync, existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { chmodSync, existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
@@ -77,6 +77,31 @@ async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<A
 	});
 	say(`SMTP fake on ${env.SMTP_URL}, its mailbox API on ${env.MAIL_FAKE_API}`);
 	return env;
+}
+
+/** One worker process (`npm run worker`): award runs, notices, closing events and mail from the queues. */
+async function startWorkerProcess(
+	plan: StackPlan,
+	supervisor: Supervisor,
+	env: AppEnvironment & Record<string, string>
+): Promise<void> {
+	const logFile = join(plan.dataRoot, 'logs', 'worker.log');
+	const from = existsSync(logFile) ? statSync(logFile).size : 0;
+	await supervisor.start({
+		name: 'worker',
+		command: process.execPath,
+		args: ['--import', 'tsx', join(root, 'src', 'worker.ts')],
+		cwd: root,
+		env: { ...process.env, ...env, NODE_ENV: 'production', EXIT_WITH_PARENT: '1' },
+		logFile,
+		echo: !plan.throwaway,
+		ready: () =>
+			waitFor(
+				async () => existsSync(logFile) && readFileSync(logFile, 'utf8').slice(from).includes('taking jobs'),
+				'the worker process',
+				60_000
+			)
+	});
 }
 
 async function startWeb(
@@ -153,6 +178,7 @@ async function start(): Promise<void> {
 		say('migrated and loaded the demo scenario');
 		build();
 		await startWeb(plan, supervisor, env);
+		await startWorkerProcess(plan, supervisor, env);
 		console.log(
 			[
 				'',
@@ -247,6 +273,7 @@ async function test(): Promise<void> {
 				SIGN_IN_LIMIT_PER_ADDRESS: '100000',
 				CLOCK_OFFSET_FILE: join(dataRoot, 'clock.json')
 			});
+			await startWorkerProcess(plan, supervisor, { ...env, CLOCK_OFFSET_FILE: join(dataRoot, 'clock.json') });
 			return true;
 		});
 		if (ready && env) {

@@ -24,6 +24,7 @@ export interface EventRow {
 	published_at: Date | null;
 	opened_at: Date | null;
 	opening_record: { at: string; by: string; suppliers: number; revisions: number } | null;
+	awarded_run_id: string | null;
 	created_by: number;
 	created_at: Date;
 	updated_at: Date;

@@ -4,7 +4,12 @@ import type { OutgoingMail } from '../mail';
 
 // Background work through pg-boss on the same PostgreSQL: closing events at their deadline and sending
 // mail with retries. Any process may enqueue; the processes that call startWorkers() do the work.
-export const QUEUES = { closeEvent: 'event-close', mail: 'mail' } as const;
+export const QUEUES = {
+	closeEvent: 'event-close',
+	mail: 'mail',
+	awardRun: 'award-run',
+	notice: 'notice'
+} as const;
 
 let boss: PgBoss | undefined;
 let starting: Promise<PgBoss> | undefined;

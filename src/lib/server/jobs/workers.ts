@@ -1,14 +1,28 @@
 import { sendMail, type OutgoingMail } from '../mail';
 import { closeIfDue } from '../services/events';
 import { jobs, QUEUES, type CloseEventJob } from '.';
+import { sendNotice } from './notices';
 
 type QueuedMail = Omit<OutgoingMail, 'attachments'> & {
 	attachments?: { filename: string; content: string; contentType?: string }[];
 };
 
-/** Takes work from the queues in this process: closing events at their deadline and sending mail. */
-export async function startWorkers(): Promise<void> {
+/**
+ * Takes work from the queues in this process: closing events at their deadline, mail and notices; award
+ * runs only where asked (worker processes), so a web process never solves.
+ */
+export async function startWorkers(options: { awardRuns?: boolean } = {}): Promise<void> {
 	const queue = await jobs();
+	await queue.work<{ noticeId: string }>(QUEUES.notice, async ([job]) => {
+		if (job) await sendNotice(job.data.noticeId);
+	});
+	if (options.awardRuns) {
+		const { runAward, failAbandonedRuns } = await import('./award-runs');
+		await failAbandonedRuns();
+		await queue.work<{ runId: string }>(QUEUES.awardRun, async ([job]) => {
+			if (job) await runAward(job.data.runId);
+		});
+	}
 	await queue.work<CloseEventJob>(QUEUES.closeEvent, async ([job]) => {
 		if (job) await closeIfDue(job.data.eventId, 'deadline job');
 	});

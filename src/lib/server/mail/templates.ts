@@ -154,3 +154,51 @@ export function withdrawalMail(to: string, event: EventMailContext, at: string):
 		{ label: 'Open the event', url: event.url }
 	);
 }
+
+export interface NoticeLine {
+	item: string;
+	quantity: number;
+	unitPrice: number;
+	cost: number;
+}
+
+export function awardNoticeMail(
+	to: string,
+	event: EventMailContext & { currency: string },
+	notice: { supplierName: string; lines: NoticeLine[]; standstillEndsOn: string }
+): OutgoingMail {
+	const total = notice.lines.reduce((a, l) => a + l.cost, 0);
+	const table = notice.lines.map(
+		(l) =>
+			`${l.item}: ${l.quantity} at ${l.unitPrice} ${event.currency} = ${l.cost.toFixed(2)} ${event.currency}`
+	);
+	return notice_(
+		to,
+		`Award notice: ${event.reference} ${event.title}`,
+		[
+			`${event.buyerName} intends to award ${notice.supplierName} the following lines of ${event.reference} “${event.title}”. Your lines are attached as a spreadsheet too.`,
+			...table,
+			`Total: ${total.toFixed(2)} ${event.currency} (landed cost where the buyer added freight or duty).`,
+			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules); the contract is not concluded before then. This notice is not itself a contract.`
+		],
+		{ label: 'See your result', url: event.url }
+	);
+}
+
+export function regretNoticeMail(
+	to: string,
+	event: EventMailContext,
+	notice: { supplierName: string; standstillEndsOn: string }
+): OutgoingMail {
+	return notice_(
+		to,
+		`Result of ${event.reference} ${event.title}`,
+		[
+			`Thank you for bidding in ${event.reference} “${event.title}”. ${event.buyerName} does not intend to award ${notice.supplierName} any line of this event.`,
+			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules). You may ask the buyer for the reasons within that period.`
+		],
+		{ label: 'See your result', url: event.url }
+	);
+}
+
+const notice_ = notice;

@@ -1,9 +1,10 @@
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
+import { awaitingSignoff } from '$lib/server/services/awards';
 import type { PageServerLoad } from './$types';
 
-export const load: PageServerLoad = (event) => {
+export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'approver');
 	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
-	return { title: 'Home', user, cautions };
+	return { title: 'Home', user, cautions, pending: await awaitingSignoff(user) };
 };

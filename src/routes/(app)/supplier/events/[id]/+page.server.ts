@@ -3,6 +3,7 @@ import { questionSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
 import { httpError } from '$lib/server/http';
 import { requestContext } from '$lib/server/request-context';
+import { myResult } from '$lib/server/services/awards';
 import { ownBid, submitScreen, withdraw } from '$lib/server/services/bids';
 import { RuleViolation } from '$lib/server/services/errors';
 import { bidJson, eventDetail, itemsFor } from '$lib/server/services/event-views';
@@ -15,15 +16,17 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'supplier');
 	try {
-		const [detail, items, own] = await Promise.all([
+		const [detail, items, own, result] = await Promise.all([
 			eventDetail(user, event.params.id),
 			itemsFor(user, event.params.id),
-			ownBid(user, event.params.id)
+			ownBid(user, event.params.id),
+			myResult(user, event.params.id)
 		]);
 		const { event: row } = await eventFor(user, event.params.id);
 		return {
 			title: detail.event.reference,
 			detail,
+			result,
 			items,
 			// The columns a supplier types, after the item columns of the sheet.
 			priceColumns: priceColumns(sheetEvent(row, await listItems(db(), row.id))).slice(5),

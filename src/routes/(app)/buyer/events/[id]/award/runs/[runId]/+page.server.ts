@@ -1,0 +1,26 @@
+import { fail } from '@sveltejs/kit';
+import type { CautionKey } from '$lib/cautions';
+import { requireRole } from '$lib/server/auth/guard';
+import { findRun, runJson, submitRun } from '$lib/server/services/awards';
+import { RuleViolation } from '$lib/server/services/errors';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	const user = requireRole(event, 'buyer');
+	const { run } = await findRun(user, event.params.runId);
+	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
+	return { run: runJson(run), cautions };
+};
+
+export const actions: Actions = {
+	submit: async (event) => {
+		const user = requireRole(event, 'buyer');
+		try {
+			await submitRun(user, event.params.runId);
+			return { ok: 'Submitted for sign-off. An approver other than you decides.' };
+		} catch (error) {
+			if (error instanceof RuleViolation) return fail(error.status, { error: error.message });
+			throw error;
+		}
+	}
+};

@@ -1,0 +1,26 @@
+import { json } from '@sveltejs/kit';
+import { z } from 'zod';
+import { api } from '$lib/server/api';
+import { RuleViolation } from '$lib/server/services/errors';
+import { eventFor } from '$lib/server/services/events';
+import { checkRules, listPlans, planJson, savePlan } from '$lib/server/services/awards';
+
+export const GET = api(async (user, event) => {
+	const { event: row } = await eventFor(user, event.params.id!);
+	return { plans: (await listPlans(user, event.params.id!)).map((p) => planJson(p, row.currency)) };
+});
+
+const body = z.object({ name: z.string().trim().min(1).max(120), rules: z.array(z.unknown()).default([]) });
+
+/** A new plan: `{ name, rules }` with rules as in docs/award-engine.md; 201, or 422 with every problem. */
+export const POST = api(async (user, event) => {
+	const parsed = body.safeParse(await event.request.json().catch(() => null));
+	if (!parsed.success)
+		throw new RuleViolation('Send { "name": "...", "rules": [...] } as JSON.', undefined, 400);
+	const rules = checkRules(parsed.data.rules);
+	if (!rules.ok)
+		return json({ message: 'The rules are not valid.', problems: rules.problems }, { status: 422 });
+	const { event: row } = await eventFor(user, event.params.id!);
+	const plan = await savePlan(user, event.params.id!, { name: parsed.data.name, rules: rules.rules });
+	return json({ plan: planJson(plan, row.currency) }, { status: 201 });
+});

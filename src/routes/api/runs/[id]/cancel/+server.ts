@@ -1,0 +1,7 @@
+import { api } from '$lib/server/api';
+import { cancelRun } from '$lib/server/services/awards';
+
+export const POST = api(async (user, event) => {
+	await cancelRun(user, event.params.id!);
+	return { cancelRequested: true };
+});

@@ -1,0 +1,223 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Browserless } from '../support/http';
+import { closeTestDb, testDb, type TestUser } from '../support/factories';
+import {
+	aSignedInUser,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	fillSheet,
+	signedIn,
+	uploadSheet,
+	type TestEvent
+} from '../support/events';
+import { latestMailTo, mailTo } from '../support/mail';
+import { mailApi } from '../support/env';
+
+afterAll(closeTestDb);
+
+type Party = { user: TestUser; client: Browserless; organisationId: string; name: string };
+const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
+
+async function aBidder(): Promise<Party> {
+	const { organisation, user } = await aSupplierOrganisationWithUser();
+	return { user, client: await signedIn(user), organisationId: organisation.id, name: organisation.name };
+}
+
+let buyer: { user: TestUser; client: Browserless };
+let approver: { user: TestUser; client: Browserless };
+let a: Party;
+let b: Party;
+let event: TestEvent;
+
+/** Waits until the run has ended and returns it. */
+async function finished(client: Browserless, runId: string) {
+	for (let k = 0; k < 120; k++) {
+		const run = await json(await client.get(`/api/runs/${runId}`, 'application/json'));
+		if (!['queued', 'running'].includes(String(run.status))) return run;
+		await new Promise((r) => setTimeout(r, 250));
+	}
+	throw new Error('the run did not end in time');
+}
+
+async function post(client: Browserless, path: string, body: unknown) {
+	return client.request(path, {
+		method: 'POST',
+		body: JSON.stringify(body),
+		headers: { 'content-type': 'application/json' },
+		accept: 'application/json'
+	});
+}
+
+beforeAll(async () => {
+	[buyer, approver, a, b] = await Promise.all([
+		aSignedInUser('buyer'),
+		aSignedInUser('approver'),
+		aBidder(),
+		aBidder()
+	]);
+	event = await anOpenEvent({ createdBy: buyer.user.id, invite: [a.organisationId, b.organisationId] });
+	await testDb()('items').where({ event_id: event.id, ref: 'IT-1' }).update({ freight_per_unit: 0.5 });
+	for (const [who, prices] of [
+		[a, [4, 5, 6]],
+		[b, [4.2, 4.9, 6.5]]
+	] as const) {
+		const sheet = Buffer.from(
+			await (await who.client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer()
+		);
+		const filled = await fillSheet(sheet, { 'IT-1': [prices[0]], 'IT-2': [prices[1]], 'IT-3': [prices[2]] });
+		expect((await uploadSheet(who.client, event.id, filled)).status).toBe(201);
+	}
+	await testDb()('events')
+		.where({ id: event.id })
+		.update({ deadline: new Date(Date.now() - 1000) });
+});
+
+describe('award plans, runs, sign-off and notices', () => {
+	let lowestRun: string;
+
+	it('solves the lowest-cost plan in a worker process at landed cost, hashed and repeatable', async () => {
+		const plans = (await json(await buyer.client.get(`/api/events/${event.id}/plans`, 'application/json')))
+			.plans as {
+			id: string;
+			lowestCost: boolean;
+		}[];
+		const lowest = plans.find((p) => p.lowestCost)!;
+		const started = await post(buyer.client, `/api/plans/${lowest.id}/runs`, {});
+		expect(started.status).toBe(202);
+		lowestRun = (await json(started)).runId as string;
+		const run = await finished(buyer.client, lowestRun);
+		expect(run.status).toBe('done');
+		const result = run.result as {
+			status: string;
+			totalCost: number;
+			awards: { supplier: string; item: string; quantity: number }[];
+		};
+		expect(result.status).toBe('optimal');
+		// IT-1: A 4 + 0.5 freight = 4.5 vs B 4.7; IT-2: B 4.9; IT-3: A 6. Quantities 100, 200, 300.
+		expect(result.totalCost).toBeCloseTo(100 * 4.5 + 200 * 4.9 + 300 * 6, 6);
+		expect(result.awards.map((l) => `${l.item}:${l.supplier === a.name ? 'A' : 'B'}`)).toEqual([
+			'IT-1:A',
+			'IT-2:B',
+			'IT-3:A'
+		]);
+		expect(run.problemSha256).toMatch(/^[0-9a-f]{64}$/);
+
+		const again = await finished(
+			buyer.client,
+			(await json(await post(buyer.client, `/api/plans/${lowest.id}/runs`, {}))).runId as string
+		);
+		expect(again.problemSha256).toBe(run.problemSha256);
+		expect(again.resultSha256).toBe(run.resultSha256);
+	});
+
+	it('refuses a plan with a bad rule, naming it, and runs a plan with a share cap', async () => {
+		const bad = await post(buyer.client, `/api/events/${event.id}/plans`, {
+			name: 'Broken',
+			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 160 }]
+		});
+		expect(bad.status).toBe(422);
+		expect(JSON.stringify(await bad.json())).toContain('rules[0].percent');
+		const made = await post(buyer.client, `/api/events/${event.id}/plans`, {
+			name: 'Dual sourcing',
+			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]
+		});
+		expect(made.status).toBe(201);
+		const plan = (await json(made)).plan as { id: string; preview: string[] };
+		expect(plan.preview).toEqual(['No supplier gets more than 60% of any item']);
+		const run = await finished(
+			buyer.client,
+			(await json(await post(buyer.client, `/api/plans/${plan.id}/runs`, {}))).runId as string
+		);
+		const result = run.result as {
+			awards: { item: string; quantity: number }[];
+			ruleCosts: { cost: number }[];
+		};
+		expect(
+			result.awards
+				.filter((l) => l.item === 'IT-1')
+				.map((l) => l.quantity)
+				.sort()
+		).toEqual([40, 60]);
+		expect(result.ruleCosts[0]!.cost).toBeGreaterThan(0);
+	});
+
+	it('keeps the author from approving, returns to evaluation on a plan change, and approves for someone else', async () => {
+		expect((await json(await post(buyer.client, `/api/runs/${lowestRun}/submit`, {}))).state).toBe(
+			'awaiting_signoff'
+		);
+		// The buyer who submitted now holds the approver role: still the author, still refused.
+		await testDb()('users').where({ id: buyer.user.id }).update({ role: 'approver' });
+		const own = await post(buyer.client, `/api/runs/${lowestRun}/decision`, {
+			decision: 'approve',
+			comment: 'mine'
+		});
+		expect(own.status).toBe(403);
+		expect((await json(own)).message).toMatch(/author/);
+		await testDb()('users').where({ id: buyer.user.id }).update({ role: 'buyer' });
+
+		const plans = (await json(await buyer.client.get(`/api/events/${event.id}/plans`, 'application/json')))
+			.plans as { id: string; name: string }[];
+		const dual = plans.find((p) => p.name === 'Dual sourcing')!;
+		const change = await buyer.client.request(`/buyer/events/${event.id}/award?/savePlan`, {
+			method: 'POST',
+			body: new URLSearchParams({
+				planId: dual.id,
+				name: 'Dual sourcing',
+				rules: JSON.stringify([{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 70 }])
+			}),
+			accept: 'application/json'
+		});
+		expect(change.status).toBe(200);
+		expect((await testDb()('events').where({ id: event.id }).first()).state).toBe('in_evaluation');
+		const late = await post(approver.client, `/api/runs/${lowestRun}/decision`, {
+			decision: 'approve',
+			comment: ''
+		});
+		expect(late.status).toBe(409);
+
+		await post(buyer.client, `/api/runs/${lowestRun}/submit`, {});
+		// B's relay is down when the notices go out; they arrive once it is back.
+		await fetch(`${mailApi()}/outages/${encodeURIComponent(b.user.email)}`, { method: 'PUT' });
+		const approvedAfter = new Date();
+		const approved = await post(approver.client, `/api/runs/${lowestRun}/decision`, {
+			decision: 'approve',
+			comment: 'Agreed.'
+		});
+		expect(approved.status).toBe(200);
+		expect((await json(approved)).notices).toBe(2);
+
+		const award = await latestMailTo(a.user.email, { after: approvedAfter, timeoutMs: 20_000 });
+		expect(award.subject).toMatch(/^Award notice/);
+		expect(award.text).toContain('IT-1: 100 at 4.5 EUR');
+		expect(award.text).toContain('IT-3: 300 at 6 EUR');
+		expect(award.text).not.toContain('IT-2');
+		expect(award.text).not.toContain(b.name);
+		expect(award.attachments.map((x) => x.filename)).toEqual([`award-${event.reference}.xlsx`]);
+
+		await new Promise((r) => setTimeout(r, 3000));
+		expect((await mailTo(b.user.email)).filter((m) => /Award notice|Result of/.test(m.subject))).toEqual([]);
+		const waiting = await testDb()('notices')
+			.where({ run_id: lowestRun, supplier_organisation_id: b.organisationId })
+			.first();
+		expect(waiting.status).toBe('queued');
+		expect(waiting.attempts).toBeGreaterThan(0);
+		await fetch(`${mailApi()}/outages/${encodeURIComponent(b.user.email)}`, { method: 'DELETE' });
+		const later = await latestMailTo(b.user.email, { after: approvedAfter, timeoutMs: 60_000 });
+		expect(later.subject).toMatch(/^Award notice/);
+		expect(later.text).toContain('IT-2: 200 at 4.9 EUR');
+		expect(later.text).not.toContain(a.name);
+
+		const mine = await json(await a.client.get(`/api/events/${event.id}/my-result`, 'application/json'));
+		expect(mine).toMatchObject({
+			status: 'awarded',
+			lines: [
+				{ item: 'IT-1', quantity: 100 },
+				{ item: 'IT-3', quantity: 300 }
+			]
+		});
+		expect(JSON.stringify(mine)).not.toContain(b.name);
+		const trail = await json(await buyer.client.get(`/api/events/${event.id}/trail`, 'application/json'));
+		expect((trail.verification as { intact: boolean }).intact).toBe(true);
+		expect(JSON.stringify(trail)).toContain('run approved');
+	});
+});
