@@ -1,0 +1,158 @@
+import { readFileSync } from 'node:fs';
+import ExcelJS from 'exceljs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { accessibilityViolations, openBrowser, type OpenBrowser } from '../support/browser';
+import { appUrl } from '../support/env';
+import { aUser, closeTestDb, testDb } from '../support/factories';
+import {
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	fillSheet,
+	signedIn,
+	uploadSheet
+} from '../support/events';
+import { latestMailTo, linkIn } from '../support/mail';
+
+let browser: OpenBrowser;
+
+beforeAll(async () => {
+	browser = await openBrowser();
+});
+afterAll(async () => {
+	await browser?.close();
+	await closeTestDb();
+});
+
+async function expectAccessible(what: string) {
+	expect(await accessibilityViolations(browser.page), what).toEqual([]);
+}
+
+async function signInAsStaff(email: string, password: string, home: string) {
+	const { page } = browser;
+	await browser.context.clearCookies();
+	await page.goto(`${appUrl()}/signin`);
+	await page.locator('#password-email').fill(email);
+	await page.getByLabel('Password', { exact: true }).fill(password);
+	await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+	await page.waitForURL(`**${home}`);
+}
+
+async function signInBySupplierLink(email: string) {
+	const { page } = browser;
+	await browser.context.clearCookies();
+	await page.goto(`${appUrl()}/signin`);
+	const sentAfter = new Date();
+	await page.getByLabel('E-mail address').first().fill(email);
+	await page.getByRole('button', { name: 'Send the link' }).click();
+	await page.waitForURL(/\/signin\/check-email/);
+	await page.goto(linkIn((await latestMailTo(email, { after: sentAfter })).text));
+	await page.waitForURL('**/supplier');
+}
+
+describe('the four journeys, in a browser', () => {
+	it('a supplier bids, a buyer optimises with a rule, an approver signs off, the supplier hears its award', async () => {
+		const { page } = browser;
+		const buyer = await aUser('buyer');
+		const approver = await aUser('approver');
+		const [first, second] = [await aSupplierOrganisationWithUser(), await aSupplierOrganisationWithUser()];
+		const event = await anOpenEvent({
+			createdBy: buyer.id,
+			invite: [first.organisation.id, second.organisation.id]
+		});
+
+		// 1. The supplier uploads its bid in the browser; a competitor has bid by the API.
+		const rival = await signedIn(second.user);
+		const rivalSheet = Buffer.from(
+			await (await rival.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer()
+		);
+		expect(
+			(
+				await uploadSheet(
+					rival,
+					event.id,
+					await fillSheet(rivalSheet, { 'IT-1': [5], 'IT-2': [4], 'IT-3': [9] })
+				)
+			).status
+		).toBe(201);
+		await signInBySupplierLink(first.user.email);
+		await page.goto(`${appUrl()}/supplier/events/${event.id}`);
+		const [download] = await Promise.all([
+			page.waitForEvent('download'),
+			page.getByRole('link', { name: 'Download the bid sheet (.xlsx)' }).click()
+		]);
+		const workbook = new ExcelJS.Workbook();
+		await workbook.xlsx.load(readFileSync((await download.path())!) as unknown as ArrayBuffer);
+		const prices = workbook.getWorksheet('Prices')!;
+		[4, 4.5, 8].forEach((price, k) => (prices.getCell(k + 2, 6).value = price));
+		await page.getByLabel('Filled bid sheet (.xlsx or .csv, up to 5 MB)').setInputFiles({
+			name: 'bid.xlsx',
+			mimeType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
+			buffer: Buffer.from(await workbook.xlsx.writeBuffer())
+		});
+		await page.getByRole('button', { name: 'Upload' }).click();
+		await expect
+			.poll(() => page.getByTestId('upload-accepted').textContent(), { timeout: 20_000 })
+			.toContain('revision 1');
+
+		// The deadline passes (the closing job may be late: the event counts as closed all the same).
+		await testDb()('events')
+			.where({ id: event.id })
+			.update({ deadline: new Date(Date.now() - 1000) });
+
+		// 2. The buyer builds a plan with a share cap, runs it and reads the allocation.
+		await signInAsStaff(buyer.email, buyer.password!, '/buyer');
+		await page.goto(`${appUrl()}/buyer/events/${event.id}/award`);
+		await expectAccessible('award page');
+		await page.getByLabel('Rule', { exact: true }).selectOption('max_share');
+		await page.getByLabel('Percent').fill('70');
+		expect(await page.getByTestId('rule-preview').textContent()).toBe(
+			'No supplier gets more than 70% of any item'
+		);
+		await page.getByRole('button', { name: 'Add the rule' }).click();
+		await page.getByLabel('Plan name').fill('Dual sourcing');
+		await page.getByRole('button', { name: 'Save the plan' }).click();
+		await expect.poll(() => page.getByTestId('plans').textContent()).toContain('Dual sourcing');
+		await page.getByRole('button', { name: 'Run the plan Dual sourcing' }).click();
+		await expect
+			.poll(() => page.getByTestId('runs').textContent(), { timeout: 30_000 })
+			.toContain('Done (optimal)');
+		await page.getByRole('link', { name: 'Run 1' }).click();
+		await page.waitForURL(/\/award\/runs\//);
+		await expect.poll(() => page.getByTestId('allocation').textContent()).toContain(first.organisation.name);
+		// IT-1 (100 units): the first supplier at 4 is capped at 70; the rival gets 30.
+		const rows = await page.getByTestId('allocation').locator('tbody tr').allTextContents();
+		expect(
+			rows.some((r) => r.includes('IT-1') && r.includes(first.organisation.name) && r.includes('70'))
+		).toBe(true);
+		expect(await page.getByTestId('rule-costs').textContent()).toContain(
+			'No supplier gets more than 70% of any item'
+		);
+		await expectAccessible('run page');
+		await page.getByRole('button', { name: 'Submit for sign-off' }).click();
+		await expect
+			.poll(() => page.getByRole('status').first().textContent())
+			.toContain('Submitted for sign-off');
+
+		// 3. The approver signs it off.
+		await signInAsStaff(approver.email, approver.password!, '/approver');
+		await page.getByTestId('pending-signoffs').getByRole('link').first().click();
+		await page.waitForURL(/\/approver\/runs\//);
+		await expectAccessible('sign-off page');
+		const notifiedAfter = new Date();
+		await page.getByLabel('Comment (required to return)').fill('Within budget.');
+		await page.getByRole('button', { name: 'Approve the award' }).click();
+		await page.waitForURL('**/approver');
+
+		// 4. The supplier gets its award e-mail with its own quantities, and sees the same in its portal.
+		const notice = await latestMailTo(first.user.email, { after: notifiedAfter, timeoutMs: 30_000 });
+		expect(notice.subject).toMatch(/^Award notice/);
+		expect(notice.text).toContain('IT-1: 70 at 4 EUR');
+		expect(notice.text).not.toContain(second.organisation.name);
+		await signInBySupplierLink(first.user.email);
+		await page.goto(`${appUrl()}/supplier/events/${event.id}`);
+		expect(await page.getByTestId('my-result').textContent()).toContain('intends to award you');
+		const mine = await page.getByTestId('my-result-lines').locator('tbody tr').allTextContents();
+		expect(mine.find((r) => r.includes('IT-1'))).toContain('70');
+		await expectAccessible('supplier result');
+	});
+});
