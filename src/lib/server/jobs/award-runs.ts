@@ -14,6 +14,9 @@ import { appendTrail, canonicalJson, sha256 } from '../trail';
 
 let pool: SolverPool | undefined;
 
+/** pg-boss hands a job whose worker died to another worker after this long. */
+export const RUN_JOB_EXPIRY_SECONDS = 1800;
+
 export const solverVersion = (() => {
 	try {
 		const wasm = createRequire(import.meta.url).resolve('highs/runtime');
@@ -112,7 +115,7 @@ export async function runAward(runId: string): Promise<void> {
 }
 
 /** Runs left "running" by a worker that stopped and whose job will not come back: failed, with a reason. */
-export async function failAbandonedRuns(olderThanSeconds = 900): Promise<number> {
+export async function failAbandonedRuns(olderThanSeconds = RUN_JOB_EXPIRY_SECONDS + 60): Promise<number> {
 	const abandoned = await db()<RunRow>('award_runs')
 		.where({ status: 'running' })
 		.where('started_at', '<', new Date(Date.now() - olderThanSeconds * 1000));

@@ -19,6 +19,8 @@ export async function startWorkers(options: { awardRuns?: boolean } = {}): Promi
 	if (options.awardRuns) {
 		const { runAward, failAbandonedRuns } = await import('./award-runs');
 		await failAbandonedRuns();
+		// A run whose worker died and whose job will not come back is failed with a reason, never lost.
+		setInterval(() => void failAbandonedRuns().catch(() => undefined), 10_000).unref();
 		await queue.work<{ runId: string }>(QUEUES.awardRun, async ([job]) => {
 			if (job) await runAward(job.data.runId);
 		});

@@ -268,7 +268,8 @@ export async function startRun(user: SessionUser, planId: string): Promise<RunRo
 	await queue.send(QUEUES.awardRun, { runId: run.id } satisfies AwardRunJob, {
 		retryLimit: 2,
 		retryDelay: 2,
-		expireInSeconds: 600
+		// As RUN_JOB_EXPIRY_SECONDS in jobs/award-runs.ts: a dead worker's job goes to another worker then.
+		expireInSeconds: 1800
 	});
 	return run;
 }

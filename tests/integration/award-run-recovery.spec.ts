@@ -1,0 +1,83 @@
+import PgBoss from 'pg-boss';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { canonicalJson, sha256 } from '../../src/lib/server/trail';
+import { aUser, closeTestDb, testDb } from '../support/factories';
+import { aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
+import { databaseUrl } from '../support/env';
+
+let boss: PgBoss;
+beforeAll(async () => {
+	boss = new PgBoss({ connectionString: databaseUrl(), max: 2 });
+	await boss.start();
+});
+afterAll(async () => {
+	await boss.stop({ graceful: false, wait: true });
+	await closeTestDb();
+});
+
+// A small stored problem, as a run snapshots it (docs/award-engine.md): two bids on one item.
+const problem = {
+	currency: 'EUR',
+	items: [{ ref: 'IT-1', quantity: 10 }],
+	suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+	bids: [
+		{ supplier: 'S1', item: 'IT-1', unitPrice: 3 },
+		{ supplier: 'S2', item: 'IT-1', unitPrice: 2.5 }
+	],
+	bundles: [],
+	rules: []
+};
+
+async function aRunLeftRunning(startedMinutesAgo: number) {
+	const buyer = await aUser('buyer');
+	const { organisation } = await aSupplierOrganisationWithUser();
+	const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
+	const [plan] = await testDb()('award_plans')
+		.insert({ event_id: event.id, name: 'Lowest cost (no rules)', rules: '[]', lowest_cost: true })
+		.returning('id');
+	const [run] = await testDb()('award_runs')
+		.insert({
+			event_id: event.id,
+			plan_id: plan.id,
+			number: 1,
+			plan_name: 'Lowest cost (no rules)',
+			status: 'running',
+			problem: JSON.stringify(problem),
+			problem_sha256: sha256(canonicalJson(problem)),
+			attempts: 1,
+			created_by: buyer.id,
+			started_at: new Date(Date.now() - startedMinutesAgo * 60_000)
+		})
+		.returning('id');
+	return run.id as string;
+}
+
+async function until(runId: string, done: (run: Record<string, unknown>) => boolean, seconds: number) {
+	for (let k = 0; k < seconds * 4; k++) {
+		const run = await testDb()('award_runs').where({ id: runId }).first();
+		if (done(run)) return run;
+		await new Promise((r) => setTimeout(r, 250));
+	}
+	throw new Error('the run did not change in time');
+}
+
+describe('award runs survive a worker that dies', () => {
+	it('runs again when the dead worker’s job comes back, and ends done', async () => {
+		const runId = await aRunLeftRunning(1);
+		// What pg-boss does once the job of a dead worker expires: it hands the job to a live worker.
+		await boss.send('award-run', { runId });
+		const run = await until(runId, (r) => r.status === 'done', 30);
+		expect(run).toMatchObject({ status: 'done', attempts: 2 });
+		expect((run.result as { totalCost: number }).totalCost).toBe(25);
+	});
+
+	it('fails a run whose worker died and whose job will not come back, with the reason', async () => {
+		const runId = await aRunLeftRunning(120);
+		const run = await until(runId, (r) => r.status === 'failed', 30);
+		expect(run.error).toBe('the worker stopped during the run and it was not retried');
+		const trail = await testDb()('trail_entries')
+			.where({ action: 'award run failed' })
+			.whereRaw("detail->>'run' = ?", [runId]);
+		expect(trail).toHaveLength(1);
+	});
+});
