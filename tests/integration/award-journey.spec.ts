@@ -139,6 +139,17 @@ describe('award plans, runs, sign-off and notices', () => {
 				.sort()
 		).toEqual([40, 60]);
 		expect(result.ruleCosts[0]!.cost).toBeGreaterThan(0);
+
+		const exported = await buyer.client.get(`/api/runs/${run.id as string}/export`);
+		expect(exported.headers.get('content-type')).toContain('spreadsheetml');
+		const compared = await buyer.client.get(
+			`/buyer/events/${event.id}/award/compare?run=${lowestRun}&run=${run.id as string}`
+		);
+		expect(compared.status).toBe(200);
+		const page = await compared.text();
+		// Under the 60% cap every item is split; under the lowest-cost run none is.
+		expect(page).toContain('Items allocated differently');
+		expect(page.match(/<th scope="row"[^>]*>IT-\d<\/th>/g)).toHaveLength(3);
 	});
 
 	it('keeps the author from approving, returns to evaluation on a plan change, and approves for someone else', async () => {

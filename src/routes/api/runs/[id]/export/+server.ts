@@ -1,0 +1,16 @@
+import { api } from '$lib/server/api';
+import { runWorkbook } from '$lib/server/run-export';
+import { findRun, runJson } from '$lib/server/services/awards';
+
+/** The run as an .xlsx workbook (formula-injection safe). */
+export const GET = api(async (user, event) => {
+	const { run, event: row } = await findRun(user, event.params.id!);
+	const body = await runWorkbook(row.reference, runJson(run));
+	return new Response(new Uint8Array(body), {
+		headers: {
+			'content-type': 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
+			'content-disposition': `attachment; filename="run-${row.reference.replace(/[^A-Za-z0-9._-]/g, '_')}-${run.number}.xlsx"`,
+			'cache-control': 'no-store'
+		}
+	});
+});
