@@ -31,7 +31,15 @@ async function signInAsStaff(email: string, password: string, home: string) {
 	const { page } = browser;
 	await browser.context.clearCookies();
 	await page.goto(`${appUrl()}/signin`);
-	await page.locator('#password-email').fill(email);
+	const field = page.locator('#password-email');
+	try {
+		await field.waitFor({ timeout: 10_000 });
+	} catch {
+		throw new Error(
+			`no sign-in form at ${page.url()}: ${(await page.locator('body').innerText()).slice(0, 500)}`
+		);
+	}
+	await field.fill(email);
 	await page.getByLabel('Password', { exact: true }).fill(password);
 	await page.getByRole('button', { name: 'Sign in', exact: true }).click();
 	await page.waitForURL(`**${home}`);
