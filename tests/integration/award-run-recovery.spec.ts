@@ -2,7 +2,7 @@ import PgBoss from 'pg-boss';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { aUser, closeTestDb, testDb } from '../support/factories';
-import { aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
+import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent, signedIn } from '../support/events';
 import { databaseUrl } from '../support/env';
 
 let boss: PgBoss;
@@ -28,7 +28,7 @@ const problem = {
 	rules: []
 };
 
-async function aRunLeftRunning(startedMinutesAgo: number) {
+async function aRunLeftRunning(startedMinutesAgo: number, status = 'running') {
 	const buyer = await aUser('buyer');
 	const { organisation } = await aSupplierOrganisationWithUser();
 	const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
@@ -41,15 +41,15 @@ async function aRunLeftRunning(startedMinutesAgo: number) {
 			plan_id: plan.id,
 			number: 1,
 			plan_name: 'Lowest cost (no rules)',
-			status: 'running',
+			status,
 			problem: JSON.stringify(problem),
 			problem_sha256: sha256(canonicalJson(problem)),
 			attempts: 1,
 			created_by: buyer.id,
-			started_at: new Date(Date.now() - startedMinutesAgo * 60_000)
+			started_at: status === 'running' ? new Date(Date.now() - startedMinutesAgo * 60_000) : null
 		})
 		.returning('id');
-	return run.id as string;
+	return { runId: run.id as string, buyer };
 }
 
 async function until(runId: string, done: (run: Record<string, unknown>) => boolean, seconds: number) {
@@ -63,7 +63,7 @@ async function until(runId: string, done: (run: Record<string, unknown>) => bool
 
 describe('award runs survive a worker that dies', () => {
 	it('runs again when the dead worker’s job comes back, and ends done', async () => {
-		const runId = await aRunLeftRunning(1);
+		const { runId } = await aRunLeftRunning(1);
 		// What pg-boss does once the job of a dead worker expires: it hands the job to a live worker.
 		await boss.send('award-run', { runId });
 		const run = await until(runId, (r) => r.status === 'done', 30);
@@ -72,12 +72,30 @@ describe('award runs survive a worker that dies', () => {
 	});
 
 	it('fails a run whose worker died and whose job will not come back, with the reason', async () => {
-		const runId = await aRunLeftRunning(120);
+		const { runId } = await aRunLeftRunning(120);
 		const run = await until(runId, (r) => r.status === 'failed', 30);
 		expect(run.error).toBe('the worker stopped during the run and it was not retried');
 		const trail = await testDb()('trail_entries')
 			.where({ action: 'award run failed' })
 			.whereRaw("detail->>'run' = ?", [runId]);
 		expect(trail).toHaveLength(1);
+	});
+
+	it('cancels a queued run at the buyer’s request, and refuses others', async () => {
+		const { runId, buyer } = await aRunLeftRunning(0, 'queued');
+		const client = await signedIn(buyer);
+		const approver = await aSignedInUser('approver');
+		const refused = await approver.client.request(`/api/runs/${runId}/cancel`, {
+			method: 'POST',
+			accept: 'application/json'
+		});
+		expect(refused.status).toBe(403);
+		const response = await client.request(`/api/runs/${runId}/cancel`, {
+			method: 'POST',
+			accept: 'application/json'
+		});
+		expect(response.status).toBe(200);
+		const run = await until(runId, (r) => r.status === 'cancelled', 10);
+		expect(run.error).toBe('cancelled before it started');
 	});
 });

@@ -292,11 +292,19 @@ export async function cancelRun(user: SessionUser, runId: string): Promise<void>
 	if (user.role !== 'buyer') throw new RuleViolation('Only buyers cancel runs.', undefined, 403);
 	if (!['queued', 'running'].includes(run.status))
 		throw new RuleViolation('The run has ended already.', undefined, 409);
-	await db()('award_runs').where({ id: runId }).update({ cancel_requested: true });
-	if (run.status === 'queued')
-		await db()('award_runs')
+	await db().transaction(async (trx) => {
+		await trx('award_runs').where({ id: runId }).update({ cancel_requested: true });
+		// A queued run ends here; a running one ends when its worker sees the flag (within a second).
+		const ended = await trx('award_runs')
 			.where({ id: runId, status: 'queued' })
 			.update({ status: 'cancelled', finished_at: now(), error: 'cancelled before it started' });
+		await appendTrail(trx, {
+			eventId: run.event_id,
+			actor: user,
+			action: ended ? 'award run cancelled' : 'award run cancel requested',
+			detail: { run: run.id, number: run.number }
+		});
+	});
 }
 
 export interface SignoffRow {
