@@ -204,6 +204,9 @@ describe('award plans, runs, sign-off and notices', () => {
 		expect(award.text).not.toContain('IT-2');
 		expect(award.text).not.toContain(b.name);
 		expect(award.attachments.map((x) => x.filename)).toEqual([`award-${event.reference}.xlsx`]);
+		// The default standstill rule: 10 calendar days from dispatch (common practice; confirm locally).
+		const ends = new Date(approvedAfter.getTime() + 10 * 24 * 3600_000).toISOString().slice(0, 10);
+		expect(award.text).toContain(`The standstill period ends on ${ends} (confirm with local rules)`);
 
 		await new Promise((r) => setTimeout(r, 3000));
 		expect((await mailTo(b.user.email)).filter((m) => /Award notice|Result of/.test(m.subject))).toEqual([]);

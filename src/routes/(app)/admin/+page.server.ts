@@ -1,9 +1,36 @@
+import { fail } from '@sveltejs/kit';
+import { z } from 'zod';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
-import type { PageServerLoad } from './$types';
+import { db } from '$lib/server/db/knex';
+import type { Actions, PageServerLoad } from './$types';
 
-export const load: PageServerLoad = (event) => {
+export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'admin');
-	const cautions: CautionKey[] = [];
-	return { title: 'Home', user, cautions };
+	const cautions: CautionKey[] = ['standstill'];
+	const organisation = await db()('organisations')
+		.where({ id: user.organisationId })
+		.first('standstill_days');
+	return {
+		title: 'Home',
+		user,
+		cautions,
+		standstillDays: (organisation?.standstill_days as number | undefined) ?? 10
+	};
+};
+
+const standstill = z.coerce
+	.number('A number of calendar days.')
+	.int('A whole number of calendar days.')
+	.min(0, 'At least 0 days.')
+	.max(365, 'At most 365 days.');
+
+export const actions: Actions = {
+	standstill: async (event) => {
+		const user = requireRole(event, 'admin');
+		const parsed = standstill.safeParse((await event.request.formData()).get('standstillDays'));
+		if (!parsed.success) return fail(400, { error: parsed.error.issues[0]!.message });
+		await db()('organisations').where({ id: user.organisationId }).update({ standstill_days: parsed.data });
+		return { ok: `Saved: award notices give a standstill end ${parsed.data} calendar days after dispatch.` };
+	}
 };
