@@ -147,12 +147,19 @@ export async function seed(knex: Knex): Promise<void> {
 				items,
 				actor.id
 			);
+			const tags: Record<string, string[]> = {
+				'Brackwater Board': ['incumbent'],
+				'Linden Reach Hygiene': ['small_business'],
+				'Quillmere Films': ['small_business'],
+				'Harlow Fen Trading': ['new_entrant']
+			};
 			for (const [k, bid] of bids.entries()) {
 				const supplier = await placeBid(trx, id, itemIds, bid, new Date(now - (20 - k) * DAY));
 				await trx('invitations').insert({
 					event_id: id,
 					supplier_organisation_id: supplier,
-					invited_by: actor.id
+					invited_by: actor.id,
+					tags: tags[bid.supplier] ?? []
 				});
 			}
 			await trx('award_plans').insert([
@@ -163,6 +170,14 @@ export async function seed(knex: Knex): Promise<void> {
 					rules: JSON.stringify([
 						{ type: 'max_share', scope: { lot: 'L1' }, who: 'each_supplier', percent: 70, basis: 'spend' },
 						{ type: 'max_share', scope: { lot: 'L2' }, who: 'each_supplier', percent: 70, basis: 'spend' }
+					]),
+					created_by: actor.id
+				},
+				{
+					event_id: id,
+					name: 'Small-business target',
+					rules: JSON.stringify([
+						{ type: 'min_share', scope: 'event', who: { tag: 'small_business' }, percent: 15, basis: 'spend' }
 					]),
 					created_by: actor.id
 				},

@@ -152,6 +152,32 @@ describe('award plans, runs, sign-off and notices', () => {
 		expect(page.match(/<th scope="row"[^>]*>IT-\d<\/th>/g)).toHaveLength(3);
 	});
 
+	it('applies a rule on tagged suppliers once the buyer has tagged them', async () => {
+		const tagged = await buyer.client.request(`/buyer/events/${event.id}/suppliers?/tags`, {
+			method: 'POST',
+			body: new URLSearchParams({ supplierOrganisationId: b.organisationId, tags: 'small_business' }),
+			accept: 'application/json'
+		});
+		expect(tagged.status).toBe(200);
+		expect(JSON.stringify(await tagged.json())).toContain('Tags saved: small_business.');
+		const made = await post(buyer.client, `/api/events/${event.id}/plans`, {
+			name: 'Small-business target',
+			rules: [
+				{ type: 'min_share', scope: 'event', who: { tag: 'small_business' }, percent: 50, basis: 'spend' }
+			]
+		});
+		const plan = (await json(made)).plan as { id: string; preview: string[] };
+		expect(plan.preview).toEqual([
+			'Suppliers tagged “small_business” together get at least 50% of the spend of the whole event'
+		]);
+		const started = await json(await post(buyer.client, `/api/plans/${plan.id}/runs`, {}));
+		expect(started.status, JSON.stringify(started)).toBe('queued');
+		const run = await finished(buyer.client, started.runId as string);
+		const result = run.result as { totalCost: number; supplierTotals: { supplier: string; cost: number }[] };
+		const share = result.supplierTotals.find((t) => t.supplier === b.name)!.cost / result.totalCost;
+		expect(share).toBeGreaterThanOrEqual(0.5 - 1e-9);
+	});
+
 	it('keeps the author from approving, returns to evaluation on a plan change, and approves for someone else', async () => {
 		expect((await json(await post(buyer.client, `/api/runs/${lowestRun}/submit`, {}))).state).toBe(
 			'awaiting_signoff'

@@ -18,7 +18,7 @@ describe('award rules in plain words', () => {
 		expect(
 			describeRule({ type: 'min_share', scope: 'event', who: { tag: 'small_business' }, percent: 15 })
 		).toBe(
-			'Suppliers tagged “small_business” together gets at least 15% of the whole event'.replace(
+			'Suppliers tagged “small_business” together get at least 15% of the whole event'.replace(
 				'gets',
 				'gets'
 			)

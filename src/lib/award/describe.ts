@@ -26,12 +26,14 @@ export function describeRule(rule: AwardRule, currency = ''): string {
 				rule.basis === 'spend' ? ' of the spend' : rule.basis === 'quantity' ? ' of the quantity' : '';
 			const who = named(rule.who);
 			const limit = `${rule.percent}%${basis} of ${place(rule.scope)}`;
-			return who ? `${who} gets no more than ${limit}` : `No supplier gets more than ${limit}`;
+			const verb = typeof rule.who === 'object' && 'tag' in rule.who ? 'get' : 'gets';
+			return who ? `${who} ${verb} no more than ${limit}` : `No supplier gets more than ${limit}`;
 		}
 		case 'min_share': {
 			const basis = rule.basis === 'spend' ? ' of the spend' : '';
 			const who = named(rule.who);
-			return `${who ?? 'Every supplier'} gets at least ${rule.percent}%${basis} of ${place(rule.scope)}`;
+			const verb = typeof rule.who === 'object' && 'tag' in rule.who ? 'get' : 'gets';
+			return `${who ?? 'Every supplier'} ${verb} at least ${rule.percent}%${basis} of ${place(rule.scope)}`;
 		}
 		case 'min_award': {
 			const amount =

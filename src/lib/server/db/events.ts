@@ -202,6 +202,7 @@ export interface InvitationRow {
 	supplier_name: string;
 	invited_by: number;
 	invited_at: Date;
+	tags: string[];
 }
 
 export function listInvitations(db: Db, eventId: string): Promise<InvitationRow[]> {
@@ -231,6 +232,17 @@ export async function insertInvitation(
 		.ignore()
 		.returning('id');
 	return rows.length > 0;
+}
+
+export async function setInvitationTags(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string,
+	tags: string[]
+): Promise<number> {
+	return db('invitations')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.update({ tags });
 }
 
 export async function deleteInvitation(

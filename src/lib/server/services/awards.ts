@@ -7,7 +7,7 @@ import { parseProblem, ruleSchema, type AwardProblem, type AwardRule } from '$li
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import { visibleBids } from '../db/bids';
-import { listItems, lockEvent, type EventRow } from '../db/events';
+import { listInvitations, listItems, lockEvent, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { jobs, QUEUES } from '../jobs';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
@@ -157,10 +157,12 @@ const num = (v: string | null) => (v === null ? 0 : Number(v));
 
 /** The award problem of an event now: current bids (withdrawn ones left out) at landed cost, and the rules. */
 export async function snapshotProblem(event: EventRow, rules: AwardRule[]): Promise<AwardProblem> {
-	const [items, bids] = await Promise.all([
+	const [items, bids, invitations] = await Promise.all([
 		listItems(db(), event.id),
-		visibleBids(db(), event.id, event.organisation_id, now())
+		visibleBids(db(), event.id, event.organisation_id, now()),
+		listInvitations(db(), event.id)
 	]);
+	const tagsOf = new Map(invitations.map((i) => [i.supplier_organisation_id, i.tags]));
 	const adder = new Map(items.map((i) => [i.ref, num(i.freight_per_unit) + num(i.duty_per_unit)]));
 	const live = bids.filter((b) => b.source !== 'withdrawal');
 	const round = (n: number) => Math.round(n * 1e6) / 1e6;
@@ -173,10 +175,14 @@ export async function snapshotProblem(event: EventRow, rules: AwardRule[]): Prom
 			...(i.lot_ref ? { lot: i.lot_ref } : {}),
 			...(i.baseline_unit_price !== null ? { baselineUnitPrice: Number(i.baseline_unit_price) } : {})
 		})),
-		suppliers: live.map((b) => ({
-			ref: b.supplierName,
-			...(b.capacity !== null ? { capacity: Number(b.capacity) } : {})
-		})),
+		suppliers: live.map((b) => {
+			const tags = tagsOf.get(b.supplierOrganisationId) ?? [];
+			return {
+				ref: b.supplierName,
+				...(b.capacity !== null ? { capacity: Number(b.capacity) } : {}),
+				...(tags.length ? { tags } : {})
+			};
+		}),
 		bids: live.flatMap((b) =>
 			b.lines.map((l) => ({
 				supplier: b.supplierName,

@@ -93,6 +93,7 @@ export async function eventDetail(user: SessionUser, id: string) {
 			invitations: invitations.map((i) => ({
 				supplierOrganisationId: i.supplier_organisation_id,
 				supplierName: i.supplier_name,
+				tags: i.tags,
 				invitedAt: i.invited_at.toISOString()
 			})),
 			questions: questions.map((q) => ({

@@ -20,6 +20,7 @@ import {
 	lockEvent,
 	findEventByReference,
 	replaceItems,
+	setInvitationTags,
 	setEventState,
 	updateEventFields,
 	type EventFields,
@@ -313,6 +314,40 @@ export async function removeInvitation(
 			detail: { supplier: organisation?.name ?? organisationId }
 		});
 	});
+}
+
+export const TAG = /^[a-z][a-z0-9_]{0,39}$/;
+
+/** The buyer's tags for an invited supplier in this event; used by award rules on groups of suppliers. */
+export async function tagSupplier(
+	actor: SessionUser,
+	id: string,
+	organisationId: string,
+	tags: string[]
+): Promise<string[]> {
+	const event = await buyerEvent(actor, id);
+	if (['awarded', 'cancelled'].includes(event.state))
+		throw new RuleViolation('The event is awarded: its tags are final.', undefined, 409);
+	const clean = [...new Set(tags.map((t) => t.trim().toLowerCase()).filter(Boolean))];
+	const bad = clean.find((t) => !TAG.test(t));
+	if (bad)
+		throw new RuleViolation(
+			`“${bad}” is not a tag: lower-case letters, digits and _ only, such as small_business.`,
+			'tags',
+			422
+		);
+	await db().transaction(async (trx) => {
+		if (!(await setInvitationTags(trx, id, organisationId, clean)))
+			throw new RuleViolation('That supplier is not invited to this event.', undefined, 404);
+		const organisation = await findOrganisation(trx, organisationId);
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'supplier tagged',
+			detail: { supplier: organisation?.name, tags: clean }
+		});
+	});
+	return clean;
 }
 
 export interface AmendmentRequest {

@@ -39,7 +39,8 @@ export const load: PageServerLoad = async (event) => {
 		refs: {
 			items: items.map((i) => i.ref),
 			lots: [...new Set(items.map((i) => i.lot_ref).filter((l): l is string => Boolean(l)))],
-			suppliers: invitations.map((i) => i.supplier_name)
+			suppliers: invitations.map((i) => i.supplier_name),
+			tags: [...new Set(invitations.flatMap((i) => i.tags))].sort()
 		}
 	};
 };

@@ -7,7 +7,7 @@ import { db } from '$lib/server/db/knex';
 import { listOrganisations } from '$lib/server/db/organisations';
 import { requestContext } from '$lib/server/request-context';
 import { RuleViolation } from '$lib/server/services/errors';
-import { inviteSupplier, removeInvitation } from '$lib/server/services/events';
+import { inviteSupplier, removeInvitation, tagSupplier } from '$lib/server/services/events';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -38,6 +38,22 @@ export const actions: Actions = {
 					'supplierOrganisationId' | 'email' | 'newSupplierName';
 				return setError(form, field, error.message, { status: error.status });
 			}
+			throw error;
+		}
+	},
+	tags: async (event) => {
+		const user = requireRole(event, 'buyer');
+		const data = await event.request.formData();
+		const organisationId = String(data.get('supplierOrganisationId') ?? '');
+		const tags = String(data.get('tags') ?? '').split(/[\s,]+/);
+		try {
+			const saved = await tagSupplier(user, event.params.id, organisationId, tags);
+			return {
+				tagged: { organisationId, text: saved.length ? `Tags saved: ${saved.join(', ')}.` : 'Tags removed.' }
+			};
+		} catch (error) {
+			if (error instanceof RuleViolation)
+				return fail(error.status, { tagError: { organisationId, text: error.message } });
 			throw error;
 		}
 	},
