@@ -18,10 +18,7 @@ describe('award rules in plain words', () => {
 		expect(
 			describeRule({ type: 'min_share', scope: 'event', who: { tag: 'small_business' }, percent: 15 })
 		).toBe(
-			'Suppliers tagged “small_business” together get at least 15% of the whole event'.replace(
-				'gets',
-				'gets'
-			)
+			'Suppliers tagged “small_business” together get at least 15% of the whole event'.replace('gets', 'gets')
 		);
 		expect(describeRule({ type: 'supplier_count', scope: 'each_item', min: 2 })).toBe(
 			'Each item goes to at least 2 suppliers'
