@@ -106,3 +106,10 @@ export const answerSchema = z.object({
 		.max(4000),
 	answer: z.string().trim().min(1, 'Write the answer.').max(8000)
 });
+
+/** An award plan as the plan form sends it: the rules as JSON text, checked against the engine's schema. */
+export const planFormSchema = z.object({
+	planId: z.string().default(''),
+	name: z.string().trim().min(1, 'Give the plan a name.').max(120, 'At most 120 characters.'),
+	rules: z.string().default('[]')
+});

@@ -1,4 +1,7 @@
 import { fail } from '@sveltejs/kit';
+import { message, setError, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
+import { planFormSchema } from '$lib/schemas/events';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { listInvitations, listItems } from '$lib/server/db/events';
@@ -30,6 +33,7 @@ export const load: PageServerLoad = async (event) => {
 	const cautions: CautionKey[] = ['decisionSupport', 'lateRuleChange'];
 	return {
 		cautions,
+		planForm: await superValidate(zod4(planFormSchema), { id: 'plan' }),
 		plans: plans.map((p) => planJson(p, row.currency)),
 		runs: runs.map((r) => {
 			const json = runJson(r);
@@ -57,22 +61,30 @@ async function attempt<T>(work: () => Promise<T>) {
 export const actions: Actions = {
 	savePlan: async (event) => {
 		const user = requireRole(event, 'buyer');
-		const data = await event.request.formData();
-		const name = String(data.get('name') ?? '').trim();
-		if (!name) return fail(400, { error: 'Give the plan a name.' });
+		const form = await superValidate(event.request, zod4(planFormSchema), { id: 'plan' });
+		if (!form.valid) return fail(400, { form });
 		let raw: unknown;
 		try {
-			raw = JSON.parse(String(data.get('rules') ?? '[]'));
+			raw = JSON.parse(form.data.rules);
 		} catch {
-			return fail(400, { error: 'The rules could not be read.' });
+			return setError(form, 'rules', 'The rules could not be read.');
 		}
 		const rules = checkRules(raw);
-		if (!rules.ok) return fail(422, { error: rules.problems.join('; ') });
-		const planId = String(data.get('planId') ?? '') || undefined;
-		return attempt(async () => {
-			const plan = await savePlan(user, event.params.id, { id: planId, name, rules: rules.rules });
-			return { ok: `Plan “${plan.name}” saved.` };
-		});
+		if (!rules.ok) return setError(form, 'rules', rules.problems.join('; '), { status: 422 });
+		try {
+			const plan = await savePlan(user, event.params.id, {
+				id: form.data.planId || undefined,
+				name: form.data.name,
+				rules: rules.rules
+			});
+			return message(form, `Plan “${plan.name}” saved.`);
+		} catch (error) {
+			if (error instanceof RuleViolation) {
+				const field = error.field === 'name' ? 'name' : 'rules';
+				return setError(form, field, error.message, { status: error.status });
+			}
+			throw error;
+		}
 	},
 	run: async (event) => {
 		const user = requireRole(event, 'buyer');
