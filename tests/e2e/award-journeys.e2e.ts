@@ -23,26 +23,31 @@ afterAll(async () => {
 	await closeTestDb();
 });
 
+/**
+ * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
+ * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
+ */
+async function leavePage() {
+	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
+	await browser.page.goto('about:blank');
+}
+
 async function expectAccessible(what: string) {
 	expect(await accessibilityViolations(browser.page), what).toEqual([]);
 }
 
 async function signInAsStaff(email: string, password: string, home: string) {
 	const { page } = browser;
+	await leavePage();
 	await browser.context.clearCookies();
 	await page.goto(`${appUrl()}/signin`);
 	const field = page.locator('#password-email');
-	const shown = async (timeout: number) =>
-		field.waitFor({ timeout }).then(
-			() => true,
-			() => false
+	try {
+		await field.waitFor({ timeout: 10_000 });
+	} catch {
+		throw new Error(
+			`no sign-in form at ${page.url()}: ${(await page.locator('body').innerText()).slice(0, 300)}`
 		);
-	const showing = async () => `${page.url()}: ${(await page.locator('body').innerText()).slice(0, 500)}`;
-	if (!(await shown(10_000))) {
-		// Seen once in a run and never again: report what the page showed, then load the page once more.
-		console.warn(`no sign-in form at ${await showing()}`);
-		await page.goto(`${appUrl()}/signin`);
-		if (!(await shown(20_000))) throw new Error(`no sign-in form at ${await showing()}`);
 	}
 	await field.fill(email);
 	await page.getByLabel('Password', { exact: true }).fill(password);
@@ -52,6 +57,7 @@ async function signInAsStaff(email: string, password: string, home: string) {
 
 async function signInBySupplierLink(email: string) {
 	const { page } = browser;
+	await leavePage();
 	await browser.context.clearCookies();
 	await page.goto(`${appUrl()}/signin`);
 	const sentAfter = new Date();

@@ -19,12 +19,22 @@ afterAll(async () => {
 	await closeTestDb();
 });
 
+/**
+ * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
+ * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
+ */
+async function leavePage() {
+	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
+	await browser.page.goto('about:blank');
+}
+
 async function expectAccessible(what: string) {
 	expect(await accessibilityViolations(browser.page), what).toEqual([]);
 }
 
 async function signInAsStaff(email: string, password: string) {
 	const { page } = browser;
+	await leavePage();
 	await browser.context.clearCookies();
 	await page.goto(`${appUrl()}/signin`);
 	await page.locator('#password-email').fill(email);
@@ -35,6 +45,7 @@ async function signInAsStaff(email: string, password: string) {
 
 async function signInBySupplierLink(email: string) {
 	const { page } = browser;
+	await leavePage();
 	await browser.context.clearCookies();
 	await page.goto(`${appUrl()}/signin`);
 	const sentAfter = new Date();

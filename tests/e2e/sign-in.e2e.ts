@@ -22,6 +22,15 @@ async function submitPassword(email: string, password: string) {
 	await browser.page.getByRole('button', { name: 'Sign in', exact: true }).click();
 }
 
+/**
+ * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
+ * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
+ */
+async function leavePage() {
+	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
+	await browser.page.goto('about:blank');
+}
+
 async function expectAccessible(what: string) {
 	expect(await accessibilityViolations(browser.page), what).toEqual([]);
 }
@@ -55,6 +64,7 @@ describe('signing in with a browser', () => {
 	it('signs a buyer in by password, opens the user menu by keyboard and signs out', async () => {
 		const buyer = await aUser('buyer');
 		const { page } = browser;
+		await leavePage();
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/buyer`);
 		await page.waitForURL('**/signin?callbackUrl=%2Fbuyer');
@@ -81,6 +91,7 @@ describe('signing in with a browser', () => {
 	it('shows one message for a wrong password', async () => {
 		const buyer = await aUser('buyer');
 		const { page } = browser;
+		await leavePage();
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/signin`);
 		await submitPassword(buyer.email, 'not the right one');
@@ -92,6 +103,7 @@ describe('signing in with a browser', () => {
 	it('lets an administrator invite a user from the users page', async () => {
 		const admin = await aUser('admin');
 		const { page } = browser;
+		await leavePage();
 		await browser.context.clearCookies();
 		await page.goto(`${appUrl()}/signin`);
 		await submitPassword(admin.email, admin.password!);
