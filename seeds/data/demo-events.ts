@@ -1,17 +1,7 @@
 // The two sourcing events of the invented demo scenario (README, "Demo sign-ins"). Every name, item and
 // price is made up; prices come from a seeded generator, so every `npm start` shows the same numbers.
 
-/** mulberry32, a small well-known seeded generator. */
-export function seeded(seed: number): () => number {
-	let state = seed >>> 0;
-	return () => {
-		state = (state + 0x6d2b79f5) >>> 0;
-		let t = state;
-		t = Math.imul(t ^ (t >>> 15), t | 1);
-		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-	};
-}
+import { seededRandom as seeded } from '../../src/lib/award/generate';
 
 export interface DemoItem {
 	ref: string;

@@ -108,23 +108,6 @@ export async function closeIfDue(eventId: string, by: string): Promise<EventRow 
 	});
 }
 
-export function eventFields(form: {
-	reference: string;
-	title: string;
-	description: string;
-	currency: string;
-	incoterm: string;
-	deliveryPlace: string;
-	deadline: Date;
-	timeZone: string;
-	bidValidityDays: number;
-	allowPriceBreaks: boolean;
-	allowCapacity: boolean;
-	allowBundles: boolean;
-}): EventFields {
-	return { ...form };
-}
-
 async function referenceFree(trx: Db, organisationId: string, reference: string, except?: string) {
 	const clash = await findEventByReference(trx, organisationId, reference);
 	if (clash && clash.id !== except)

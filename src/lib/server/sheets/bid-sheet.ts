@@ -68,7 +68,8 @@ export function priceColumns(event: SheetEvent): string[] {
 	return columns;
 }
 
-const letter = (index: number) => {
+/** The spreadsheet column letter of a 0-based index: 0 → A, 25 → Z, 26 → AA. */
+export const letter = (index: number) => {
 	let n = index + 1;
 	let out = '';
 	while (n > 0) {

@@ -4,7 +4,7 @@ import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
 import { UNIT_CODE } from '$lib/schemas/events';
 import type { ItemFields } from '../db/events';
-import type { SheetProblem } from './bid-sheet';
+import { letter, type SheetProblem } from './bid-sheet';
 
 export const ITEM_COLUMNS = [
 	{ key: 'ref', header: 'Ref', required: true },
@@ -20,17 +20,6 @@ export const ITEM_COLUMNS = [
 export type ItemColumn = (typeof ITEM_COLUMNS)[number]['key'];
 export type RawItemRow = Partial<Record<ItemColumn, string>>;
 export const MAX_ITEMS = 20_000;
-
-const letter = (index: number) => {
-	let n = index + 1;
-	let out = '';
-	while (n > 0) {
-		const r = (n - 1) % 26;
-		out = String.fromCharCode(65 + r) + out;
-		n = Math.floor((n - 1) / 26);
-	}
-	return out;
-};
 
 const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
