@@ -224,7 +224,11 @@ interface StepResult {
 	seconds: number;
 }
 
-async function test(): Promise<void> {
+/**
+ * `npm test` runs everything. `npm test -- PATTERN…` (files or names, as vitest takes them) is the quick
+ * loop: no type check or lint, only the matching tests, against the same freshly built stack.
+ */
+async function test(filters: string[]): Promise<void> {
 	const dataRoot = mkdtempSync(join(tmpdir(), 'tenderloom-test-'));
 	// mkdtemp makes a 0700 folder; the `postgres` user must be able to reach the cluster inside it.
 	chmodSync(dataRoot, 0o755);
@@ -251,14 +255,16 @@ async function test(): Promise<void> {
 	};
 
 	try {
-		await timed(
-			'type check (svelte-check)',
-			async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0
-		);
-		await timed(
-			'lint (prettier, eslint)',
-			async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0
-		);
+		if (!filters.length) {
+			await timed(
+				'type check (svelte-check)',
+				async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0
+			);
+			await timed(
+				'lint (prettier, eslint)',
+				async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0
+			);
+		}
 		let env: (AppEnvironment & { CHROMIUM_PATH: string }) | undefined;
 		const ready = await timed('services, migrations, build, web server', async () => {
 			const chromium = ensureChromium();
@@ -295,7 +301,8 @@ async function test(): Promise<void> {
 							...run.projects.flatMap((p) => ['--project', p]),
 							'--reporter=default',
 							'--reporter=json',
-							`--outputFile.json=${report}`
+							`--outputFile.json=${report}`,
+							...(filters.length ? ['--passWithNoTests', ...filters] : [])
 						],
 						{
 							...process.env,
@@ -313,7 +320,7 @@ async function test(): Promise<void> {
 						counts.failed += (json.numFailedTests ?? 0) + (json.numRuntimeErrorTestSuites ?? 0);
 						counts.skipped += (json.numPendingTests ?? 0) + (json.numTodoTests ?? 0);
 					}
-					return code === 0 && passed > 0;
+					return code === 0 && (passed > 0 || filters.length > 0);
 				});
 			}
 		}
@@ -345,10 +352,10 @@ async function fakes(): Promise<void> {
 }
 
 const command = process.argv[2];
-const commands: Record<string, () => Promise<void>> = { start, test, fakes };
+const commands: Record<string, (args: string[]) => Promise<void>> = { start, test, fakes };
 const run = command ? commands[command] : undefined;
 if (!run) {
 	console.error(`usage: stack.ts ${Object.keys(commands).join(' | ')}`);
 	process.exit(2);
 }
-await run();
+await run(process.argv.slice(3));
