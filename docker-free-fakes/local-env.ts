@@ -4,25 +4,48 @@ import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { join } from 'node:path';
-import { postgresUrl } from './postgres';
+import { APP_ROLE, OWNER_ROLE, postgresUrl, PG_USER } from './postgres';
 
 export interface StackPlan {
 	dataRoot: string;
 	throwaway: boolean;
 	ports: { app: number; postgres: number; s3: number; smtp: number; mailApi: number };
-	secrets: { postgresPassword: string; authSecret: string };
+	secrets: {
+		/** The cluster's superuser: creates the database and the two roles, nothing else. */
+		postgresPassword: string;
+		/** The role that owns the tables and runs migrations and seeds. */
+		ownerPassword: string;
+		/** The role the web server and the worker connect as. */
+		appPassword: string;
+		authSecret: string;
+		trailMacKey: string;
+	};
 }
 
 const secret = () => randomBytes(24).toString('base64url');
+const freshSecrets = (): StackPlan['secrets'] => ({
+	postgresPassword: secret(),
+	ownerPassword: secret(),
+	appPassword: secret(),
+	authSecret: secret(),
+	trailMacKey: randomBytes(32).toString('base64url')
+});
 
-/** Secrets of the start command's data, kept beside it so a second start reuses the cluster and sessions. */
+/**
+ * Secrets of the start command's data, kept beside it so a second start reuses the cluster and sessions.
+ * A file from before a secret existed gets that secret added.
+ */
 function keptSecrets(dataRoot: string): StackPlan['secrets'] {
 	const file = join(dataRoot, 'secrets.json');
-	if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as StackPlan['secrets'];
-	mkdirSync(dataRoot, { recursive: true });
-	const fresh = { postgresPassword: secret(), authSecret: secret() };
-	writeFileSync(file, JSON.stringify(fresh, null, 2), { mode: 0o600 });
-	return fresh;
+	const kept = existsSync(file)
+		? (JSON.parse(readFileSync(file, 'utf8')) as Partial<StackPlan['secrets']>)
+		: undefined;
+	const secrets = { ...freshSecrets(), ...kept };
+	if (!kept || Object.keys(secrets).some((k) => !(k in kept))) {
+		mkdirSync(dataRoot, { recursive: true });
+		writeFileSync(file, JSON.stringify(secrets, null, 2), { mode: 0o600 });
+	}
+	return secrets;
 }
 
 const envPort = (name: string, fallback: number) => Number(process.env[name] ?? fallback);
@@ -65,15 +88,26 @@ export async function testPlan(dataRoot: string): Promise<StackPlan> {
 		taken.add(port);
 		ports[key] = port;
 	}
-	return { dataRoot, throwaway: true, ports, secrets: { postgresPassword: secret(), authSecret: secret() } };
+	return { dataRoot, throwaway: true, ports, secrets: freshSecrets() };
+}
+
+/** The owner's URL: migrations and seeds only, never handed to the web server or the worker. */
+export function migrationDatabaseUrl(plan: StackPlan): string {
+	return postgresUrl({ port: plan.ports.postgres, user: OWNER_ROLE, password: plan.secrets.ownerPassword });
+}
+
+/** The cluster superuser's URL: the stack and the migration tests (scratch databases) only. */
+export function adminDatabaseUrl(plan: StackPlan): string {
+	return postgresUrl({ port: plan.ports.postgres, user: PG_USER, password: plan.secrets.postgresPassword });
 }
 
 /** The environment the web process, the tests and the scripts get; a real deployment sets the same names. */
 export function appEnvironment(plan: StackPlan) {
 	const origin = `http://127.0.0.1:${plan.ports.app}`;
 	return {
-		DATABASE_URL: postgresUrl({ port: plan.ports.postgres, password: plan.secrets.postgresPassword }),
+		DATABASE_URL: postgresUrl({ port: plan.ports.postgres, user: APP_ROLE, password: plan.secrets.appPassword }),
 		AUTH_SECRET: plan.secrets.authSecret,
+		TRAIL_MAC_KEY: plan.secrets.trailMacKey,
 		AUTH_TRUST_HOST: 'true',
 		ORIGIN: origin,
 		HOST: '127.0.0.1',

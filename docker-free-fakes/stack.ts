@@ -8,7 +8,15 @@ import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { appEnvironment, startPlan, testPlan, type AppEnvironment, type StackPlan } from './local-env';
+import {
+	adminDatabaseUrl,
+	appEnvironment,
+	migrationDatabaseUrl,
+	startPlan,
+	testPlan,
+	type AppEnvironment,
+	type StackPlan
+} from './local-env';
 import {
 	chooseDataDir,
 	ensurePostgresInstalled,
@@ -42,6 +50,8 @@ async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<A
 			dataDir,
 			port: plan.ports.postgres,
 			password: plan.secrets.postgresPassword,
+			ownerPassword: plan.secrets.ownerPassword,
+			appPassword: plan.secrets.appPassword,
 			logFile: join(logs, 'postgresql.log'),
 			throwaway: plan.throwaway
 		})
@@ -126,6 +136,16 @@ async function startWeb(
 	});
 }
 
+/**
+ * Migrations and seeds run as the owner. The seeds append to the decision trail, which signs entries and
+ * writes checkpoints with the app's settings, so this process takes the app's environment first.
+ */
+async function migrateAndSeed(plan: StackPlan, env: AppEnvironment): Promise<void> {
+	await migrateDatabase(migrationDatabaseUrl(plan));
+	Object.assign(process.env, env);
+	await seedDatabase(migrationDatabaseUrl(plan));
+}
+
 function runStep(command: string, args: string[], env: NodeJS.ProcessEnv = process.env): Promise<number> {
 	return new Promise((resolve) => {
 		const child = spawn(command, args, { cwd: root, env, stdio: 'inherit' });
@@ -173,8 +193,7 @@ async function start(): Promise<void> {
 	onShutdown(() => supervisor.stopAll());
 	try {
 		const env = await startServices(plan, supervisor);
-		await migrateDatabase(env.DATABASE_URL);
-		await seedDatabase(env.DATABASE_URL);
+		await migrateAndSeed(plan, env);
 		say('migrated and loaded the demo scenario');
 		build();
 		await startWeb(plan, supervisor, env);
@@ -269,7 +288,7 @@ async function test(filters: string[]): Promise<void> {
 		const ready = await timed('services, migrations, build, web server', async () => {
 			const chromium = ensureChromium();
 			env = { ...(await startServices(plan, supervisor)), CHROMIUM_PATH: chromium };
-			await migrateDatabase(env.DATABASE_URL);
+			await migrateDatabase(migrationDatabaseUrl(plan));
 			build();
 			// Many tests sign in from 127.0.0.1: lift the per-address ceiling for the server under test only
 			// (tests/integration/rate-limit.spec.ts checks that ceiling on its own).
@@ -308,6 +327,10 @@ async function test(filters: string[]): Promise<void> {
 							...process.env,
 							...testEnv,
 							APP_URL: testEnv.ORIGIN,
+							// Only the tests get these: the attack tests play a database owner, the migration
+							// tests make scratch databases. The web server and the worker never see them.
+							DATABASE_OWNER_URL: migrationDatabaseUrl(plan),
+							DATABASE_ADMIN_URL: adminDatabaseUrl(plan),
 							TEST_DATA_DIR: dataRoot,
 							CLOCK_OFFSET_FILE: join(dataRoot, 'clock.json')
 						}
@@ -344,10 +367,10 @@ async function fakes(): Promise<void> {
 	const supervisor = new Supervisor(say);
 	onShutdown(() => supervisor.stopAll());
 	const env = await startServices(plan, supervisor);
-	await migrateDatabase(env.DATABASE_URL);
-	await seedDatabase(env.DATABASE_URL);
+	await migrateAndSeed(plan, env);
 	console.log('\nServices are up. For `npm run dev` in another shell, export:\n');
 	for (const [key, value] of Object.entries(env)) console.log(`export ${key}='${value}'`);
+	console.log(`export MIGRATION_DATABASE_URL='${migrationDatabaseUrl(plan)}'`);
 	console.log("export ORIGIN='http://127.0.0.1:5173'\n");
 }
 

@@ -104,6 +104,8 @@ describe('PostgreSQL from the Debian packages', () => {
 			dataDir,
 			port: await freePort(),
 			password: 'scratch-password',
+			ownerPassword: 'scratch-owner-password',
+			appPassword: 'scratch-app-password',
 			logFile: join(scratch, 'pg.log'),
 			throwaway: true
 		};

@@ -11,7 +11,7 @@ import { config } from '../config';
 import type { RunRow } from '../services/awards';
 import { mailContext } from '../services/events';
 import { neutralise } from '../sheets/bid-sheet';
-import { appendTrail } from '../trail';
+import { appendTrail, trailHead } from '../trail';
 
 export async function ownLinesWorkbook(
 	reference: string,
@@ -44,7 +44,8 @@ export async function sendNotice(noticeId: string): Promise<void> {
 		.select('email');
 	const context = {
 		...mailContext(event!, config().ORIGIN ?? 'http://127.0.0.1:3000', buyer?.name ?? 'The buyer'),
-		currency: event!.currency
+		currency: event!.currency,
+		trailHead: await trailHead(db(), notice.event_id)
 	};
 	// Only this supplier's own lines, never another's.
 	const lines = ((run!.result?.awards ?? []) as (NoticeLine & { supplier: string })[])

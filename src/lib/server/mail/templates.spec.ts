@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { invitationMail, signInLinkMail } from './templates';
+import {
+	awardNoticeMail,
+	bidReceiptMail,
+	invitationMail,
+	regretNoticeMail,
+	signInLinkMail
+} from './templates';
 
 const now = new Date('2027-03-01T10:00:00Z');
 
@@ -32,5 +38,50 @@ describe('mail templates', () => {
 		expect(mail.html).toContain('Osk &amp; Vale');
 		expect(mail.html).toContain('href="http://127.0.0.1/?a=1&amp;b=&quot;2&quot;"');
 		expect(mail.text).toContain('works for 72 hours');
+	});
+
+	it('carries the decision trail head in receipts and notices, so it is kept outside the database', () => {
+		const event = {
+			reference: 'EV-1',
+			title: 'Boxes',
+			buyerName: 'Buyer',
+			deadline: '2027-03-02 10:00 (UTC)',
+			url: 'http://127.0.0.1/supplier/events/1',
+			currency: 'EUR',
+			trailHead: { seq: 7, hash: 'ab'.repeat(32) }
+		};
+		const head = `Decision trail of EV-1 at this moment: entry 7, SHA-256 ${'ab'.repeat(32)}.`;
+		const mails = [
+			bidReceiptMail('s@example.test', event, {
+				revision: 2,
+				receivedAt: '2027-03-01T10:00:00Z',
+				fileName: 'bid.xlsx',
+				sha256: 'cd'.repeat(32),
+				lines: 3
+			}),
+			awardNoticeMail('s@example.test', event, {
+				supplierName: 'S',
+				lines: [],
+				standstillEndsOn: '2027-03-12'
+			}),
+			regretNoticeMail('s@example.test', event, { supplierName: 'S', standstillEndsOn: '2027-03-12' })
+		];
+		for (const mail of mails) {
+			expect(mail.text).toContain(head);
+			expect(mail.html).toContain(head);
+		}
+		expect(
+			bidReceiptMail(
+				's@example.test',
+				{ ...event, trailHead: null },
+				{
+					revision: 1,
+					receivedAt: '2027-03-01T10:00:00Z',
+					fileName: null,
+					sha256: null,
+					lines: 1
+				}
+			).text
+		).not.toContain('Decision trail');
 	});
 });

@@ -52,13 +52,33 @@ export function invitationMail(
 	};
 }
 
+/** The newest entry of the event's decision trail when the message was made. */
+export interface TrailHead {
+	seq: number;
+	hash: string;
+}
+
+/**
+ * The head travels in the message so it is kept outside Tenderloom's database: whoever holds the
+ * message can show that the trail later lacked that entry or had a different one there.
+ */
+export const trailHeadLine = (reference: string, head: TrailHead) =>
+	`Decision trail of ${reference} at this moment: entry ${head.seq}, SHA-256 ${head.hash}. Keep this message: it lets an auditor check that the trail was not cut short or rewritten afterwards.`;
+
 /** A plain notice: paragraphs and one link. Values are escaped by the layout. */
-function notice(to: string, subject: string, lines: string[], action: { label: string; url: string }) {
+function notice(
+	to: string,
+	subject: string,
+	lines: string[],
+	action: { label: string; url: string },
+	event?: EventMailContext
+) {
+	const all = event?.trailHead ? [...lines, trailHeadLine(event.reference, event.trailHead)] : lines;
 	return {
 		to,
 		subject,
-		text: `${lines.join('\n\n')}\n\n${action.label}: ${action.url}\n`,
-		html: layout(lines, action)
+		text: `${all.join('\n\n')}\n\n${action.label}: ${action.url}\n`,
+		html: layout(all, action)
 	} satisfies OutgoingMail;
 }
 
@@ -68,6 +88,8 @@ export interface EventMailContext {
 	buyerName: string;
 	deadline: string;
 	url: string;
+	/** Set where the sender read it; every event message that has it carries it. */
+	trailHead?: TrailHead | null;
 }
 
 export function eventInvitationMail(to: string, event: EventMailContext): OutgoingMail {
@@ -78,7 +100,8 @@ export function eventInvitationMail(to: string, event: EventMailContext): Outgoi
 			`${event.buyerName} invites your organisation to bid in the sourcing event ${event.reference} “${event.title}”.`,
 			`Bids close at ${event.deadline}. The bid sheet, the terms and the clarifications are on the event's page.`
 		],
-		{ label: 'Open the event', url: event.url }
+		{ label: 'Open the event', url: event.url },
+		event
 	);
 }
 
@@ -96,7 +119,8 @@ export function amendmentMail(
 			...amendment.changes,
 			`Bids close at ${event.deadline}. Check that your bid still fits the amended event.`
 		],
-		{ label: 'Open the event', url: event.url }
+		{ label: 'Open the event', url: event.url },
+		event
 	);
 }
 
@@ -113,7 +137,8 @@ export function clarificationMail(
 			`Question: ${clarification.question}`,
 			`Answer: ${clarification.answer}`
 		],
-		{ label: 'Open the event', url: event.url }
+		{ label: 'Open the event', url: event.url },
+		event
 	);
 }
 
@@ -139,7 +164,8 @@ export function bidReceiptMail(
 				: 'Entered on screen; no file.',
 			`Lines priced: ${receipt.lines}. You can change or withdraw the bid until ${event.deadline}; the latest revision is your bid.`
 		],
-		{ label: 'Open the event', url: event.url }
+		{ label: 'Open the event', url: event.url },
+		event
 	);
 }
 
@@ -151,7 +177,8 @@ export function withdrawalMail(to: string, event: EventMailContext, at: string):
 			`Your bid for ${event.reference} “${event.title}” was withdrawn at ${at} (server time).`,
 			`You can submit a new bid until ${event.deadline}.`
 		],
-		{ label: 'Open the event', url: event.url }
+		{ label: 'Open the event', url: event.url },
+		event
 	);
 }
 
@@ -181,7 +208,8 @@ export function awardNoticeMail(
 			`Total: ${total.toFixed(2)} ${event.currency} (landed cost where the buyer added freight or duty).`,
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules); the contract is not concluded before then. This notice is not itself a contract.`
 		],
-		{ label: 'See your result', url: event.url }
+		{ label: 'See your result', url: event.url },
+		event
 	);
 }
 
@@ -197,7 +225,8 @@ export function regretNoticeMail(
 			`Thank you for bidding in ${event.reference} “${event.title}”. ${event.buyerName} does not intend to award ${notice.supplierName} any line of this event.`,
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules). You may ask the buyer for the reasons within that period.`
 		],
-		{ label: 'See your result', url: event.url }
+		{ label: 'See your result', url: event.url },
+		event
 	);
 }
 

@@ -31,7 +31,7 @@ import {
 } from '../sheets/bid-sheet';
 import { inspectUpload } from '../sheets/inspect';
 import { putObject } from '../storage';
-import { appendTrail } from '../trail';
+import { appendTrail, trailHead } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, mailContext, sheetEvent } from './events';
 import type { RequestContext } from './users';
@@ -202,8 +202,9 @@ async function mailReceipt(
 	context: RequestContext,
 	detail: { fileName: string | null; sha256: string | null; lines: number }
 ): Promise<void> {
+	const trail = { trailHead: await trailHead(db(), event.id) };
 	await enqueueMail([
-		bidReceiptMail(actor.email, mailContext(event, context.origin, ''), {
+		bidReceiptMail(actor.email, { ...mailContext(event, context.origin, ''), ...trail }, {
 			revision: revision.number,
 			receivedAt: revision.submitted_at.toISOString(),
 			...detail

@@ -1,23 +1,53 @@
 import type { SessionUser } from '../auth/session-user';
 import { db } from '../db/knex';
-import { listTrail, trailWorkbook, verifyTrail } from '../trail';
+import { InvalidCheckpoint, latestCheckpoint } from '../storage/trail-checkpoints';
+import { configuredMacKeys, listTrail, trailWorkbook, verifyTrail, type AnchorState } from '../trail';
 import { RuleViolation } from './errors';
 import { eventFor } from './events';
+
+/** What the verification can and cannot find, said the same way on the page, in JSON and in the workbook. */
+export const TRAIL_GUARANTEES = {
+	detected: [
+		'an entry changed, removed or put out of order',
+		'the newest entries removed, up to the latest checkpoint kept outside the database',
+		'an entry added or rewritten by anyone without Tenderloom’s signing key, even with every hash recomputed'
+	],
+	notDetected: [
+		'someone who holds the database owner’s access, the signing key and the object store together',
+		'a step that was never written to the trail',
+		'the newest entries removed before their checkpoint was written (shown as not yet anchored)'
+	]
+};
+
+async function anchorOf(eventId: string): Promise<AnchorState> {
+	try {
+		const checkpoint = await latestCheckpoint(eventId);
+		return checkpoint ? { kind: 'checkpoint', checkpoint } : { kind: 'none' };
+	} catch (error) {
+		if (error instanceof InvalidCheckpoint) return { kind: 'invalid', problem: error.message };
+		return { kind: 'unavailable', problem: 'the object store could not be reached' };
+	}
+}
 
 /** The trail of an event and whether its chain holds: for staff of the buying organisation only. */
 export async function eventTrail(user: SessionUser, id: string) {
 	const { event, view } = await eventFor(user, id);
 	if (view !== 'staff')
 		throw new RuleViolation('The decision trail is for the buying organisation.', undefined, 403);
-	const entries = await listTrail(db(), id);
-	return { event, entries, verification: verifyTrail(entries) };
+	const [entries, anchor] = await Promise.all([listTrail(db(), id), anchorOf(id)]);
+	return { event, entries, verification: verifyTrail(entries, { keys: configuredMacKeys(), anchor }), anchor };
 }
 
 export async function eventTrailJson(user: SessionUser, id: string) {
-	const { event, entries, verification } = await eventTrail(user, id);
+	const { event, entries, verification, anchor } = await eventTrail(user, id);
 	return {
 		event: { id: event.id, reference: event.reference, title: event.title },
 		verification,
+		checkpoint:
+			anchor.kind === 'checkpoint'
+				? { seq: anchor.checkpoint.seq, hash: anchor.checkpoint.hash, writtenAt: anchor.checkpoint.writtenAt }
+				: null,
+		guarantees: TRAIL_GUARANTEES,
 		entries: entries.map((e) => ({
 			seq: e.seq,
 			at: e.at.toISOString(),
@@ -25,7 +55,8 @@ export async function eventTrailJson(user: SessionUser, id: string) {
 			action: e.action,
 			detail: e.detail,
 			previousHash: e.previous_hash,
-			hash: e.hash
+			hash: e.hash,
+			mac: e.mac
 		}))
 	};
 }

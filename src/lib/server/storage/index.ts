@@ -2,6 +2,7 @@ import {
 	DeleteObjectCommand,
 	GetObjectCommand,
 	HeadBucketCommand,
+	ListObjectsV2Command,
 	PutObjectCommand,
 	S3Client
 } from '@aws-sdk/client-s3';
@@ -53,6 +54,20 @@ export async function getObject(key: string): Promise<Buffer> {
 
 export async function deleteObject(key: string): Promise<void> {
 	await s3().send(new DeleteObjectCommand({ Bucket: bucket(), Key: key }));
+}
+
+/** Every key under a prefix, in the store's (lexical) order. */
+export async function listKeys(prefix: string): Promise<string[]> {
+	const keys: string[] = [];
+	let token: string | undefined;
+	do {
+		const page = await s3().send(
+			new ListObjectsV2Command({ Bucket: bucket(), Prefix: prefix, ContinuationToken: token })
+		);
+		keys.push(...(page.Contents ?? []).flatMap((o) => (o.Key ? [o.Key] : [])));
+		token = page.IsTruncated ? page.NextContinuationToken : undefined;
+	} while (token);
+	return keys;
 }
 
 /** Whether the bucket can be reached with the configured keys. */
