@@ -105,7 +105,11 @@ export function adminDatabaseUrl(plan: StackPlan): string {
 export function appEnvironment(plan: StackPlan) {
 	const origin = `http://127.0.0.1:${plan.ports.app}`;
 	return {
-		DATABASE_URL: postgresUrl({ port: plan.ports.postgres, user: APP_ROLE, password: plan.secrets.appPassword }),
+		DATABASE_URL: postgresUrl({
+			port: plan.ports.postgres,
+			user: APP_ROLE,
+			password: plan.secrets.appPassword
+		}),
 		AUTH_SECRET: plan.secrets.authSecret,
 		TRAIL_MAC_KEY: plan.secrets.trailMacKey,
 		AUTH_TRUST_HOST: 'true',

@@ -8,7 +8,8 @@ import type { Knex } from 'knex';
 function appRole(): string {
 	const role = process.env.APP_DATABASE_ROLE ?? 'tenderloom_app';
 	// Written into the SQL below as an identifier.
-	if (!/^[a-z_][a-z0-9_]{0,62}$/.test(role)) throw new Error(`APP_DATABASE_ROLE "${role}" is not a plain role name`);
+	if (!/^[a-z_][a-z0-9_]{0,62}$/.test(role))
+		throw new Error(`APP_DATABASE_ROLE "${role}" is not a plain role name`);
 	return role;
 }
 const DML = 'select, insert, update, delete';

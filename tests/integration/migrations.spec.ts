@@ -2,18 +2,21 @@ import { spawnSync } from 'node:child_process';
 import knex from 'knex';
 import pg from 'pg';
 import { afterAll, describe, expect, it } from 'vitest';
-import { databaseUrl } from '../support/env';
+import { databaseAdminUrl, databaseOwnerUrl, databaseUrl } from '../support/env';
 
 // Migrations are TypeScript, which Node inside vitest cannot import: run them as `npm run db:*` does, with tsx.
+// The scratch database is made by the cluster's superuser for the owner, who migrates it, as in `npm start`.
 const scratchName = `tenderloom_migrations_${process.pid}`;
 const scratchUrl = () => {
-	const url = new URL(databaseUrl());
+	const url = new URL(databaseOwnerUrl());
 	url.pathname = `/${scratchName}`;
 	return url.toString();
 };
+const ownerRole = () => new URL(databaseOwnerUrl()).username;
+const appRole = () => new URL(databaseUrl()).username;
 
 async function admin(sql: string) {
-	const client = new pg.Client({ connectionString: databaseUrl() });
+	const client = new pg.Client({ connectionString: databaseAdminUrl() });
 	await client.connect();
 	try {
 		await client.query(sql);
@@ -24,7 +27,7 @@ async function admin(sql: string) {
 
 function dbScript(command: string) {
 	const result = spawnSync(process.execPath, ['--import', 'tsx', 'docker-free-fakes/db.ts', command], {
-		env: { ...process.env, DATABASE_URL: scratchUrl() },
+		env: { ...process.env, MIGRATION_DATABASE_URL: scratchUrl() },
 		encoding: 'utf8'
 	});
 	expect(result.status, result.stderr).toBe(0);
@@ -35,7 +38,7 @@ afterAll(() => admin(`drop database if exists ${scratchName}`));
 
 describe('migrations', () => {
 	it('run up, all the way down, and up again on an empty database', async () => {
-		await admin(`create database ${scratchName}`);
+		await admin(`create database ${scratchName} owner ${ownerRole()}`);
 		const db = knex({ client: 'pg', connection: scratchUrl() });
 		const tables = async () =>
 			(
@@ -60,7 +63,7 @@ describe('migrations', () => {
 
 	it('loads the demo seeds twice without duplicating anything', async () => {
 		await admin(`drop database if exists ${scratchName}`);
-		await admin(`create database ${scratchName}`);
+		await admin(`create database ${scratchName} owner ${ownerRole()}`);
 		dbScript('migrate');
 		dbScript('seed');
 		dbScript('seed');
@@ -71,6 +74,31 @@ describe('migrations', () => {
 			// seeds/data/demo-accounts.ts: 5 staff and 8 supplier users in 1 buying and 8 supplier organisations
 			expect(Number(users)).toBe(13);
 			expect(Number(organisations)).toBe(9);
+		} finally {
+			await db.destroy();
+		}
+	});
+
+	it("give the app's role the product's tables and pg-boss's, but only INSERT and SELECT on the trail", async () => {
+		await admin(`drop database if exists ${scratchName}`);
+		await admin(`create database ${scratchName} owner ${ownerRole()}`);
+		dbScript('migrate');
+		const db = knex({ client: 'pg', connection: scratchUrl() });
+		const can = async (table: string, privilege: string) =>
+			(await db.raw('select has_table_privilege(?, ?, ?) as ok', [appRole(), table, privilege])).rows[0].ok;
+		try {
+			for (const privilege of ['SELECT', 'INSERT']) expect(await can('trail_entries', privilege)).toBe(true);
+			for (const privilege of ['UPDATE', 'DELETE', 'TRUNCATE', 'TRIGGER', 'REFERENCES'])
+				expect(await can('trail_entries', privilege), privilege).toBe(false);
+			for (const privilege of ['SELECT', 'INSERT', 'UPDATE', 'DELETE'])
+				expect(await can('events', privilege), privilege).toBe(true);
+			expect(await can('events', 'TRUNCATE')).toBe(false);
+			expect(await can('knex_migrations', 'INSERT')).toBe(false);
+			expect(await can('pgboss.job', 'UPDATE')).toBe(true);
+			expect(await can('pgboss.job', 'TRUNCATE')).toBe(false);
+			// The default privileges reach a table the owner makes later, as the next migration will.
+			await db.raw('create table later_table (id int)');
+			expect(await can('later_table', 'UPDATE')).toBe(true);
 		} finally {
 			await db.destroy();
 		}

@@ -22,8 +22,7 @@ export async function installJobQueues(ownerUrl: string): Promise<void> {
 	const instance = new PgBoss({ connectionString: ownerUrl, max: 2, supervise: false, schedule: false });
 	await instance.start();
 	try {
-		for (const name of [...Object.values(QUEUES), '__pgboss__send-it'])
-			await instance.createQueue(name);
+		for (const name of [...Object.values(QUEUES), '__pgboss__send-it']) await instance.createQueue(name);
 	} finally {
 		await instance.stop({ graceful: false, wait: true });
 	}

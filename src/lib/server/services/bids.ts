@@ -202,9 +202,10 @@ async function mailReceipt(
 	context: RequestContext,
 	detail: { fileName: string | null; sha256: string | null; lines: number }
 ): Promise<void> {
-	const trail = { trailHead: await trailHead(db(), event.id) };
+	// The receipt carries the trail's head, so the supplier keeps it outside the database.
+	const mail = { ...mailContext(event, context.origin, ''), trailHead: await trailHead(db(), event.id) };
 	await enqueueMail([
-		bidReceiptMail(actor.email, { ...mailContext(event, context.origin, ''), ...trail }, {
+		bidReceiptMail(actor.email, mail, {
 			revision: revision.number,
 			receivedAt: revision.submitted_at.toISOString(),
 			...detail

@@ -35,7 +35,12 @@ export async function eventTrail(user: SessionUser, id: string) {
 	if (view !== 'staff')
 		throw new RuleViolation('The decision trail is for the buying organisation.', undefined, 403);
 	const [entries, anchor] = await Promise.all([listTrail(db(), id), anchorOf(id)]);
-	return { event, entries, verification: verifyTrail(entries, { keys: configuredMacKeys(), anchor }), anchor };
+	return {
+		event,
+		entries,
+		verification: verifyTrail(entries, { keys: configuredMacKeys(), anchor }),
+		anchor
+	};
 }
 
 export async function eventTrailJson(user: SessionUser, id: string) {
