@@ -245,7 +245,7 @@ async function ensureDatabase(plan: PostgresPlan): Promise<void> {
 					where n.nspname in ('public', 'pgboss') and c.relkind in ('r', 'p', 'v', 'm', 'S')
 						and c.relowner <> owner
 						and not exists (select 1 from pg_depend d where d.classid = 'pg_class'::regclass
-							and d.objid = c.oid and d.deptype in ('a', 'i', 'e'))
+							and d.objid = c.oid and (d.deptype = 'e' or (c.relkind = 'S' and d.deptype in ('a', 'i'))))
 				loop
 					execute format('alter table %s owner to ${OWNER_ROLE}', r.name);
 				end loop;

@@ -371,6 +371,9 @@ async function fakes(): Promise<void> {
 	console.log('\nServices are up. For `npm run dev` in another shell, export:\n');
 	for (const [key, value] of Object.entries(env)) console.log(`export ${key}='${value}'`);
 	console.log(`export MIGRATION_DATABASE_URL='${migrationDatabaseUrl(plan)}'`);
+	console.log('# for the integration tests only, never for the app:');
+	console.log(`export DATABASE_OWNER_URL='${migrationDatabaseUrl(plan)}'`);
+	console.log(`export DATABASE_ADMIN_URL='${adminDatabaseUrl(plan)}'`);
 	console.log("export ORIGIN='http://127.0.0.1:5173'\n");
 }
 
