@@ -28,6 +28,7 @@ interface TrailAnswer {
 		entries: number;
 		firstBroken?: number;
 		reason?: string;
+		anchoredTo: number;
 		unanchored: number;
 		text: string;
 	};
@@ -95,6 +96,31 @@ async function rewriteFrom(eventId: string, at: number, signWith?: string) {
 	});
 }
 
+/** An owner's forged "bids opened" entry after the last one, chained correctly, signed with `key`. */
+async function appendForged(eventId: string, key: string) {
+	const last = (await listTrail(owner, eventId)).at(-1)!;
+	const body: Omit<TrailEntry, 'hash' | 'mac' | 'mac_key_id'> = {
+		event_id: eventId,
+		seq: last.seq + 1,
+		at: new Date(last.at.getTime() + 1000),
+		actor_user_id: null,
+		actor: 'Tenderloom (system)',
+		action: 'bids opened',
+		detail: { reason: 'deadline job' },
+		previous_hash: last.hash
+	};
+	const hash = entryHash(body);
+	const signing = macKey(key);
+	await owner('trail_entries').insert({
+		...body,
+		detail: JSON.stringify(body.detail),
+		hash,
+		mac: entryMac(signing, hash),
+		// The real key's id, so the entry is checked against the real key.
+		mac_key_id: last.mac_key_id
+	});
+}
+
 describe("the decision trail against the app's own database credentials", () => {
 	it('refuses UPDATE, DELETE and TRUNCATE of trail entries with permission denied', async () => {
 		const { event } = await anAnchoredTrail();
@@ -156,25 +182,7 @@ describe('the decision trail against a hostile database owner', () => {
 
 	it('finds an entry the owner appended with a correct chain hash but without the signing key', async () => {
 		const { buyer, event } = await anAnchoredTrail();
-		const [, , last] = await listTrail(owner, event.id);
-		const body: Omit<TrailEntry, 'hash' | 'mac' | 'mac_key_id'> = {
-			event_id: event.id,
-			seq: 4,
-			at: new Date(last!.at.getTime() + 1000),
-			actor_user_id: null,
-			actor: 'Tenderloom (system)',
-			action: 'bids opened',
-			detail: { reason: 'deadline job' },
-			previous_hash: last!.hash
-		};
-		const hash = entryHash(body);
-		await owner('trail_entries').insert({
-			...body,
-			detail: JSON.stringify(body.detail),
-			hash,
-			mac: entryMac(macKey('the attacker guesses a key of 32 characters'), hash),
-			mac_key_id: last!.mac_key_id
-		});
+		await appendForged(event.id, 'the attacker guesses a key of 32 characters');
 		const { verification } = await trailOf(buyer.client, event.id);
 		expect(verification).toMatchObject({
 			intact: false,
@@ -182,6 +190,16 @@ describe('the decision trail against a hostile database owner', () => {
 			firstBroken: 4,
 			reason: "entry 4 does not carry Tenderloom's signature: it was forged or rewritten outside Tenderloom"
 		});
+	});
+
+	it('reports an entry appended by an owner who also holds the signing key as not anchored', async () => {
+		const { buyer, event } = await anAnchoredTrail();
+		await appendForged(event.id, process.env.TRAIL_MAC_KEY!);
+		const { verification } = await trailOf(buyer.client, event.id);
+		expect(verification).toMatchObject({ intact: true, entries: 4, anchoredTo: 3, unanchored: 1 });
+		expect(verification.text).toBe(
+			'intact, 4 entries; entry 4 is not yet anchored outside the database (checkpoint at entry 3)'
+		);
 	});
 
 	it('finds an entry the owner rewrote with every later hash recomputed', async () => {

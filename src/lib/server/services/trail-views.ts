@@ -9,13 +9,15 @@ import { eventFor } from './events';
 export const TRAIL_GUARANTEES = {
 	detected: [
 		'an entry changed, removed or put out of order',
-		'the newest entries removed, up to the latest checkpoint kept outside the database',
-		'an entry added or rewritten by anyone without Tenderloom’s signing key, even with every hash recomputed'
+		'the newest entries removed, back to the latest checkpoint kept in the object store',
+		'an entry added or rewritten without Tenderloom’s signing key, even with every hash recomputed',
+		'an entry rewritten with the signing key, at or before the latest checkpoint'
 	],
 	notDetected: [
-		'someone who holds the database owner’s access, the signing key and the object store together',
+		'the newest entries removed by someone who can also delete checkpoints in the object store (receipts and notices already sent still show the entry and hash they carried)',
+		'entries forged or rewritten by someone who holds the signing key and can write to both the database and the object store',
 		'a step that was never written to the trail',
-		'the newest entries removed before their checkpoint was written (shown as not yet anchored)'
+		'entries after the latest checkpoint rest on their signature alone; they are shown as not yet anchored'
 	]
 };
 
