@@ -60,6 +60,10 @@ describe('the decision trail', () => {
 		expect(JSON.stringify(trail)).not.toMatch(/"1\.9"|1\.9[,}]/);
 		const page = await (await buyer.client.get(`/events/${event.id}/trail`)).text();
 		expect(page).toContain('intact, 3 entries');
+		// The page says plainly what the check finds and what it cannot, and no longer claims more.
+		expect(page).toContain('What it cannot find');
+		expect(page).toContain('a step that was never written to the trail');
+		expect(page).not.toContain('cannot be changed or removed');
 	});
 
 	it("refuses UPDATE and DELETE on trail rows: to the app's role by its grants, to the owner by the trigger", async () => {
