@@ -10,17 +10,27 @@ export interface StackPlan {
 	dataRoot: string;
 	throwaway: boolean;
 	ports: { app: number; postgres: number; s3: number; smtp: number; mailApi: number };
-	secrets: { postgresPassword: string; authSecret: string };
+	secrets: { postgresPassword: string; authSecret: string; bidFileKeys: string };
 }
 
 const secret = () => randomBytes(24).toString('base64url');
+/** The master key that encrypts bid files (BID_FILE_KEYS), named by the day it was made. */
+const bidFileKey = () =>
+	`local${new Date().toISOString().slice(0, 10).replace(/-/g, '')}:${randomBytes(32).toString('base64')}`;
 
 /** Secrets of the start command's data, kept beside it so a second start reuses the cluster and sessions. */
 function keptSecrets(dataRoot: string): StackPlan['secrets'] {
 	const file = join(dataRoot, 'secrets.json');
-	if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as StackPlan['secrets'];
+	if (existsSync(file)) {
+		const kept = JSON.parse(readFileSync(file, 'utf8')) as StackPlan['secrets'];
+		if (kept.bidFileKeys) return kept;
+		// Data made before bid files were encrypted: add a key and keep it from now on.
+		const completed = { ...kept, bidFileKeys: bidFileKey() };
+		writeFileSync(file, JSON.stringify(completed, null, 2), { mode: 0o600 });
+		return completed;
+	}
 	mkdirSync(dataRoot, { recursive: true });
-	const fresh = { postgresPassword: secret(), authSecret: secret() };
+	const fresh = { postgresPassword: secret(), authSecret: secret(), bidFileKeys: bidFileKey() };
 	writeFileSync(file, JSON.stringify(fresh, null, 2), { mode: 0o600 });
 	return fresh;
 }
@@ -65,7 +75,12 @@ export async function testPlan(dataRoot: string): Promise<StackPlan> {
 		taken.add(port);
 		ports[key] = port;
 	}
-	return { dataRoot, throwaway: true, ports, secrets: { postgresPassword: secret(), authSecret: secret() } };
+	return {
+		dataRoot,
+		throwaway: true,
+		ports,
+		secrets: { postgresPassword: secret(), authSecret: secret(), bidFileKeys: bidFileKey() }
+	};
 }
 
 /** The environment the web process, the tests and the scripts get; a real deployment sets the same names. */
@@ -85,6 +100,7 @@ export function appEnvironment(plan: StackPlan) {
 		S3_ACCESS_KEY_ID: 'S3RVER',
 		S3_SECRET_ACCESS_KEY: 'S3RVER',
 		S3_FORCE_PATH_STYLE: 'true',
+		BID_FILE_KEYS: plan.secrets.bidFileKeys,
 		SMTP_URL: `smtp://127.0.0.1:${plan.ports.smtp}`,
 		MAIL_FROM: 'Tenderloom <no-reply@tenderloom.test>',
 		MAIL_FAKE_API: `http://127.0.0.1:${plan.ports.mailApi}`
