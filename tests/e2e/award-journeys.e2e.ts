@@ -78,7 +78,8 @@ describe('the four journeys, in a browser', () => {
 		const [first, second] = [await aSupplierOrganisationWithUser(), await aSupplierOrganisationWithUser()];
 		const event = await anOpenEvent({
 			createdBy: buyer.id,
-			invite: [first.organisation.id, second.organisation.id]
+			invite: [first.organisation.id, second.organisation.id],
+			deadline: new Date(Date.now() + 24 * 3600_000)
 		});
 
 		// 1. The supplier uploads its bid in the browser; a competitor has bid by the API.

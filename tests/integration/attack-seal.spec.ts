@@ -57,11 +57,25 @@ function filledCsv(template: string, price: string) {
 
 const aCsvBid = async (eventId: string, price: string) => filledCsv(await csvTemplate(eventId), price);
 
+/** Waits for a mail to the supplier about the event whose subject matches. */
+async function mailAbout(reference: string, subject: RegExp): Promise<FakeMail> {
+	for (let k = 0; k < 60; k++) {
+		const found = (await mailTo(supplier.user.email)).find(
+			(m) => m.subject.includes(reference) && subject.test(m.subject)
+		);
+		if (found) return found;
+		await new Promise((r) => setTimeout(r, 250));
+	}
+	throw new Error(`no mail about ${reference} matching ${subject}`);
+}
+const receiptFor = (reference: string) => mailAbout(reference, /receipt|received/i);
+
 describe('a buyer who brings the bid deadline forward', () => {
 	it('is refused with the reason, mails no supplier and leaves the deadline and the trail as they were', async () => {
 		const event = await anOpenEvent({ createdBy: buyer.user.id, invite: [supplier.organisationId] });
 		const bid = await aCsvBid(event.id, '4.37');
 		expect((await uploadSheet(supplier.client, event.id, bid, 'bid.csv')).status).toBe(201);
+		await receiptFor(event.reference);
 		const before = await testDb()('events').where({ id: event.id }).first();
 		const trailBefore = await trailOf(event.id);
 		const mailsBefore = (await mailTo(supplier.user.email)).length;
@@ -78,7 +92,11 @@ describe('a buyer who brings the bid deadline forward', () => {
 		expect(page).toContain('National rules on time limits');
 
 		await new Promise((r) => setTimeout(r, 1500));
-		expect((await mailTo(supplier.user.email)).length).toBe(mailsBefore);
+		const mails = await mailTo(supplier.user.email);
+		expect(mails.length).toBe(mailsBefore);
+		expect(mails.filter((m) => m.subject.includes(event.reference) && /Amendment/.test(m.subject))).toEqual(
+			[]
+		);
 		const after = await testDb()('events').where({ id: event.id }).first();
 		expect(after.deadline.getTime()).toBe(before.deadline.getTime());
 		expect(after.state).toBe('open');
@@ -128,12 +146,8 @@ describe('a buyer who brings the bid deadline forward', () => {
 			deadlineLocal: toLocalInput(new Date(Date.now() + 2 * 24 * 3600_000), ZONE)
 		});
 		expect(extended.status).toBe(200);
-		let mail: FakeMail | undefined;
-		for (let k = 0; k < 60 && !mail; k++) {
-			mail = (await mailTo(supplier.user.email)).find((m) => /Amendment 1/.test(m.subject));
-			if (!mail) await new Promise((r) => setTimeout(r, 250));
-		}
-		expect(mail?.text).toMatch(/Bid deadline extended: .*, was /);
+		const mail = await mailAbout(event.reference, /Amendment 1/);
+		expect(mail.text).toMatch(/Bid deadline extended: .*, was /);
 		expect((await trailOf(event.id)).entries.map((e) => e.action)).toContain('amendment 1');
 
 		// Past the first deadline, with time for the job to be picked up.
@@ -150,6 +164,7 @@ describe('a buyer who brings the bid deadline forward', () => {
 describe('a buyer who brute-forces prices from what is shown before the opening', () => {
 	const price = '4.37';
 	let eventId: string;
+	let reference: string;
 	let deadline: Date;
 	let bid: Buffer;
 	let uploadId: string;
@@ -163,6 +178,7 @@ describe('a buyer who brute-forces prices from what is shown before the opening'
 			deadline
 		});
 		eventId = event.id;
+		reference = event.reference;
 		bid = await aCsvBid(eventId, price);
 		const accepted = await uploadSheet(supplier.client, eventId, bid, 'bid.csv');
 		expect(accepted.status).toBe(201);
@@ -196,6 +212,8 @@ describe('a buyer who brute-forces prices from what is shown before the opening'
 			if (seen.includes(sha256(filledCsv(template, candidate)))) recovered.push(candidate);
 		}
 		expect(recovered).toEqual([]);
+		// The supplier's own receipt keeps the plain SHA-256 of its file.
+		expect((await receiptFor(reference)).text).toContain(sha256(bid));
 	});
 
 	it('reveals each upload’s salt at the opening, so its commitment verifies against the file', async () => {
