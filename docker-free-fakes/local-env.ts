@@ -101,6 +101,8 @@ export function appEnvironment(plan: StackPlan) {
 		S3_SECRET_ACCESS_KEY: 'S3RVER',
 		S3_FORCE_PATH_STYLE: 'true',
 		BID_FILE_KEYS: plan.secrets.bidFileKeys,
+		// s3rver accepts the header and ignores it: set so the request a real S3 gets is exercised.
+		S3_SERVER_SIDE_ENCRYPTION: 'AES256',
 		SMTP_URL: `smtp://127.0.0.1:${plan.ports.smtp}`,
 		MAIL_FROM: 'Tenderloom <no-reply@tenderloom.test>',
 		MAIL_FAKE_API: `http://127.0.0.1:${plan.ports.mailApi}`

@@ -10,6 +10,13 @@ export async function up(knex: Knex): Promise<void> {
 		create function events_keep_the_seal() returns trigger
 		language plpgsql as $$
 		begin
+			if tg_op = 'INSERT' then
+				if new.opened_at < new.deadline then
+					raise exception 'bids cannot be opened before the bid deadline (%)', new.deadline
+						using errcode = 'check_violation';
+				end if;
+				return new;
+			end if;
 			if old.state <> 'draft' or old.published_at is not null then
 				if new.deadline < old.deadline then
 					raise exception 'the bid deadline of a published event can only move later (% is before %)',
@@ -31,7 +38,7 @@ export async function up(knex: Knex): Promise<void> {
 			end if;
 			return new;
 		end $$;
-		create trigger events_keep_the_seal before update on events
+		create trigger events_keep_the_seal before insert or update on events
 			for each row execute function events_keep_the_seal();
 	`);
 	await knex.schema.alterTable('uploads', (t) => {
