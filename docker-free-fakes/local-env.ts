@@ -19,16 +19,22 @@ export interface StackPlan {
 		appPassword: string;
 		authSecret: string;
 		trailMacKey: string;
+		/** BID_FILE_KEYS: the master key that encrypts bid files. */
+		bidFileKeys: string;
 	};
 }
 
 const secret = () => randomBytes(24).toString('base64url');
+/** The master key that encrypts bid files (BID_FILE_KEYS), named by the day it was made. */
+const bidFileKey = () =>
+	`local${new Date().toISOString().slice(0, 10).replace(/-/g, '')}:${randomBytes(32).toString('base64')}`;
 const freshSecrets = (): StackPlan['secrets'] => ({
 	postgresPassword: secret(),
 	ownerPassword: secret(),
 	appPassword: secret(),
 	authSecret: secret(),
-	trailMacKey: randomBytes(32).toString('base64url')
+	trailMacKey: randomBytes(32).toString('base64url'),
+	bidFileKeys: bidFileKey()
 });
 
 /**
@@ -123,6 +129,9 @@ export function appEnvironment(plan: StackPlan) {
 		S3_ACCESS_KEY_ID: 'S3RVER',
 		S3_SECRET_ACCESS_KEY: 'S3RVER',
 		S3_FORCE_PATH_STYLE: 'true',
+		BID_FILE_KEYS: plan.secrets.bidFileKeys,
+		// s3rver accepts the header and ignores it: set so the request a real S3 gets is exercised.
+		S3_SERVER_SIDE_ENCRYPTION: 'AES256',
 		SMTP_URL: `smtp://127.0.0.1:${plan.ports.smtp}`,
 		MAIL_FROM: 'Tenderloom <no-reply@tenderloom.test>',
 		MAIL_FAKE_API: `http://127.0.0.1:${plan.ports.mailApi}`

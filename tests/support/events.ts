@@ -123,3 +123,12 @@ export async function uploadSheet(
 		accept: 'application/json'
 	});
 }
+
+/**
+ * Waits until a moment (a deadline) has passed. Once published, a deadline can only move later, even
+ * in SQL, so tests that need bids opened give the event a deadline a few seconds ahead and let it pass.
+ */
+export async function untilPast(moment: Date, marginMs = 300): Promise<void> {
+	const wait = moment.getTime() - Date.now() + marginMs;
+	if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+}

@@ -10,8 +10,12 @@ export interface UploadRow {
 	supplier_organisation_id: string;
 	uploaded_by: number;
 	storage_key: string;
+	/** Of the supplier's own file: for its own pages and receipt, never shown to the buying side. */
 	sha256: string;
 	size_bytes: string;
+	/** SHA-256 over commitment_salt || file: what the trail shows; the salt is revealed at the opening. */
+	commitment: string | null;
+	commitment_salt: string | null;
 	file_name: string;
 	kind: 'xlsx' | 'csv' | null;
 	status: 'accepted' | 'rejected';
@@ -39,6 +43,26 @@ export async function insertUpload(
 		.insert({ ...upload, report: JSON.stringify(upload.report) })
 		.returning('*');
 	return row!;
+}
+
+/** Every upload's commitment and salt: only for the opening, which reveals them in the trail. */
+export function listUploadCommitments(
+	db: Db,
+	eventId: string
+): Promise<Pick<UploadRow, 'id' | 'commitment' | 'commitment_salt'>[]> {
+	return db<UploadRow>('uploads')
+		.where({ event_id: eventId })
+		.whereNotNull('commitment')
+		.orderBy('received_at')
+		.select('id', 'commitment', 'commitment_salt');
+}
+
+/** Where every stored bid file is (of one event, or all): for re-wrapping their keys. */
+export async function listUploadStorageKeys(db: Db, eventId?: string): Promise<string[]> {
+	const rows = await (eventId ? db('uploads').where({ event_id: eventId }) : db('uploads'))
+		.orderBy('received_at')
+		.select('storage_key');
+	return rows.map((r: { storage_key: string }) => r.storage_key);
 }
 
 export function listUploads(db: Db, eventId: string, supplierOrganisationId: string): Promise<UploadRow[]> {
@@ -128,7 +152,10 @@ export interface Submission {
 	latest_at: Date;
 }
 
-/** Who has submitted and when: no prices, no files. For the buying organisation at any time. */
+/**
+ * Who has submitted and when: no prices, no files, nothing derived from a bid's contents (no hashes,
+ * sizes or counts of lines). For the buying organisation at any time.
+ */
 export function listSubmissions(db: Db, eventId: string): Promise<Submission[]> {
 	return db
 		.select('latest.*', 'o.name as supplier_name')

@@ -104,6 +104,20 @@ export async function updateEventFields(db: Db, id: string, fields: EventFields)
 		.update({ ...columnsOf(fields), updated_at: db.fn.now() });
 }
 
+/** What an amendment may change once the event is published; the deadline only later (enforced by trigger). */
+export async function updateAmendedFields(
+	db: Db,
+	id: string,
+	fields: { description: string; deliveryPlace: string; deadline: Date }
+): Promise<void> {
+	await db('events').where({ id }).update({
+		description: fields.description,
+		delivery_place: fields.deliveryPlace,
+		deadline: fields.deadline,
+		updated_at: db.fn.now()
+	});
+}
+
 export function findEvent(db: Db, id: string): Promise<EventRow | undefined> {
 	if (!/^[0-9a-f-]{36}$/i.test(id)) return Promise.resolve(undefined);
 	return db<EventRow>('events').where({ id }).first();

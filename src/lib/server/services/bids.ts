@@ -1,6 +1,7 @@
-// A supplier's bid: the sheet to fill, uploads (stored in S3 under a generated key with their SHA-256,
-// checked by content, parsed with every problem reported), on-screen entry, withdrawal and history; and
-// what the buying organisation may see: who submitted when, and prices only after the deadline.
+// A supplier's bid: the sheet to fill, uploads (encrypted in S3 under a generated key, with their SHA-256
+// for the supplier and a salted commitment for the trail; checked by content, parsed with every problem
+// reported), on-screen entry, withdrawal and history; and what the buying organisation may see: who
+// submitted when, and prices only after the deadline.
 import { createHash, randomUUID } from 'node:crypto';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -30,7 +31,7 @@ import {
 	type SheetProblem
 } from '../sheets/bid-sheet';
 import { inspectUpload } from '../sheets/inspect';
-import { putObject } from '../storage';
+import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail, trailHead } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, mailContext, sheetEvent } from './events';
@@ -103,9 +104,11 @@ export async function submitUpload(
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
+	// Before the opening the buying side sees only this commitment: a plain hash lets prices be guessed.
+	const { commitment, salt } = commitToFile(file.bytes);
 	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
 	const inspection = await inspectUpload(file.bytes, file.name);
-	await putObject(key, file.bytes, 'application/octet-stream', { sha256 });
+	await putBidFile(key, file.bytes);
 	const items = await listItems(db(), id);
 	let problems: SheetProblem[] = [];
 	let bid: ParsedBid | null = null;
@@ -126,6 +129,8 @@ export async function submitUpload(
 		storage_key: key,
 		sha256,
 		size_bytes: file.bytes.length,
+		commitment,
+		commitment_salt: salt,
 		file_name: file.name.slice(0, 255) || 'upload',
 		kind: inspection.ok ? inspection.kind : null
 	};
@@ -141,13 +146,7 @@ export async function submitUpload(
 				eventId: id,
 				actor,
 				action: 'upload rejected',
-				detail: {
-					supplier: actor.organisationName,
-					upload: stored.id,
-					sha256,
-					bytes: file.bytes.length,
-					problems: problems.length
-				},
+				detail: { supplier: actor.organisationName, upload: stored.id, commitment },
 				at: stored.received_at
 			});
 			return stored;
@@ -174,15 +173,7 @@ export async function submitUpload(
 			eventId: id,
 			actor,
 			action: 'upload accepted',
-			detail: {
-				supplier: actor.organisationName,
-				revision: revision.number,
-				upload: upload.id,
-				sha256,
-				bytes: file.bytes.length,
-				lines: accepted.lines.length,
-				bundles: accepted.bundles.length
-			},
+			detail: { supplier: actor.organisationName, revision: revision.number, upload: upload.id, commitment },
 			at
 		});
 		return { revision, upload };
@@ -244,7 +235,7 @@ export async function submitScreen(
 			eventId: id,
 			actor,
 			action: 'on-screen bid received',
-			detail: { supplier: actor.organisationName, revision: revision.number, lines: parsed.bid.lines.length },
+			detail: { supplier: actor.organisationName, revision: revision.number },
 			at
 		});
 		return revision;

@@ -22,12 +22,14 @@ import {
 	replaceItems,
 	setInvitationTags,
 	setEventState,
+	updateAmendedFields,
 	updateEventFields,
 	type EventFields,
 	type EventRow,
 	type EventState,
 	type ItemRow
 } from '../db/events';
+import { listUploadCommitments } from '../db/bids';
 import { db, type Db } from '../db/knex';
 import { findOrganisation } from '../db/organisations';
 import { findUserByEmail } from '../db/users';
@@ -39,6 +41,7 @@ import {
 	type EventMailContext
 } from '../mail/templates';
 import type { SheetEvent } from '../sheets/bid-sheet';
+import { COMMITMENT_SCHEME } from '../storage/sealed-files';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { RuleViolation } from './errors';
 import { inviteUser, type RequestContext } from './users';
@@ -82,7 +85,10 @@ export async function buyerEvent(user: SessionUser, id: string): Promise<EventRo
 
 /**
  * Closes an open event whose deadline has passed and records the opening: called by the deadline job
- * and by the first read after the deadline, whichever comes first. Idempotent.
+ * and by the first read after the deadline, whichever comes first. Idempotent. The deadline read under
+ * the lock is the latest announced one (it only moves later, by trigger), so a job scheduled for an
+ * earlier deadline that was since extended opens nothing. The salts of the uploads' commitments are
+ * revealed right after the opening, so anyone holding a file can check it against the trail.
  */
 export async function closeIfDue(eventId: string, by: string): Promise<EventRow | undefined> {
 	return db().transaction(async (trx) => {
@@ -102,6 +108,20 @@ export async function closeIfDue(eventId: string, by: string): Promise<EventRow 
 			actor: 'system',
 			action: 'bids opened',
 			detail: { ...record, state: { from: 'open', to: 'closed' } },
+			at
+		});
+		await appendTrail(trx, {
+			eventId,
+			actor: 'system',
+			action: 'commitments revealed',
+			detail: {
+				scheme: COMMITMENT_SCHEME,
+				uploads: (await listUploadCommitments(trx, eventId)).map((u) => ({
+					upload: u.id,
+					commitment: u.commitment,
+					salt: u.commitment_salt
+				}))
+			},
 			at
 		});
 		return { ...event, state: 'closed', opened_at: at, opening_record: record };
@@ -340,7 +360,19 @@ export interface AmendmentRequest {
 	deadline: Date;
 }
 
-/** A change after publishing: recorded with what changed, shown to suppliers and mailed to every invited one. */
+/** Why a published deadline cannot be brought forward; shown to the buyer who tries. */
+export function deadlineOnlyLater(current: Date, timeZone: string): string {
+	return (
+		`The bid deadline can only be extended, never brought forward: bids stay sealed until the latest ` +
+		`announced deadline, ${formatInZone(current, timeZone)} (${timeZone}), and suppliers plan their bids ` +
+		`on it. Choose a later time, or keep this one. National rules on time limits and their extension apply.`
+	);
+}
+
+/**
+ * A change after publishing: recorded with what changed, shown to suppliers and mailed to every invited
+ * one. The deadline can only be extended (the seal: opening happens at the latest announced deadline).
+ */
 export async function amend(
 	actor: SessionUser,
 	id: string,
@@ -352,8 +384,8 @@ export async function amend(
 		const event = (await lockEvent(trx, id))!;
 		if (effectiveState(event) !== 'open')
 			throw new RuleViolation('Only an open event before its deadline can be amended.', undefined, 409);
-		if (request.deadline.getTime() <= now().getTime())
-			throw new RuleViolation('The new deadline must be in the future.', 'deadlineLocal', 422);
+		if (request.deadline.getTime() < event.deadline.getTime())
+			throw new RuleViolation(deadlineOnlyLater(event.deadline, event.time_zone), 'deadlineLocal', 422);
 		const detail: Record<string, { before: unknown; after: unknown }> = {};
 		const changes: string[] = [];
 		if (request.description !== event.description) {
@@ -367,16 +399,11 @@ export async function amend(
 		if (request.deadline.getTime() !== event.deadline.getTime()) {
 			detail.deadline = { before: event.deadline.toISOString(), after: request.deadline.toISOString() };
 			changes.push(
-				`Bid deadline: ${formatInZone(request.deadline, event.time_zone)} (${event.time_zone}), was ${formatInZone(event.deadline, event.time_zone)}`
+				`Bid deadline extended: ${formatInZone(request.deadline, event.time_zone)} (${event.time_zone}), was ${formatInZone(event.deadline, event.time_zone)}`
 			);
 		}
 		if (!changes.length) throw new RuleViolation('Nothing would change.', 'summary', 422);
-		await trx('events').where({ id }).update({
-			description: request.description,
-			delivery_place: request.deliveryPlace,
-			deadline: request.deadline,
-			updated_at: trx.fn.now()
-		});
+		await updateAmendedFields(trx, id, request);
 		const amendment = await insertAmendment(trx, id, request.summary, detail, actor.id);
 		await appendTrail(trx, {
 			eventId: id,

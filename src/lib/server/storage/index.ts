@@ -12,7 +12,7 @@ import { config } from '../config';
 // environment: the local fake in development and tests, any S3-compatible service in production.
 let client: S3Client | undefined;
 
-function s3(): S3Client {
+export function s3(): S3Client {
 	if (client) return client;
 	const settings = config();
 	client = new S3Client({
@@ -27,7 +27,7 @@ function s3(): S3Client {
 	return client;
 }
 
-const bucket = () => config().S3_BUCKET;
+export const bucket = () => config().S3_BUCKET;
 
 export async function putObject(
 	key: string,

@@ -71,7 +71,11 @@ export const actions: Actions = {
 					summary: form.data.summary,
 					description: form.data.description,
 					deliveryPlace: form.data.deliveryPlace,
-					deadline: fromLocalInput(form.data.deadlineLocal, row.time_zone)
+					// The field shows minutes: left as shown, it keeps the exact deadline rather than an earlier one.
+					deadline:
+						form.data.deadlineLocal === toLocalInput(row.deadline, row.time_zone)
+							? row.deadline
+							: fromLocalInput(form.data.deadlineLocal, row.time_zone)
 				},
 				requestContext(event)
 			);
