@@ -15,7 +15,9 @@ export interface UploadRow {
 	file_name: string;
 	kind: 'xlsx' | 'csv' | null;
 	status: 'accepted' | 'rejected';
+	/** At most the first problems found (MAX_PROBLEMS_KEPT); problem_count is how many there were. */
 	report: SheetProblem[];
+	problem_count: number;
 	received_at: Date;
 }
 
@@ -31,20 +33,57 @@ export interface RevisionRow {
 	submitted_at: Date;
 }
 
+/** Problems kept in an upload's report and sent with it; the total is kept in problem_count. */
+export const MAX_PROBLEMS_KEPT = 100;
+
+const uploadColumns = (db: Db) => [
+	'id',
+	'event_id',
+	'supplier_organisation_id',
+	'uploaded_by',
+	'storage_key',
+	'sha256',
+	'size_bytes',
+	'file_name',
+	'kind',
+	'status',
+	// Reports stored before the cap may hold hundreds of thousands of problems: never read them whole.
+	db.raw(`jsonb_path_query_array(report, '$[0 to ${MAX_PROBLEMS_KEPT - 1}]') as report`),
+	db.raw('coalesce(problem_count, jsonb_array_length(report))::int as problem_count'),
+	'received_at'
+];
+
 export async function insertUpload(
 	db: Db,
 	upload: Omit<UploadRow, 'id' | 'received_at' | 'size_bytes'> & { size_bytes: number; received_at: Date }
 ): Promise<UploadRow> {
 	const [row] = await db('uploads')
-		.insert({ ...upload, report: JSON.stringify(upload.report) })
-		.returning('*');
+		.insert({
+			...upload,
+			report: JSON.stringify(upload.report.slice(0, MAX_PROBLEMS_KEPT)),
+			problem_count: Math.max(upload.problem_count, upload.report.length)
+		})
+		.returning(uploadColumns(db));
 	return row!;
 }
 
 export function listUploads(db: Db, eventId: string, supplierOrganisationId: string): Promise<UploadRow[]> {
-	return db<UploadRow>('uploads')
+	return db('uploads')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
-		.orderBy('received_at', 'desc');
+		.select(uploadColumns(db))
+		.orderBy('received_at', 'desc') as unknown as Promise<UploadRow[]>;
+}
+
+/** Bytes of every file the organisation uploaded to the event, accepted or not (the storage quota). */
+export async function storedUploadBytes(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string
+): Promise<number> {
+	const [{ total }] = await db('uploads')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.select(db.raw('coalesce(sum(size_bytes), 0)::bigint as total'));
+	return Number(total);
 }
 
 /** The next revision number; call inside the transaction that holds the event's lock. */

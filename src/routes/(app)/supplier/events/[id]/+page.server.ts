@@ -42,6 +42,7 @@ export const load: PageServerLoad = async (event) => {
 				sha256: u.sha256,
 				status: u.status,
 				report: u.report,
+				problemCount: u.problem_count,
 				receivedAt: u.received_at.toISOString()
 			}))
 		};
@@ -80,7 +81,7 @@ export const actions: Actions = {
 				typeof capacity === 'string' ? capacity : null,
 				requestContext(event)
 			);
-			if (!outcome.ok) return fail(422, { problems: outcome.problems });
+			if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
 			return {
 				accepted: `Accepted as revision ${outcome.revision.number} at ${outcome.revision.submitted_at.toISOString()}.`
 			};
