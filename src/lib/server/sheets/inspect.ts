@@ -37,7 +37,8 @@ export type Inspection =
 
 const megabytes = (n: number) => `${(n / 1024 / 1024).toFixed(1)} MB`;
 const count = (n: number) => n.toLocaleString('en-GB');
-const SAVE_AS_CSV = 'In your spreadsheet program choose Save As and the type "CSV UTF-8 (comma delimited)"';
+const SAVE_AS_CSV =
+	'To fix it: open the file in your spreadsheet program, choose "Save as", pick "CSV UTF-8 (comma delimited)" as the type, and upload the new file.';
 
 const macros = {
 	ok: false as const,
@@ -174,7 +175,7 @@ function csvLayoutProblem(text: string): string | null {
 	if (header.includes(',')) return null;
 	const separator = header.includes(';') ? 'semicolons' : header.includes('\t') ? 'tabs' : null;
 	if (!separator) return null;
-	return `The CSV file is separated by ${separator}, not commas, so its columns cannot be told apart reliably (a decimal comma looks like a separator). ${SAVE_AS_CSV} and upload that file, or upload the .xlsx bid sheet.`;
+	return `The CSV file is separated by ${separator}, not commas, so its columns cannot be told apart reliably (a decimal comma looks like a separator). ${SAVE_AS_CSV} Or upload the .xlsx bid sheet.`;
 }
 
 export async function inspectUpload(
@@ -265,7 +266,7 @@ export async function inspectUpload(
 	if (startsWith(bytes, [0xff, 0xfe]) || startsWith(bytes, [0xfe, 0xff]) || utf16Pattern(bytes)) {
 		return {
 			ok: false,
-			message: `The CSV file is saved as Unicode (UTF-16) text, which cannot be read as a bid sheet. ${SAVE_AS_CSV} and upload that file.`
+			message: `The CSV file is saved as Unicode (UTF-16) text, which cannot be read as a bid sheet. ${SAVE_AS_CSV}`
 		};
 	}
 	if (bytes.includes(0))
@@ -284,7 +285,11 @@ function utf16Pattern(bytes: Buffer): boolean {
 	if (sample.length < 4) return false;
 	let evenZeros = 0;
 	let oddZeros = 0;
-	for (let i = 0; i < sample.length; i++) if (sample[i] === 0) i % 2 ? oddZeros++ : evenZeros++;
+	for (let i = 0; i < sample.length; i++) {
+		if (sample[i] !== 0) continue;
+		if (i % 2) oddZeros++;
+		else evenZeros++;
+	}
 	const half = sample.length / 2;
 	return evenZeros > half * 0.8 || oddZeros > half * 0.8;
 }

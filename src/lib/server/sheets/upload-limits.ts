@@ -46,7 +46,8 @@ function uploadLimiter(): RateLimiterPostgres {
 	return limiter;
 }
 
-const megabytes = (n: number) => `${(n / 1024 / 1024).toFixed(1)} MB`;
+const size = (n: number) =>
+	n < 1024 * 1024 ? `${Math.ceil(n / 1024)} KB` : `${(n / 1024 / 1024).toFixed(1)} MB`;
 
 /** Counts one upload of the organisation to the event; throws once the window's uploads are used up. */
 export async function countSupplierUpload(eventId: string, supplierOrganisationId: string): Promise<void> {
@@ -72,7 +73,7 @@ export async function checkUploadQuota(
 	const stored = await storedUploadBytes(db(), eventId, supplierOrganisationId);
 	if (stored + bytes <= SUPPLIER_UPLOAD_LIMITS.quotaBytes) return;
 	throw new UploadLimitReached(
-		`Your organisation's uploads to this event take ${megabytes(stored)} of the ${megabytes(SUPPLIER_UPLOAD_LIMITS.quotaBytes)} allowed; this file (${megabytes(bytes)}) would go over it. It was not stored; your current bid is unchanged. You can still enter prices on screen, or ask the buyer for help.`,
+		`Your organisation's uploads to this event take ${size(stored)} of the ${size(SUPPLIER_UPLOAD_LIMITS.quotaBytes)} allowed; this file (${size(bytes)}) would go over it. It was not stored; your current bid is unchanged. You can still enter prices on screen, or ask the buyer for help.`,
 		413
 	);
 }
