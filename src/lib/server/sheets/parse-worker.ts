@@ -17,7 +17,6 @@ export interface BidFileReading {
 }
 
 export interface ParseJob {
-	task: typeof PARSE_TASK;
 	event: SheetEvent;
 	fileName: string;
 	bytes: Uint8Array;
@@ -42,8 +41,10 @@ export async function readBidFileHere(
 	};
 }
 
-const job = workerData as ParseJob | null;
-if (!isMainThread && job?.task === PARSE_TASK) {
-	const bytes = Buffer.from(job.bytes.buffer, job.bytes.byteOffset, job.bytes.byteLength);
-	void readBidFileHere(job.event, job.fileName, bytes).then((reading) => parentPort!.postMessage(reading));
+// A thread is started ahead of need and waits for its one job; it never reads a second file.
+if (!isMainThread && (workerData as { task?: string } | null)?.task === PARSE_TASK) {
+	parentPort!.once('message', (job: ParseJob) => {
+		const bytes = Buffer.from(job.bytes.buffer, job.bytes.byteOffset, job.bytes.byteLength);
+		void readBidFileHere(job.event, job.fileName, bytes).then((reading) => parentPort!.postMessage(reading));
+	});
 }

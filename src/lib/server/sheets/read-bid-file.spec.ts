@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildBidCsv, type SheetEvent } from './bid-sheet';
+import { buildBidCsv, buildBidSheet, type SheetEvent } from './bid-sheet';
 import { readBidFile } from './read-bid-file';
 
 const event: SheetEvent = {
@@ -27,7 +27,8 @@ const filledCsv = () =>
 			.join('\r\n')
 	);
 
-describe('reading a bid file on a worker thread', () => {
+// Each test starts a thread that loads tsx and the spreadsheet library: seconds on a busy machine.
+describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
 	it('reads a filled CSV into bid lines', async () => {
 		const reading = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() });
 		expect(reading.kind).toBe('csv');
@@ -59,6 +60,24 @@ describe('reading a bid file on a worker thread', () => {
 		const reading = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }, { timeoutMs: 1 });
 		expect(reading.outcome.ok ? '' : reading.outcome.problems[0]!.message).toMatch(
 			/^The file could not be read in time/
+		);
+	});
+
+	it('stops a thread that runs out of its memory cap, saying so', async () => {
+		const big: SheetEvent = {
+			...event,
+			items: Array.from({ length: 1_000 }, (_, k) => ({
+				ref: `IT-${k}`,
+				description: 'Case',
+				lot: null,
+				unit: 'C62',
+				quantity: 5
+			}))
+		};
+		const sheet = await buildBidSheet(big, 'S');
+		const reading = await readBidFile(big, { name: 'bid.xlsx', bytes: sheet }, { heapMb: 8 });
+		expect(reading.outcome.ok ? '' : reading.outcome.problems[0]!.message).toMatch(
+			/^The file needs more memory to read than a bid sheet may use \(8 MB\)/
 		);
 	});
 });

@@ -36,9 +36,9 @@ async function slot(concurrent: number): Promise<() => void> {
 	};
 }
 
-function startThread(entryUrl: string, job: ParseJob, heapMb: number): Worker {
+function startThread(entryUrl: string, task: string, heapMb: number): Worker {
 	const options = {
-		workerData: job,
+		workerData: { task },
 		resourceLimits: { maxOldGenerationSizeMb: heapMb, maxYoungGenerationSizeMb: Math.min(64, heapMb / 4) }
 	};
 	if (!entryUrl.endsWith('.ts')) return new Worker(new URL(entryUrl), options);
@@ -51,6 +51,29 @@ function startThread(entryUrl: string, job: ParseJob, heapMb: number): Worker {
 		`import(${JSON.stringify(tsx)}).then((m) => { m.register(); return import(${JSON.stringify(entryUrl)}); });`,
 		{ ...options, eval: true }
 	);
+}
+
+// One thread is kept started and idle, so an upload does not wait for a thread to load the spreadsheet
+// library (about a second on a busy machine); it is replaced after each file.
+let spare: Worker | null = null;
+
+function prepareSpare(entryUrl: string, task: string): void {
+	if (spare) return;
+	const thread = startThread(entryUrl, task, PARSE_LIMITS.heapMb);
+	thread.unref();
+	const forget = () => {
+		if (spare === thread) spare = null;
+	};
+	thread.once('error', forget);
+	thread.once('exit', forget);
+	spare = thread;
+}
+
+function takeThread(entryUrl: string, task: string, heapMb: number): Worker {
+	const thread = spare && heapMb === PARSE_LIMITS.heapMb ? spare : startThread(entryUrl, task, heapMb);
+	if (thread === spare) spare = null;
+	thread.ref();
+	return thread;
 }
 
 const refused = (message: string): BidFileReading => ({
@@ -68,11 +91,9 @@ export async function readBidFile(
 	const release = await slot(concurrent);
 	try {
 		return await new Promise<BidFileReading>((resolve) => {
-			const thread = startThread(
-				entryUrl,
-				{ task: PARSE_TASK, event, fileName: file.name, bytes: new Uint8Array(file.bytes) },
-				heapMb
-			);
+			const thread = takeThread(entryUrl, PARSE_TASK, heapMb);
+			const job: ParseJob = { event, fileName: file.name, bytes: new Uint8Array(file.bytes) };
+			thread.postMessage(job);
 			let settled = false;
 			const settle = (reading: BidFileReading) => {
 				if (settled) return;
@@ -113,5 +134,6 @@ export async function readBidFile(
 		});
 	} finally {
 		release();
+		prepareSpare(entryUrl, PARSE_TASK);
 	}
 }
