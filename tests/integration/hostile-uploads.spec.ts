@@ -181,7 +181,7 @@ describe('a hostile bid file', () => {
 	});
 });
 
-describe('a report stored before the cap', () => {
+describe("the supplier's page after many or large reports", () => {
 	it('is not sent whole again: the page shows the first 100 of its 5,000 problems', async () => {
 		const own = await aSupplierInvitedTo(buyerId);
 		const report = Array.from({ length: 5_000 }, (_, k) => ({
@@ -207,6 +207,29 @@ describe('a report stored before the cap', () => {
 		expect(page).toContain('problem number 99');
 		expect(page).not.toMatch(/problem number 100\b/);
 		expect(page).not.toContain('problem number 4999');
+	});
+
+	it('shows the latest 50 uploads of 55, saying so', async () => {
+		const own = await aSupplierInvitedTo(buyerId);
+		await testDb()('uploads').insert(
+			Array.from({ length: 55 }, (_, k) => ({
+				event_id: own.eventId,
+				supplier_organisation_id: own.organisationId,
+				uploaded_by: own.user.id,
+				storage_key: `uploads/${own.eventId}/${own.organisationId}/${k}`,
+				sha256: '0'.repeat(64),
+				size_bytes: 10,
+				file_name: `try-${k}.csv`,
+				kind: 'csv',
+				status: 'rejected',
+				report: '[]',
+				received_at: new Date(Date.now() - (55 - k) * 60_000)
+			}))
+		);
+		const page = await (await own.client.get(`/supplier/events/${own.eventId}`)).text();
+		expect(page).toContain('Showing the latest 50 of 55 uploads.');
+		expect(page).toContain('try-54.csv');
+		expect(page).not.toMatch(/try-4\.csv/);
 	});
 });
 

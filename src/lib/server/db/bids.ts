@@ -67,11 +67,18 @@ export async function insertUpload(
 	return row!;
 }
 
-export function listUploads(db: Db, eventId: string, supplierOrganisationId: string): Promise<UploadRow[]> {
+/** The latest uploads first, at most `limit`, each with how many uploads there are in all. */
+export function listUploads(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string,
+	limit = 50
+): Promise<(UploadRow & { uploads_in_all: number })[]> {
 	return db('uploads')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
-		.select(uploadColumns(db))
-		.orderBy('received_at', 'desc') as unknown as Promise<UploadRow[]>;
+		.select([...uploadColumns(db), db.raw('count(*) over ()::int as uploads_in_all')])
+		.orderBy('received_at', 'desc')
+		.limit(limit) as unknown as Promise<(UploadRow & { uploads_in_all: number })[]>;
 }
 
 /** Bytes of every file the organisation uploaded to the event, accepted or not (the storage quota). */

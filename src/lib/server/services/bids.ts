@@ -303,7 +303,9 @@ export async function withdraw(
 export interface SupplierBidView {
 	current: VisibleBid | null;
 	revisions: RevisionRow[];
+	/** The latest uploads (at most 50), and how many there are in all. */
 	uploads: UploadRow[];
+	uploadCount: number;
 }
 
 /** The supplier's own bid, revisions and uploads (with their reports). */
@@ -317,7 +319,7 @@ export async function ownBid(actor: SessionUser, id: string, revision?: number):
 		listOwnRevisions(db(), event.id, actor.organisationId),
 		listUploads(db(), event.id, actor.organisationId)
 	]);
-	return { current: current[0] ?? null, revisions, uploads };
+	return { current: current[0] ?? null, revisions, uploads, uploadCount: uploads[0]?.uploads_in_all ?? 0 };
 }
 
 /** Who submitted and when, for the buying organisation's staff; never prices, never files. */

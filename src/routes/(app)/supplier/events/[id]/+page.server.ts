@@ -44,7 +44,8 @@ export const load: PageServerLoad = async (event) => {
 				report: u.report,
 				problemCount: u.problem_count,
 				receivedAt: u.received_at.toISOString()
-			}))
+			})),
+			uploadCount: own.uploadCount
 		};
 	} catch (error) {
 		if (error instanceof RuleViolation) httpError(error.status, error.message, { path: event.url.pathname });
