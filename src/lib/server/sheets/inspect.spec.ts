@@ -147,3 +147,30 @@ describe('files that are not a comma-separated UTF-8 CSV', () => {
 		expect(result.ok ? '' : result.message).toMatch(/contains macros/);
 	});
 });
+
+describe('a zip bomb', () => {
+	/** Sets the declared uncompressed size of entries of `actual` bytes (local and central headers) to `size`. */
+	function lieAboutSizes(zip: Buffer, actual: number, size: number): Buffer {
+		const out = Buffer.from(zip);
+		for (let at = 0; at < out.length - 30; at++) {
+			const signature = out.readUInt32LE(at);
+			if (signature === 0x04034b50 && out.readUInt32LE(at + 22) === actual) out.writeUInt32LE(size, at + 22);
+			if (signature === 0x02014b50 && out.readUInt32LE(at + 24) === actual) out.writeUInt32LE(size, at + 24);
+		}
+		return out;
+	}
+
+	it(
+		'is refused while inflating even when its headers declare small entries',
+		{ timeout: 30_000 },
+		async () => {
+			const zip = new JSZip();
+			zip.file('[Content_Types].xml', '<Types/>');
+			zip.file('xl/workbook.xml', '<workbook/>');
+			zip.file('xl/worksheets/sheet1.xml', Buffer.alloc(60 * 1024 * 1024, 32));
+			const honest = await zip.generateAsync({ type: 'nodebuffer', compression: 'DEFLATE' });
+			const result = await inspectUpload(lieAboutSizes(honest, 60 * 1024 * 1024, 1000), 'bid.xlsx');
+			expect(result.ok ? '' : result.message).toMatch(/expands to more than 50\.0 MB when unpacked/);
+		}
+	);
+});

@@ -35,10 +35,21 @@ export type Inspection =
 	| { ok: true; kind: 'csv'; text: string }
 	| { ok: false; message: string };
 
-const megabytes = (n: number) => `${(n / 1024 / 1024).toFixed(1)} MB`;
 const count = (n: number) => n.toLocaleString('en-GB');
 const SAVE_AS_CSV =
 	'To fix it: open the file in your spreadsheet program, choose "Save as", pick "CSV UTF-8 (comma delimited)" as the type, and upload the new file.';
+
+const megabytes = (n: number) => `${(n / 1024 / 1024).toFixed(1)} MB`;
+
+const tooLarge = {
+	ok: false as const,
+	message: `The workbook expands to more than ${megabytes(UPLOAD_LIMITS.uncompressedBytes)} when unpacked; a bid sheet is far smaller. It was not opened.`
+};
+
+const unreadableZip = {
+	ok: false as const,
+	message: 'The file looks like a zip archive but cannot be read. Save the bid sheet as .xlsx again.'
+};
 
 const macros = {
 	ok: false as const,
@@ -215,10 +226,7 @@ export async function inspectUpload(
 		try {
 			zip = await JSZip.loadAsync(bytes, { checkCRC32: false });
 		} catch {
-			return {
-				ok: false,
-				message: 'The file looks like a zip archive but cannot be read. Save the bid sheet as .xlsx again.'
-			};
+			return unreadableZip;
 		}
 		const files = Object.values(zip.files).filter((f) => !f.dir);
 		if (files.length > UPLOAD_LIMITS.entries) {
@@ -232,21 +240,30 @@ export async function inspectUpload(
 			return { ok: false, message: 'The file is a zip archive but not an Excel workbook (.xlsx).' };
 		}
 		if (names.has('xl/vbaProject.bin')) return macros;
+		// What the zip's headers declare: enough to refuse an honest bomb without inflating it. They can lie,
+		// so every entry is still inflated under the running cap below.
+		const declared = files.reduce(
+			(sum, f) =>
+				sum + ((f as unknown as { _data?: { uncompressedSize?: number } })._data?.uncompressedSize ?? 0),
+			0
+		);
+		if (declared > UPLOAD_LIMITS.uncompressedBytes) return tooLarge;
 		let total = 0;
 		const scans = new Map<string, WorksheetScan>();
-		for (const file of files) {
-			// The spreadsheet library takes every part named like xl/worksheets/sheetN.xml for a sheet.
-			const scan = /worksheets\/[^/]*\.xml$/i.test(file.name) ? new WorksheetScan() : undefined;
-			if (scan) scans.set(file.name, scan);
-			total += await inflate(file, UPLOAD_LIMITS.uncompressedBytes - total, scan);
-			if (total > UPLOAD_LIMITS.uncompressedBytes) {
-				return {
-					ok: false,
-					message: `The workbook expands to more than ${megabytes(UPLOAD_LIMITS.uncompressedBytes)} when unpacked; a bid sheet is far smaller. It was not opened.`
-				};
+		let contentTypes: string;
+		try {
+			for (const file of files) {
+				// The spreadsheet library takes every part named like xl/worksheets/sheetN.xml for a sheet.
+				const scan = /worksheets\/[^/]*\.xml$/i.test(file.name) ? new WorksheetScan() : undefined;
+				if (scan) scans.set(file.name, scan);
+				total += await inflate(file, UPLOAD_LIMITS.uncompressedBytes - total, scan);
+				if (total > UPLOAD_LIMITS.uncompressedBytes) return tooLarge;
 			}
+			contentTypes = await zip.file('[Content_Types].xml')!.async('string');
+		} catch {
+			// A damaged entry, or one whose size differs from what its header says.
+			return unreadableZip;
 		}
-		const contentTypes = await zip.file('[Content_Types].xml')!.async('string');
 		if (/macroEnabled/i.test(contentTypes)) return macros;
 		const sheets = await sheetNames(zip);
 		for (const [part, scan] of scans) {

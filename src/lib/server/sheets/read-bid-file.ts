@@ -76,6 +76,10 @@ function takeThread(entryUrl: string, task: string, heapMb: number): Worker {
 	return thread;
 }
 
+// In the built server, start the first spare thread as soon as the upload code is loaded.
+if (!import.meta.url.endsWith('.ts'))
+	void import('./parse-worker').then(({ entryUrl, PARSE_TASK }) => prepareSpare(entryUrl, PARSE_TASK));
+
 const refused = (message: string): BidFileReading => ({
 	kind: null,
 	outcome: { ok: false, problems: [{ sheet: '(file)', row: null, column: null, message }] }
