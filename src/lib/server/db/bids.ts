@@ -19,7 +19,9 @@ export interface UploadRow {
 	file_name: string;
 	kind: 'xlsx' | 'csv' | null;
 	status: 'accepted' | 'rejected';
+	/** At most the first problems found (MAX_PROBLEMS_KEPT); problem_count is how many there were. */
 	report: SheetProblem[];
+	problem_count: number;
 	received_at: Date;
 }
 
@@ -35,13 +37,39 @@ export interface RevisionRow {
 	submitted_at: Date;
 }
 
+/** Problems kept in an upload's report and sent with it; the total is kept in problem_count. */
+export const MAX_PROBLEMS_KEPT = 100;
+
+const uploadColumns = (db: Db) => [
+	'id',
+	'event_id',
+	'supplier_organisation_id',
+	'uploaded_by',
+	'storage_key',
+	'sha256',
+	'size_bytes',
+	'commitment',
+	'commitment_salt',
+	'file_name',
+	'kind',
+	'status',
+	// Reports stored before the cap may hold hundreds of thousands of problems: never read them whole.
+	db.raw(`jsonb_path_query_array(report, '$[0 to ${MAX_PROBLEMS_KEPT - 1}]') as report`),
+	db.raw('coalesce(problem_count, jsonb_array_length(report))::int as problem_count'),
+	'received_at'
+];
+
 export async function insertUpload(
 	db: Db,
 	upload: Omit<UploadRow, 'id' | 'received_at' | 'size_bytes'> & { size_bytes: number; received_at: Date }
 ): Promise<UploadRow> {
 	const [row] = await db('uploads')
-		.insert({ ...upload, report: JSON.stringify(upload.report) })
-		.returning('*');
+		.insert({
+			...upload,
+			report: JSON.stringify(upload.report.slice(0, MAX_PROBLEMS_KEPT)),
+			problem_count: Math.max(upload.problem_count, upload.report.length)
+		})
+		.returning(uploadColumns(db));
 	return row!;
 }
 
@@ -65,10 +93,30 @@ export async function listUploadStorageKeys(db: Db, eventId?: string): Promise<s
 	return rows.map((r: { storage_key: string }) => r.storage_key);
 }
 
-export function listUploads(db: Db, eventId: string, supplierOrganisationId: string): Promise<UploadRow[]> {
-	return db<UploadRow>('uploads')
+/** The latest uploads first, at most `limit`, each with how many uploads there are in all. */
+export function listUploads(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string,
+	limit = 50
+): Promise<(UploadRow & { uploads_in_all: number })[]> {
+	return db('uploads')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
-		.orderBy('received_at', 'desc');
+		.select([...uploadColumns(db), db.raw('count(*) over ()::int as uploads_in_all')])
+		.orderBy('received_at', 'desc')
+		.limit(limit) as unknown as Promise<(UploadRow & { uploads_in_all: number })[]>;
+}
+
+/** Bytes of every file the organisation uploaded to the event, accepted or not (the storage quota). */
+export async function storedUploadBytes(
+	db: Db,
+	eventId: string,
+	supplierOrganisationId: string
+): Promise<number> {
+	const [{ total }] = await db('uploads')
+		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.select(db.raw('coalesce(sum(size_bytes), 0)::bigint as total'));
+	return Number(total);
 }
 
 /** The next revision number; call inside the transaction that holds the event's lock. */

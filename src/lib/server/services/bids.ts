@@ -11,6 +11,7 @@ import {
 	listOwnRevisions,
 	listSubmissions,
 	listUploads,
+	MAX_PROBLEMS_KEPT,
 	visibleBids,
 	type RevisionRow,
 	type Submission,
@@ -24,13 +25,12 @@ import { bidReceiptMail, withdrawalMail } from '../mail/templates';
 import {
 	buildBidCsv,
 	buildBidSheet,
-	parseBidCsv,
-	parseBidWorkbook,
 	parseScreenPrices,
 	type ParsedBid,
 	type SheetProblem
 } from '../sheets/bid-sheet';
-import { inspectUpload } from '../sheets/inspect';
+import { readBidFile } from '../sheets/read-bid-file';
+import { checkUploadQuota, countSupplierUpload } from '../sheets/upload-limits';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail, trailHead } from '../trail';
 import { RuleViolation } from './errors';
@@ -80,20 +80,15 @@ export async function bidSheet(
 
 export type SubmitOutcome =
 	| { ok: true; revision: RevisionRow; upload: UploadRow | null; sha256: string | null }
-	| { ok: false; problems: SheetProblem[]; upload: UploadRow | null };
-
-const sheetProblem = (message: string): SheetProblem => ({
-	sheet: '(file)',
-	row: null,
-	column: null,
-	message
-});
+	| { ok: false; problems: SheetProblem[]; problemCount: number; upload: UploadRow | null };
 
 /**
- * An uploaded bid sheet. The file is stored first (under a generated key, with its SHA-256); then its
- * type, size and entries are checked before any parsing, then every cell. A rejected upload is kept
- * with its report and changes nothing else; an accepted one becomes the next numbered revision, in
- * one transaction that holds the event's lock and checks the deadline again by the server's clock.
+ * An uploaded bid sheet. The organisation's upload count and storage quota for the event are checked
+ * first (nothing is stored past them); then the file is read on a worker thread (type, size, entries
+ * and sheet shape before any parsing, then every cell) and stored under a generated key with its
+ * SHA-256. A rejected upload is kept with its report (the first MAX_PROBLEMS_KEPT problems and their
+ * total) and changes nothing else; an accepted one becomes the next numbered revision, in one
+ * transaction that holds the event's lock and checks the deadline again by the server's clock.
  */
 export async function submitUpload(
 	actor: SessionUser,
@@ -103,25 +98,19 @@ export async function submitUpload(
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
+	await countSupplierUpload(event.id, actor.organisationId);
+	await checkUploadQuota(event.id, actor.organisationId, file.bytes.length);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	// Before the opening the buying side sees only this commitment: a plain hash lets prices be guessed.
 	const { commitment, salt } = commitToFile(file.bytes);
 	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
-	const inspection = await inspectUpload(file.bytes, file.name);
-	await putBidFile(key, file.bytes);
 	const items = await listItems(db(), id);
+	const reading = await readBidFile(sheetEvent(event, items), file);
+	await putBidFile(key, file.bytes);
 	let problems: SheetProblem[] = [];
 	let bid: ParsedBid | null = null;
-	if (!inspection.ok) problems = [sheetProblem(inspection.message)];
-	else {
-		const sheet = sheetEvent(event, items);
-		const parsed =
-			inspection.kind === 'xlsx'
-				? await parseBidWorkbook(sheet, inspection.bytes)
-				: parseBidCsv(sheet, inspection.text);
-		if (parsed.ok) bid = parsed.bid;
-		else problems = parsed.problems;
-	}
+	if (reading.outcome.ok) bid = reading.outcome.bid;
+	else problems = reading.outcome.problems;
 	const record = {
 		event_id: event.id,
 		supplier_organisation_id: actor.organisationId,
@@ -132,14 +121,15 @@ export async function submitUpload(
 		commitment,
 		commitment_salt: salt,
 		file_name: file.name.slice(0, 255) || 'upload',
-		kind: inspection.ok ? inspection.kind : null
+		kind: reading.kind
 	};
 	if (!bid) {
 		const upload = await db().transaction(async (trx) => {
 			const stored = await insertUpload(trx, {
 				...record,
 				status: 'rejected',
-				report: problems,
+				report: problems.slice(0, MAX_PROBLEMS_KEPT),
+				problem_count: problems.length,
 				received_at: now()
 			});
 			await appendTrail(trx, {
@@ -151,14 +141,25 @@ export async function submitUpload(
 			});
 			return stored;
 		});
-		return { ok: false, problems, upload };
+		return {
+			ok: false,
+			problems: problems.slice(0, MAX_PROBLEMS_KEPT),
+			problemCount: problems.length,
+			upload
+		};
 	}
 	const accepted = bid;
 	const { revision, upload } = await db().transaction(async (trx) => {
 		const locked = (await lockEvent(trx, id))!;
 		const at = now();
 		refuseUnlessOpen(locked, at);
-		const upload = await insertUpload(trx, { ...record, status: 'accepted', report: [], received_at: at });
+		const upload = await insertUpload(trx, {
+			...record,
+			status: 'accepted',
+			report: [],
+			problem_count: 0,
+			received_at: at
+		});
 		const revision = await insertRevision(trx, {
 			eventId: id,
 			supplierOrganisationId: actor.organisationId,
@@ -216,7 +217,13 @@ export async function submitScreen(
 	refuseUnlessOpen(event);
 	const items = await listItems(db(), id);
 	const parsed = parseScreenPrices(sheetEvent(event, items), entries, capacity);
-	if (!parsed.ok) return { ok: false, problems: parsed.problems, upload: null };
+	if (!parsed.ok)
+		return {
+			ok: false,
+			problems: parsed.problems.slice(0, MAX_PROBLEMS_KEPT),
+			problemCount: parsed.problems.length,
+			upload: null
+		};
 	const revision = await db().transaction(async (trx) => {
 		const locked = (await lockEvent(trx, id))!;
 		const at = now();
@@ -289,7 +296,9 @@ export async function withdraw(
 export interface SupplierBidView {
 	current: VisibleBid | null;
 	revisions: RevisionRow[];
+	/** The latest uploads (at most 50), and how many there are in all. */
 	uploads: UploadRow[];
+	uploadCount: number;
 }
 
 /** The supplier's own bid, revisions and uploads (with their reports). */
@@ -303,7 +312,7 @@ export async function ownBid(actor: SessionUser, id: string, revision?: number):
 		listOwnRevisions(db(), event.id, actor.organisationId),
 		listUploads(db(), event.id, actor.organisationId)
 	]);
-	return { current: current[0] ?? null, revisions, uploads };
+	return { current: current[0] ?? null, revisions, uploads, uploadCount: uploads[0]?.uploads_in_all ?? 0 };
 }
 
 /** Who submitted and when, for the buying organisation's staff; never prices, never files. */

@@ -42,8 +42,10 @@ export const load: PageServerLoad = async (event) => {
 				sha256: u.sha256,
 				status: u.status,
 				report: u.report,
+				problemCount: u.problem_count,
 				receivedAt: u.received_at.toISOString()
-			}))
+			})),
+			uploadCount: own.uploadCount
 		};
 	} catch (error) {
 		if (error instanceof RuleViolation) httpError(error.status, error.message, { path: event.url.pathname });
@@ -80,7 +82,7 @@ export const actions: Actions = {
 				typeof capacity === 'string' ? capacity : null,
 				requestContext(event)
 			);
-			if (!outcome.ok) return fail(422, { problems: outcome.problems });
+			if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
 			return {
 				accepted: `Accepted as revision ${outcome.revision.number} at ${outcome.revision.submitted_at.toISOString()}.`
 			};

@@ -1,11 +1,13 @@
 import { json } from '@sveltejs/kit';
 import { isStaff } from '$lib/roles';
 import { api } from '$lib/server/api';
+import { jsonError } from '$lib/server/http';
 import { requestContext } from '$lib/server/request-context';
 import { RuleViolation } from '$lib/server/services/errors';
-import { openedBids, ownBid, submitUpload } from '$lib/server/services/bids';
+import { openedBids, ownBid, submitUpload, type SubmitOutcome } from '$lib/server/services/bids';
 import { bidJson } from '$lib/server/services/event-views';
 import { UPLOAD_LIMITS } from '$lib/server/sheets/inspect';
+import { UploadLimitReached } from '$lib/server/sheets/upload-limits';
 
 /** Staff: every current bid, only after the deadline (403 before). A supplier: its own current bid. */
 export const GET = api(async (user, event) => {
@@ -29,15 +31,29 @@ export const POST = api(async (user, event) => {
 	const file = form.get('file');
 	if (!(file instanceof File))
 		throw new RuleViolation('Send the sheet in a form field named "file".', 'file', 400);
-	const outcome = await submitUpload(
-		user,
-		event.params.id!,
-		{ name: file.name, bytes: Buffer.from(await file.arrayBuffer()) },
-		requestContext(event)
-	);
+	let outcome: SubmitOutcome;
+	try {
+		outcome = await submitUpload(
+			user,
+			event.params.id!,
+			{ name: file.name, bytes: Buffer.from(await file.arrayBuffer()) },
+			requestContext(event)
+		);
+	} catch (error) {
+		if (!(error instanceof UploadLimitReached)) throw error;
+		const answer = jsonError(error.status, error.message, { path: event.url.pathname, userId: user.id });
+		if (error.retryAfterSeconds !== null) answer.headers.set('retry-after', String(error.retryAfterSeconds));
+		return answer;
+	}
+	// At most MAX_PROBLEMS_KEPT problems are sent, with the total found.
 	if (!outcome.ok)
 		return json(
-			{ message: 'The sheet was not accepted.', problems: outcome.problems, uploadId: outcome.upload?.id },
+			{
+				message: 'The sheet was not accepted.',
+				problems: outcome.problems,
+				problemCount: outcome.problemCount,
+				uploadId: outcome.upload?.id
+			},
 			{ status: 422 }
 		);
 	return json(

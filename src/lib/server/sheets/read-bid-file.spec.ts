@@ -1,0 +1,83 @@
+import { describe, expect, it } from 'vitest';
+import { buildBidCsv, buildBidSheet, type SheetEvent } from './bid-sheet';
+import { readBidFile } from './read-bid-file';
+
+const event: SheetEvent = {
+	reference: 'EV-1',
+	title: 'Test',
+	currency: 'EUR',
+	bidValidityDays: 90,
+	deadline: new Date('2027-03-01T12:00:00Z'),
+	timeZone: 'Europe/Brussels',
+	allowPriceBreaks: false,
+	allowCapacity: false,
+	allowBundles: false,
+	items: [
+		{ ref: 'IT-1', description: 'Case', lot: null, unit: 'C62', quantity: 10 },
+		{ ref: 'IT-2', description: 'Film', lot: null, unit: 'KGM', quantity: 5 }
+	]
+};
+
+const filledCsv = () =>
+	Buffer.from(
+		buildBidCsv(event)
+			.trim()
+			.split('\r\n')
+			.map((line, k) => (k === 0 ? line : `${line},${k * 2.5}`))
+			.join('\r\n')
+	);
+
+// Each test starts a thread that loads tsx and the spreadsheet library: seconds on a busy machine.
+describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
+	it('reads a filled CSV into bid lines', async () => {
+		const reading = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() });
+		expect(reading.kind).toBe('csv');
+		expect(reading.outcome).toEqual({
+			ok: true,
+			bid: {
+				lines: [
+					{ item: 'IT-1', unitPrice: 2.5, maxQuantity: null, priceBreaks: [] },
+					{ item: 'IT-2', unitPrice: 5, maxQuantity: null, priceBreaks: [] }
+				],
+				capacity: null,
+				bundles: []
+			}
+		});
+	});
+
+	it('returns the inspection refusal as the only problem', async () => {
+		const reading = await readBidFile(event, { name: 'bid.xlsx', bytes: Buffer.from('%PDF-1.4\n') });
+		expect(reading).toEqual({
+			kind: null,
+			outcome: {
+				ok: false,
+				problems: [expect.objectContaining({ sheet: '(file)', message: expect.stringMatching(/PDF/) })]
+			}
+		});
+	});
+
+	it('gives up on a file not read within the time limit, saying so', async () => {
+		const reading = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }, { timeoutMs: 1 });
+		expect(reading.outcome.ok ? '' : reading.outcome.problems[0]!.message).toMatch(
+			/^The file could not be read in time/
+		);
+	});
+
+	it('stops a thread that runs out of its memory cap, saying so', async () => {
+		const big: SheetEvent = {
+			...event,
+			items: Array.from({ length: 1_000 }, (_, k) => ({
+				ref: `IT-${k}`,
+				description: 'Case',
+				lot: null,
+				unit: 'C62',
+				quantity: 5
+			}))
+		};
+		const sheet = await buildBidSheet(big, 'S');
+		const reading = await readBidFile(big, { name: 'bid.xlsx', bytes: sheet }, { heapMb: 8 });
+		expect(reading.outcome.ok ? '' : reading.outcome.problems[0]!.message).toMatch(
+			/^The file needs more memory to read than a bid sheet may use \(8 MB\)/
+		);
+	});
+});

@@ -1,0 +1,286 @@
+// Hostile bid files (tests/fixtures/hostile/generate.ts) sent by an invited supplier through the
+// upload API of the built server, while the health check is polled: each file is refused, or answered,
+// with the message a supplier needs, the supplier's previous bid stays as it was, and the server keeps
+// answering. Then the limits on how much one supplier may upload.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { hostileCorpus, type HostileFile } from '../fixtures/hostile/generate';
+import { appUrl } from '../support/env';
+import {
+	aSignedInUser,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	signedIn,
+	uploadSheet
+} from '../support/events';
+import { closeTestDb, testDb, type TestUser } from '../support/factories';
+import type { Browserless } from '../support/http';
+
+afterAll(closeTestDb);
+
+const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
+type Problem = { sheet: string; row: number | null; column: string | null; message: string };
+
+const VALID_BID = Buffer.from(
+	[
+		'Item ref,Description,Lot,Unit,Quantity,Unit price (EUR)',
+		'IT-1,Test item 1,L1,C62,100,3.1',
+		'IT-2,Test item 2,L1,C62,200,4.2',
+		'IT-3,Test item 3,L1,C62,300,5.3'
+	].join('\r\n')
+);
+
+/** Runs `work` while asking /healthz every 100 ms; every answer's time in ms (Infinity for none). */
+async function whileWatchingHealth<T>(work: () => Promise<T>): Promise<{ result: T; latencies: number[] }> {
+	const latencies: number[] = [];
+	let done = false;
+	const poll = (async () => {
+		while (!done) {
+			const start = performance.now();
+			try {
+				const response = await fetch(`${appUrl()}/healthz`, { signal: AbortSignal.timeout(15_000) });
+				await response.text();
+				latencies.push(response.ok ? performance.now() - start : Infinity);
+			} catch {
+				latencies.push(Infinity);
+			}
+			await new Promise((resolve) => setTimeout(resolve, 100));
+		}
+	})();
+	try {
+		return { result: await work(), latencies };
+	} finally {
+		done = true;
+		await poll;
+	}
+}
+
+interface Supplier {
+	user: TestUser;
+	client: Browserless;
+	organisationId: string;
+}
+
+async function aSupplierInvitedTo(buyerId: number): Promise<Supplier & { eventId: string }> {
+	const { organisation, user } = await aSupplierOrganisationWithUser();
+	const event = await anOpenEvent({ createdBy: buyerId, invite: [organisation.id] });
+	return { user, client: await signedIn(user), organisationId: organisation.id, eventId: event.id };
+}
+
+let buyerId: number;
+beforeAll(async () => {
+	buyerId = (await aSignedInUser('buyer')).user.id;
+});
+
+describe('a hostile bid file', () => {
+	let corpus: Record<string, HostileFile>;
+	let own: Supplier & { eventId: string };
+
+	beforeAll(async () => {
+		[corpus, own] = await Promise.all([hostileCorpus(), aSupplierInvitedTo(buyerId)]);
+		expect((await uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv')).status).toBe(201);
+	}, 60_000);
+
+	async function expectFirstBidIntact() {
+		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
+		const [bid] = bids.bids as { revision: number; lines: { item: string; unitPrice: number }[] }[];
+		expect(bid!.revision).toBe(1);
+		expect(bid!.lines.map((l) => [l.item, l.unitPrice])).toEqual([
+			['IT-1', 3.1],
+			['IT-2', 4.2],
+			['IT-3', 5.3]
+		]);
+	}
+
+	/** Uploads one file of the corpus while watching the health check; the problems the supplier is shown. */
+	async function send(name: string) {
+		const file = corpus[name]!;
+		const { result, latencies } = await whileWatchingHealth(() =>
+			uploadSheet(own.client, own.eventId, file.bytes, file.fileName)
+		);
+		expect(latencies.length).toBeGreaterThan(0);
+		expect(
+			Math.max(...latencies),
+			`health check answers (ms): ${latencies.map(Math.round).join(', ')}`
+		).toBeLessThan(1000);
+		expect(result.status).toBe(422);
+		const body = await json(result);
+		await expectFirstBidIntact();
+		return { problems: body.problems as Problem[], problemCount: body.problemCount as number };
+	}
+
+	it('refuses a 2 KB workbook with one cell in row 1,048,576, naming the sheet and the row, without stalling the server', async () => {
+		const { problems } = await send('farRow');
+		expect(problems).toHaveLength(1);
+		expect(problems[0]!.message).toMatch(
+			/^The sheet "Prices" reaches row 1,048,576; a bid sheet for this event has at most 1,004 rows\. It was not opened\./
+		);
+	});
+
+	it('refuses a zip bomb that expands past 50 MB', async () => {
+		const { problems } = await send('zipBomb');
+		expect(problems[0]!.message).toMatch(/expands to more than 50\.0 MB when unpacked/);
+	});
+
+	it('refuses a 200,000-row CSV by its line count, with one problem instead of 200,000', async () => {
+		const { problems, problemCount } = await send('rows200k');
+		expect(problemCount).toBe(1);
+		expect(problems).toHaveLength(1);
+		expect(problems[0]!.message).toMatch(
+			/^The file has 200,001 lines; a bid sheet for this event has at most 1,004 \(a header, one line per item and room to spare\)\./
+		);
+	});
+
+	it('refuses a macro workbook renamed .xlsx', async () => {
+		const { problems } = await send('macro');
+		expect(problems[0]!.message).toMatch(
+			/contains macros .*Save the bid sheet as a plain \.xlsx without macros/
+		);
+	});
+
+	it('refuses a UTF-16 CSV and says to save it as CSV UTF-8 (comma delimited)', async () => {
+		const { problems } = await send('utf16');
+		expect(problems[0]!.message).toMatch(/saved as Unicode \(UTF-16\) text/);
+		expect(problems[0]!.message).toMatch(
+			/choose "Save as", pick "CSV UTF-8 \(comma delimited\)" as the type/
+		);
+	});
+
+	it('refuses a semicolon-separated CSV and says to save it as CSV UTF-8 (comma delimited)', async () => {
+		const { problems } = await send('semicolon');
+		expect(problems[0]!.message).toMatch(/separated by semicolons, not commas/);
+		expect(problems[0]!.message).toMatch(
+			/choose "Save as", pick "CSV UTF-8 \(comma delimited\)" as the type/
+		);
+	});
+
+	it('refuses a PDF renamed .xlsx or .csv as a PDF', async () => {
+		for (const name of ['pdfAsXlsx', 'pdfAsCsv']) {
+			const { problems } = await send(name);
+			expect(problems[0]!.message).toMatch(/^This is a PDF document, not a bid sheet\./);
+		}
+	});
+
+	it('sends and keeps the first 100 of 600 problems with their total, and the page says so', async () => {
+		const { problems, problemCount } = await send('manyProblems');
+		expect(problems).toHaveLength(100);
+		expect(problemCount).toBe(600);
+		expect(problems[0]).toMatchObject({
+			sheet: 'CSV',
+			row: 2,
+			column: 'A',
+			message: '"NOPE-0" is not an item of this event'
+		});
+		const stored = await testDb()('uploads')
+			.where({ event_id: own.eventId, supplier_organisation_id: own.organisationId })
+			.orderBy('received_at', 'desc')
+			.first();
+		expect(stored.report).toHaveLength(100);
+		expect(stored.problem_count).toBe(600);
+		const page = await (await own.client.get(`/supplier/events/${own.eventId}`)).text();
+		expect(page).toContain('Showing the first 100 of 600 problems.');
+	});
+});
+
+describe("the supplier's page after many or large reports", () => {
+	it('is not sent whole again: the page shows the first 100 of its 5,000 problems', async () => {
+		const own = await aSupplierInvitedTo(buyerId);
+		const report = Array.from({ length: 5_000 }, (_, k) => ({
+			sheet: 'CSV',
+			row: k + 2,
+			column: 'A',
+			message: `problem number ${k}`
+		}));
+		await testDb()('uploads').insert({
+			event_id: own.eventId,
+			supplier_organisation_id: own.organisationId,
+			uploaded_by: own.user.id,
+			storage_key: `uploads/${own.eventId}/${own.organisationId}/old`,
+			sha256: '0'.repeat(64),
+			size_bytes: 100_000,
+			file_name: 'old.csv',
+			kind: 'csv',
+			status: 'rejected',
+			report: JSON.stringify(report)
+		});
+		const page = await (await own.client.get(`/supplier/events/${own.eventId}`)).text();
+		expect(page).toContain('Showing the first 100 of 5,000 problems.');
+		expect(page).toContain('problem number 99');
+		expect(page).not.toMatch(/problem number 100\b/);
+		expect(page).not.toContain('problem number 4999');
+	});
+
+	it('shows the latest 50 uploads of 55, saying so', async () => {
+		const own = await aSupplierInvitedTo(buyerId);
+		await testDb()('uploads').insert(
+			Array.from({ length: 55 }, (_, k) => ({
+				event_id: own.eventId,
+				supplier_organisation_id: own.organisationId,
+				uploaded_by: own.user.id,
+				storage_key: `uploads/${own.eventId}/${own.organisationId}/${k}`,
+				sha256: '0'.repeat(64),
+				size_bytes: 10,
+				file_name: `try-${k}.csv`,
+				kind: 'csv',
+				status: 'rejected',
+				report: '[]',
+				received_at: new Date(Date.now() - (55 - k) * 60_000)
+			}))
+		);
+		const page = await (await own.client.get(`/supplier/events/${own.eventId}`)).text();
+		expect(page).toContain('Showing the latest 50 of 55 uploads.');
+		expect(page).toContain('try-54.csv');
+		expect(page).not.toMatch(/try-4\.csv/);
+	});
+});
+
+describe('upload limits of one supplier organisation', () => {
+	const perWindow = Number(process.env.UPLOAD_LIMIT_PER_SUPPLIER ?? 20);
+
+	it(`refuses upload number ${perWindow + 1} within 10 minutes with 429, the limit and when to try again`, async () => {
+		const own = await aSupplierInvitedTo(buyerId);
+		for (let k = 0; k < perWindow; k++)
+			expect((await uploadSheet(own.client, own.eventId, Buffer.from('x'), 'bid.csv')).status).toBe(422);
+		const refused = await uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv');
+		expect(refused.status).toBe(429);
+		expect(Number(refused.headers.get('retry-after'))).toBeGreaterThan(0);
+		expect((await json(refused)).message).toMatch(
+			new RegExp(
+				`^Your organisation has uploaded ${perWindow} files to this event within 10 minutes, the most allowed\\. Try again in \\d+ (minutes?|seconds?)\\. This file was not stored; your current bid is unchanged\\.$`
+			)
+		);
+		const stored = await testDb()('uploads')
+			.where({ event_id: own.eventId })
+			.count<{ count: string }[]>('id');
+		expect(Number(stored[0]!.count)).toBe(perWindow);
+		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
+		expect(bids.bids).toEqual([]);
+	}, 120_000);
+
+	it('refuses a file that would take the stored uploads past the quota with 413, before storing it', async () => {
+		const own = await aSupplierInvitedTo(buyerId);
+		const quota = Number(process.env.UPLOAD_QUOTA_MB ?? 100) * 1024 * 1024;
+		await testDb()('uploads').insert({
+			event_id: own.eventId,
+			supplier_organisation_id: own.organisationId,
+			uploaded_by: own.user.id,
+			storage_key: `uploads/${own.eventId}/${own.organisationId}/earlier`,
+			sha256: '0'.repeat(64),
+			size_bytes: quota - 50,
+			file_name: 'earlier.xlsx',
+			kind: 'xlsx',
+			status: 'rejected',
+			report: '[]'
+		});
+		const refused = await uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv');
+		expect(refused.status).toBe(413);
+		expect((await json(refused)).message).toMatch(
+			/^Your organisation's uploads to this event take 100\.0 MB of the 100\.0 MB allowed; this file \(1 KB\) would go over it\. It was not stored; your current bid is unchanged\./
+		);
+		const stored = await testDb()('uploads')
+			.where({ event_id: own.eventId })
+			.count<{ count: string }[]>('id');
+		expect(Number(stored[0]!.count)).toBe(1);
+		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
+		expect(bids.bids).toEqual([]);
+	});
+});
