@@ -42,7 +42,7 @@ export function localFakesRefusal(env: Record<string, string | undefined>): stri
 	const settings = `${fakes.join(', ')} (the local fakes)`;
 	if (env.NODE_ENV === 'production')
 		return `${settings} must not be set when NODE_ENV=production: unset them and configure a real SMTP relay and S3 store.`;
-	let hostname = '';
+	let hostname: string;
 	try {
 		hostname = env.ORIGIN ? new URL(env.ORIGIN).hostname : '';
 	} catch {

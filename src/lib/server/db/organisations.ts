@@ -31,8 +31,8 @@ export function relatedSupplierIds(db: Db, buyingOrganisationId: string) {
 		.from('invitations')
 		.join('events', 'events.id', 'invitations.event_id')
 		.where('events.organisation_id', buyingOrganisationId)
-		.union((union) =>
-			union
+		.union(
+			db
 				.select('invited.organisation_id as id')
 				.from('users as invited')
 				.join('users as inviter', 'inviter.id', 'invited.invited_by')
@@ -55,8 +55,8 @@ export async function buyersOfSupplier(db: Db, supplierOrganisationId: string): 
 		.from('invitations')
 		.join('events', 'events.id', 'invitations.event_id')
 		.where('invitations.supplier_organisation_id', supplierOrganisationId)
-		.union((union) =>
-			union
+		.union(
+			db
 				.select('inviter.organisation_id as id')
 				.from('users as invited')
 				.join('users as inviter', 'inviter.id', 'invited.invited_by')

@@ -22,11 +22,11 @@ export function findUserByEmail(db: Db, email: string): Promise<UserWithOrganisa
 
 /** The users a buying organisation's admin manages: its own staff and the users of its suppliers. */
 const managedBy = (db: Db, buyingOrganisationId: string) =>
-	withOrganisation(db).where((scope) =>
-		scope
+	withOrganisation(db).where((scope) => {
+		void scope
 			.where('users.organisation_id', buyingOrganisationId)
-			.orWhereIn('users.organisation_id', relatedSupplierIds(db, buyingOrganisationId))
-	);
+			.orWhereIn('users.organisation_id', relatedSupplierIds(db, buyingOrganisationId));
+	});
 
 export function listUsers(db: Db, buyingOrganisationId: string): Promise<UserWithOrganisation[]> {
 	return managedBy(db, buyingOrganisationId).orderBy([{ column: 'users.role' }, { column: 'users.email' }]);
