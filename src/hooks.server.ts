@@ -30,7 +30,10 @@ export const init: ServerInit = async () => {
 };
 
 /** The configured public origin; under `vite dev` without ORIGIN, the address the server answers at. */
-const publicOrigin = (url: URL) => config().ORIGIN?.replace(/\/$/, '') ?? url.origin;
+const publicOrigin = (url: URL) => {
+	const configured = config().ORIGIN;
+	return configured ? new URL(configured).origin : url.origin;
+};
 
 const escapeHtml = (text: string) => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
 
