@@ -11,5 +11,12 @@ declare module 's3rver' {
 		constructor(options: S3rverOptions);
 		run(): Promise<{ address: string; port: number }>;
 		close(): Promise<void>;
+		/** Makes the configured buckets (what run() does before it listens). */
+		configureBuckets(): Promise<void>;
+		/** The Koa request handler, for a server of our own (s3-fake.ts puts a signature check in front). */
+		callback(): (
+			request: import('node:http').IncomingMessage,
+			response: import('node:http').ServerResponse
+		) => void;
 	}
 }

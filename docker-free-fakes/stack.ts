@@ -89,6 +89,10 @@ async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<A
 	return env;
 }
 
+// The app refuses the local fakes under NODE_ENV=production (src/lib/server/config.ts); the built server
+// behaves the same otherwise, since the build fixed SvelteKit's and Svelte's production mode.
+const localNodeEnv = (plan: StackPlan) => (plan.throwaway ? 'test' : 'development');
+
 /** One worker process (`npm run worker`): award runs, notices, closing events and mail from the queues. */
 async function startWorkerProcess(
 	plan: StackPlan,
@@ -102,7 +106,7 @@ async function startWorkerProcess(
 		command: process.execPath,
 		args: ['--import', 'tsx', join(root, 'src', 'worker.ts')],
 		cwd: root,
-		env: { ...process.env, ...env, NODE_ENV: 'production', EXIT_WITH_PARENT: '1' },
+		env: { ...process.env, ...env, NODE_ENV: localNodeEnv(plan), EXIT_WITH_PARENT: '1' },
 		logFile,
 		echo: !plan.throwaway,
 		ready: () =>
@@ -124,7 +128,7 @@ async function startWeb(
 		command: process.execPath,
 		args: [join(root, 'build', 'index.js')],
 		// adapter-node refuses request bodies over 512 kB by default; bid sheets may be up to 5 MB.
-		env: { ...process.env, BODY_SIZE_LIMIT: '6M', ...env, NODE_ENV: 'production' },
+		env: { ...process.env, BODY_SIZE_LIMIT: '6M', ...env, NODE_ENV: localNodeEnv(plan) },
 		logFile: join(plan.dataRoot, 'logs', 'web.log'),
 		echo: !plan.throwaway,
 		ready: () =>

@@ -1,4 +1,4 @@
-import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
+import { isHttpError, isRedirect, redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
 import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle, closeAuthPool } from '$lib/server/auth';
@@ -6,7 +6,9 @@ import { closeDb } from '$lib/server/db/knex';
 import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import type { SessionUser } from '$lib/server/auth/session-user';
-import { hookError, jsonError, newErrorId } from '$lib/server/http';
+import { config } from '$lib/server/config';
+import { fallbackCsp, hookError, jsonError, newErrorId, securityHeaders } from '$lib/server/http';
+import errorPage from './error.html?raw';
 import { stopJobs } from '$lib/server/jobs';
 import { startWorkers } from '$lib/server/jobs/workers';
 import type { ServerInit } from '@sveltejs/kit';
@@ -21,7 +23,78 @@ process.once('sveltekit:shutdown', () => {
 
 /** Web processes take queued work too, unless RUN_WORKERS=false (then another process must run the workers). */
 export const init: ServerInit = async () => {
-	if (process.env.RUN_WORKERS !== 'false' && !building) await startWorkers();
+	if (building) return;
+	// Reads and checks the settings now, so a server with the local fakes in production never starts.
+	config();
+	if (process.env.RUN_WORKERS !== 'false') await startWorkers();
+};
+
+/** The configured public origin; under `vite dev` without ORIGIN, the address the server answers at. */
+const publicOrigin = (url: URL) => {
+	const configured = config().ORIGIN;
+	return configured ? new URL(configured).origin : url.origin;
+};
+
+const escapeHtml = (text: string) => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
+
+/** What SvelteKit answers for an error or redirect thrown in a hook, as a Response we can add headers to. */
+function thrownAnswer(thrown: unknown, accept: string): Response | null {
+	if (isRedirect(thrown))
+		return new Response(null, { status: thrown.status, headers: { location: thrown.location } });
+	if (!isHttpError(thrown)) return null;
+	if (accept.includes('application/json') && !accept.includes('text/html'))
+		return Response.json(thrown.body, { status: thrown.status });
+	const html = errorPage
+		.replaceAll('%sveltekit.status%', String(thrown.status))
+		.replace('%sveltekit.error.message%', escapeHtml(thrown.body.message));
+	return new Response(html, {
+		status: thrown.status,
+		headers: { 'content-type': 'text/html; charset=utf-8' }
+	});
+}
+
+/** Security headers on every answer; pages keep the CSP with nonces that kit.csp gave them. */
+const secureHeaders: Handle = async ({ event, resolve }) => {
+	let response: Response;
+	try {
+		response = await resolve(event);
+	} catch (thrown) {
+		const answer = thrownAnswer(thrown, event.request.headers.get('accept') ?? '');
+		if (!answer) throw thrown;
+		response = answer;
+	}
+	const headers = {
+		...securityHeaders(publicOrigin(event.url).startsWith('https:')),
+		...(response.headers.has('content-security-policy') ? {} : { 'content-security-policy': fallbackCsp })
+	};
+	try {
+		for (const [name, value] of Object.entries(headers)) response.headers.set(name, value);
+		return response;
+	} catch {
+		// Response.redirect() and fetched responses have immutable headers.
+		const copy = new Response(response.body, response);
+		for (const [name, value] of Object.entries(headers)) copy.headers.set(name, value);
+		return copy;
+	}
+};
+
+/**
+ * Refuses every request that may change something unless it comes from our own pages: its Origin must be
+ * the configured origin. Browsers send Origin on every such request, so one without it is refused as well,
+ * unless Sec-Fetch-Site vouches for it; API clients and scripts send `Origin: <ORIGIN>`. SvelteKit's own
+ * check covers form content types only: a bodiless or JSON POST from another site got through.
+ */
+const sameOriginWrites: Handle = async ({ event, resolve }) => {
+	if (READS.has(event.request.method)) return resolve(event);
+	const origin = event.request.headers.get('origin');
+	const fetchSite = event.request.headers.get('sec-fetch-site');
+	const allowed = origin === null ? fetchSite === 'same-origin' : origin === publicOrigin(event.url);
+	if (allowed) return resolve(event);
+	const { pathname } = event.url;
+	const message = 'This request came from another site and was refused.';
+	const context = { path: pathname, method: event.request.method, origin, fetchSite };
+	if (pathname.startsWith('/api/')) return jsonError(403, message, context);
+	hookError(403, message, context);
 };
 
 const isSignInAttempt = (method: string, path: string) =>
@@ -66,7 +139,7 @@ const guard: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
-export const handle = sequence(throttleSignIn, authHandle, loadUser, guard);
+export const handle = sequence(secureHeaders, sameOriginWrites, throttleSignIn, authHandle, loadUser, guard);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = newErrorId();

@@ -242,6 +242,8 @@ describe('accounts managed by an administrator', () => {
 	it('refuses to turn a supplier user into staff', async () => {
 		const admin = await aUser('admin');
 		const supplier = await aUser('supplier', { organisationId: (await anOrganisation('supplier')).id });
+		// an admin manages only the users of suppliers its organisation works with (here: invited by it)
+		await testDb()('users').where({ id: supplier.id }).update({ invited_by: admin.id });
 		const client = new Browserless();
 		await client.signInWithPassword(admin.email, admin.password!);
 		const response = await client.postForm(

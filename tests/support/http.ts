@@ -20,12 +20,17 @@ export class Browserless {
 		return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ');
 	}
 
-	async request(path: string, init: RequestInit & { accept?: string } = {}): Promise<Response> {
+	/** `origin`: what a non-GET request sends as Origin (the app's own by default; null sends none). */
+	async request(
+		path: string,
+		init: RequestInit & { accept?: string; origin?: string | null } = {}
+	): Promise<Response> {
 		const url = path.startsWith('http') ? path : `${appUrl()}${path}`;
 		const headers = new Headers(init.headers);
 		headers.set('cookie', this.cookieHeader());
 		headers.set('accept', init.accept ?? 'text/html');
-		if (init.method && init.method !== 'GET') headers.set('origin', appUrl());
+		const origin = init.origin === undefined ? appUrl() : init.origin;
+		if (init.method && init.method !== 'GET' && origin !== null) headers.set('origin', origin);
 		const response = await fetch(url, { ...init, headers, redirect: 'manual' });
 		this.remember(response);
 		return response;

@@ -38,6 +38,41 @@ const schema = z.object({
 
 export type Config = z.infer<typeof schema>;
 
+/** s3rver accepts exactly this key pair (docker-free-fakes/local-env.ts). */
+const S3_FAKE_KEY = 'S3RVER';
+
+const isLoopbackHost = (hostname: string) =>
+	hostname === 'localhost' || hostname === '[::1]' || /^127(\.\d{1,3}){3}$/.test(hostname);
+
+/**
+ * The local fakes hand out every sign-in link (/dev/mailbox) and take the fake's public key pair, so they
+ * may run only on a developer's machine: never in a production build, never behind a public origin.
+ * Returns the reason for refusing, or null.
+ */
+export function localFakesRefusal(env: Record<string, string | undefined>): string | null {
+	const fakes = [
+		env.MAIL_FAKE_API ? 'MAIL_FAKE_API' : null,
+		env.S3_ACCESS_KEY_ID === S3_FAKE_KEY ? 'S3_ACCESS_KEY_ID' : null,
+		env.S3_SECRET_ACCESS_KEY === S3_FAKE_KEY ? 'S3_SECRET_ACCESS_KEY' : null
+	].filter((name): name is string => name !== null);
+	if (!fakes.length) return null;
+	const settings = `${fakes.join(', ')} (the local fakes)`;
+	if (env.NODE_ENV === 'production')
+		return `${settings} must not be set when NODE_ENV=production: unset them and configure a real SMTP relay and S3 store.`;
+	let hostname: string;
+	try {
+		hostname = env.ORIGIN ? new URL(env.ORIGIN).hostname : '';
+	} catch {
+		hostname = '';
+	}
+	if (!isLoopbackHost(hostname))
+		return `${settings} may be set only when ORIGIN is a loopback address such as http://127.0.0.1:3000 (ORIGIN is ${env.ORIGIN ?? 'not set'}).`;
+	return null;
+}
+
+/** Whether /dev/mailbox may answer: the SMTP fake is configured and the startup check allows it. */
+export const localMailboxAllowed = () => Boolean(config().MAIL_FAKE_API) && !localFakesRefusal(process.env);
+
 let cached: Config | undefined;
 
 export function config(): Config {
@@ -47,6 +82,8 @@ export function config(): Config {
 		const problems = parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ');
 		throw new Error(`Tenderloom is not configured: ${problems}`);
 	}
+	const refusal = localFakesRefusal(process.env);
+	if (refusal) throw new Error(`Tenderloom refuses to start: ${refusal}`);
 	cached = parsed.data;
 	return cached;
 }

@@ -21,14 +21,49 @@ export function listOrganisations(db: Db, kind?: OrganisationKind): Promise<Orga
 	return kind ? query.where({ kind }) : query;
 }
 
-/** The single buying organisation that staff belong to. */
-export async function buyingOrganisation(db: Db): Promise<OrganisationRow> {
-	const found = await db<OrganisationRow>('organisations')
-		.where({ kind: 'buyer' })
-		.orderBy('created_at')
-		.first();
-	if (!found) throw new Error('no buying organisation exists yet: run the seeds or create one');
-	return found;
+/**
+ * Supplier organisations that work with a buying organisation: invited to one of its events, or with a
+ * user whom its staff invited. Its admin manages only these and its own staff.
+ */
+export function relatedSupplierIds(db: Db, buyingOrganisationId: string) {
+	return db
+		.select('invitations.supplier_organisation_id as id')
+		.from('invitations')
+		.join('events', 'events.id', 'invitations.event_id')
+		.where('events.organisation_id', buyingOrganisationId)
+		.union(
+			db
+				.select('invited.organisation_id as id')
+				.from('users as invited')
+				.join('users as inviter', 'inviter.id', 'invited.invited_by')
+				.where('invited.organisation_kind', 'supplier')
+				.where('inviter.organisation_id', buyingOrganisationId)
+		);
+}
+
+export function listRelatedSuppliers(db: Db, buyingOrganisationId: string): Promise<OrganisationRow[]> {
+	return db<OrganisationRow>('organisations')
+		.where({ kind: 'supplier' })
+		.whereIn('id', relatedSupplierIds(db, buyingOrganisationId))
+		.orderBy('name');
+}
+
+/** The buying organisations a supplier organisation works with (see relatedSupplierIds). */
+export async function buyersOfSupplier(db: Db, supplierOrganisationId: string): Promise<string[]> {
+	const rows: { id: string }[] = await db
+		.select('events.organisation_id as id')
+		.from('invitations')
+		.join('events', 'events.id', 'invitations.event_id')
+		.where('invitations.supplier_organisation_id', supplierOrganisationId)
+		.union(
+			db
+				.select('inviter.organisation_id as id')
+				.from('users as invited')
+				.join('users as inviter', 'inviter.id', 'invited.invited_by')
+				.where('invited.organisation_id', supplierOrganisationId)
+				.where('inviter.organisation_kind', 'buyer')
+		);
+	return rows.map((r) => r.id);
 }
 
 export async function insertOrganisation(

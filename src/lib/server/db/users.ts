@@ -1,5 +1,6 @@
 import type { Role } from '$lib/roles';
 import type { Db } from './knex';
+import { relatedSupplierIds } from './organisations';
 import type { OrganisationKind, UserRow } from './tables';
 
 export interface UserWithOrganisation extends UserRow {
@@ -19,8 +20,24 @@ export function findUserByEmail(db: Db, email: string): Promise<UserWithOrganisa
 	return withOrganisation(db).where('users.email', email.toLowerCase()).first();
 }
 
-export function listUsers(db: Db): Promise<UserWithOrganisation[]> {
-	return withOrganisation(db).orderBy([{ column: 'users.role' }, { column: 'users.email' }]);
+/** The users a buying organisation's admin manages: its own staff and the users of its suppliers. */
+const managedBy = (db: Db, buyingOrganisationId: string) =>
+	withOrganisation(db).where((scope) => {
+		void scope
+			.where('users.organisation_id', buyingOrganisationId)
+			.orWhereIn('users.organisation_id', relatedSupplierIds(db, buyingOrganisationId));
+	});
+
+export function listUsers(db: Db, buyingOrganisationId: string): Promise<UserWithOrganisation[]> {
+	return managedBy(db, buyingOrganisationId).orderBy([{ column: 'users.role' }, { column: 'users.email' }]);
+}
+
+export function findManagedUser(
+	db: Db,
+	buyingOrganisationId: string,
+	id: number
+): Promise<UserWithOrganisation | undefined> {
+	return managedBy(db, buyingOrganisationId).where('users.id', id).first();
 }
 
 export interface NewUser {

@@ -220,9 +220,13 @@ export interface AwardRunJob {
 export const RUN_OPTIONS = { timeLimit: 60, gap: 1e-4, explain: true };
 
 /** Queues a run of a plan: the problem is fixed now, the solve happens in a worker process. */
-export async function startRun(user: SessionUser, planId: string): Promise<RunRow> {
-	const plan = await db()<PlanRow>('award_plans').where({ id: planId }).first();
-	if (!plan) throw new RuleViolation('There is no such plan.', undefined, 404);
+export async function startRun(user: SessionUser, planId: string, eventId?: string): Promise<RunRow> {
+	const plan = /^[0-9a-f-]{36}$/i.test(planId)
+		? await db()<PlanRow>('award_plans').where({ id: planId }).first()
+		: undefined;
+	// Under an event's address, a plan of another event is as absent as one that does not exist.
+	if (!plan || (eventId !== undefined && plan.event_id !== eventId))
+		throw new RuleViolation('There is no such plan.', undefined, 404);
 	const event = await buyerOnly(user, plan.event_id);
 	if (['draft', 'open'].includes(effectiveState(event)))
 		throw new RuleViolation(
@@ -280,10 +284,16 @@ export async function startRun(user: SessionUser, planId: string): Promise<RunRo
 	return run;
 }
 
-export async function findRun(user: SessionUser, runId: string): Promise<{ run: RunRow; event: EventRow }> {
+/** A run the user may see; given `eventId` (the address's event), a run of another event is a 404. */
+export async function findRun(
+	user: SessionUser,
+	runId: string,
+	eventId?: string
+): Promise<{ run: RunRow; event: EventRow }> {
 	if (!/^[0-9a-f-]{36}$/i.test(runId)) throw new RuleViolation('There is no such run.', undefined, 404);
 	const run = await db()<RunRow>('award_runs').where({ id: runId }).first();
-	if (!run) throw new RuleViolation('There is no such run.', undefined, 404);
+	if (!run || (eventId !== undefined && run.event_id !== eventId))
+		throw new RuleViolation('There is no such run.', undefined, 404);
 	const event = await staffEvent(user, run.event_id);
 	return { run, event };
 }
@@ -293,8 +303,8 @@ export async function listRuns(user: SessionUser, eventId: string): Promise<RunR
 	return db()<RunRow>('award_runs').where({ event_id: eventId }).orderBy('number', 'desc');
 }
 
-export async function cancelRun(user: SessionUser, runId: string): Promise<void> {
-	const { run } = await findRun(user, runId);
+export async function cancelRun(user: SessionUser, runId: string, eventId?: string): Promise<void> {
+	const { run } = await findRun(user, runId, eventId);
 	if (user.role !== 'buyer') throw new RuleViolation('Only buyers cancel runs.', undefined, 403);
 	if (!['queued', 'running'].includes(run.status))
 		throw new RuleViolation('The run has ended already.', undefined, 409);
@@ -334,8 +344,8 @@ const boundHash = (run: Pick<RunRow, 'problem_sha256' | 'result_sha256'>) =>
 const usable = (run: RunRow) =>
 	run.status === 'done' && ['optimal', 'feasible'].includes(String(run.result?.status ?? ''));
 
-export async function submitRun(user: SessionUser, runId: string): Promise<SignoffRow> {
-	const { run, event } = await findRun(user, runId);
+export async function submitRun(user: SessionUser, runId: string, eventId?: string): Promise<SignoffRow> {
+	const { run, event } = await findRun(user, runId, eventId);
 	if (user.role !== 'buyer') throw new RuleViolation('Only buyers submit runs for sign-off.', undefined, 403);
 	if (!usable(run))
 		throw new RuleViolation('Only a finished run with an allocation can be submitted.', undefined, 409);

@@ -6,12 +6,13 @@ import type { SessionUser } from '../auth/session-user';
 import { recordAccountEvent } from '../db/account-events';
 import { db } from '../db/knex';
 import {
-	buyingOrganisation,
+	buyersOfSupplier,
 	findOrganisation,
 	findOrganisationByName,
 	insertOrganisation
 } from '../db/organisations';
 import {
+	findManagedUser,
 	findUserByEmail,
 	findUserById,
 	insertUser,
@@ -98,17 +99,27 @@ export async function inviteUser(
 				organisationId = (await insertOrganisation(trx, invitation.newSupplierName, 'supplier')).id;
 			} else {
 				const organisation = await findOrganisation(trx, invitation.supplierOrganisationId);
-				if (!organisation || organisation.kind !== 'supplier') {
+				const buyers = organisation?.kind === 'supplier' ? await buyersOfSupplier(trx, organisation.id) : [];
+				if (!organisation || !buyers.includes(actor.organisationId)) {
 					throw new RuleViolation(
 						'Choose a supplier organisation from the list.',
 						'supplierOrganisationId',
 						422
 					);
 				}
+				// A user added to a supplier sees every event it is invited to, other buyers' ones too.
+				if (buyers.some((id) => id !== actor.organisationId)) {
+					throw new RuleViolation(
+						`${organisation.name} also works with another buying organisation, so users cannot be added to it here: invite the supplier to your event by the address of one of its users.`,
+						'supplierOrganisationId',
+						409
+					);
+				}
 				organisationId = organisation.id;
 			}
 		} else {
-			organisationId = (await buyingOrganisation(trx)).id;
+			// Staff join the organisation of the admin who invites them, never another buying organisation.
+			organisationId = actor.organisationId;
 		}
 		const row = await insertUser(trx, {
 			email,
@@ -135,7 +146,7 @@ export async function resendInvitation(
 	userId: number,
 	context: RequestContext
 ): Promise<boolean> {
-	const user = await findUserById(db(), userId);
+	const user = await findManagedUser(db(), actor.organisationId, userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
 	if (user.deactivated_at)
 		throw new RuleViolation(`${user.email} is deactivated: reactivate the account first.`);
@@ -150,7 +161,8 @@ async function targetOf(actor: SessionUser, userId: number): Promise<UserWithOrg
 			403
 		);
 	}
-	const user = await findUserById(db(), userId);
+	// Users of another buying organisation (and of suppliers it alone works with) do not exist for this admin.
+	const user = await findManagedUser(db(), actor.organisationId, userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
 	return user;
 }

@@ -1,17 +1,32 @@
 import { json } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/knex';
-import { listOrganisations } from '$lib/server/db/organisations';
+import { findOrganisation, listOrganisations, listRelatedSuppliers } from '$lib/server/db/organisations';
 import { jsonError } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
-/** Supplier organisations (or all with ?kind=all), for buyers choosing whom to invite. */
+/**
+ * Organisations as the caller's role needs them. Buyers: the supplier directory, to choose whom to invite,
+ * and their own organisation. Admins: their own organisation and the suppliers it works with. Nobody sees
+ * another buying organisation.
+ */
 export const GET: RequestHandler = async (event) => {
-	requireRole(event, 'admin', 'buyer');
+	const user = requireRole(event, 'admin', 'buyer');
 	const kind = event.url.searchParams.get('kind') ?? 'supplier';
 	if (kind !== 'supplier' && kind !== 'buyer' && kind !== 'all') {
 		return jsonError(400, 'kind must be supplier, buyer or all', { kind });
 	}
-	const rows = await listOrganisations(db(), kind === 'all' ? undefined : kind);
-	return json(rows.map((o) => ({ id: o.id, name: o.name, kind: o.kind })));
+	if (kind === 'all' && user.role !== 'admin')
+		return jsonError(403, 'Buyers list supplier organisations (kind=supplier) or their own (kind=buyer).', {
+			kind,
+			userId: user.id
+		});
+	const own = kind === 'supplier' ? [] : [(await findOrganisation(db(), user.organisationId))!];
+	const suppliers =
+		kind === 'buyer'
+			? []
+			: user.role === 'admin'
+				? await listRelatedSuppliers(db(), user.organisationId)
+				: await listOrganisations(db(), 'supplier');
+	return json([...own, ...suppliers].map((o) => ({ id: o.id, name: o.name, kind: o.kind })));
 };

@@ -4,7 +4,7 @@ import { zod4 } from 'sveltekit-superforms/adapters';
 import { inviteUserSchema, setActiveSchema, setRoleSchema, userIdSchema } from '$lib/schemas/users';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/knex';
-import { listOrganisations } from '$lib/server/db/organisations';
+import { listRelatedSuppliers } from '$lib/server/db/organisations';
 import { listUsers } from '$lib/server/db/users';
 import { requestContext } from '$lib/server/request-context';
 import { RuleViolation } from '$lib/server/services/errors';
@@ -12,8 +12,11 @@ import { changeRole, inviteUser, resendInvitation, setActive } from '$lib/server
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
-	const [users, suppliers] = await Promise.all([listUsers(db()), listOrganisations(db(), 'supplier')]);
+	const admin = requireRole(event, 'admin');
+	const [users, suppliers] = await Promise.all([
+		listUsers(db(), admin.organisationId),
+		listRelatedSuppliers(db(), admin.organisationId)
+	]);
 	return {
 		title: 'Users',
 		users: users.map((u) => ({

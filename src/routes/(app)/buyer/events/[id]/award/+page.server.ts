@@ -90,7 +90,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const planId = String((await event.request.formData()).get('planId') ?? '');
 		return attempt(async () => {
-			const run = await startRun(user, planId);
+			const run = await startRun(user, planId, event.params.id);
 			return { ok: `Run ${run.number} is queued.`, runId: run.id };
 		});
 	},
@@ -98,7 +98,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const runId = String((await event.request.formData()).get('runId') ?? '');
 		return attempt(async () => {
-			await submitRun(user, runId);
+			await submitRun(user, runId, event.params.id);
 			return { ok: 'Submitted for sign-off. An approver other than you decides.' };
 		});
 	},
@@ -106,7 +106,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const runId = String((await event.request.formData()).get('runId') ?? '');
 		return attempt(async () => {
-			await cancelRun(user, runId);
+			await cancelRun(user, runId, event.params.id);
 			return { ok: 'Cancelling the run.' };
 		});
 	}

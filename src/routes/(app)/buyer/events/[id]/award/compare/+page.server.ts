@@ -3,6 +3,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { httpError } from '$lib/server/http';
 import { compareRuns } from '$lib/server/run-export';
 import { findRun, runJson } from '$lib/server/services/awards';
+import { RuleViolation } from '$lib/server/services/errors';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -11,9 +12,11 @@ export const load: PageServerLoad = async (event) => {
 	if (ids.length < 2) httpError(400, 'Choose two to four runs to compare.', { path: event.url.pathname });
 	const runs = [];
 	for (const id of ids) {
-		const { run, event: row } = await findRun(user, id);
-		if (row.id !== event.params.id)
-			httpError(404, 'That run belongs to another event.', { path: event.url.pathname });
+		const { run } = await findRun(user, id, event.params.id).catch((error: unknown) => {
+			if (error instanceof RuleViolation)
+				httpError(error.status, error.message, { path: event.url.pathname });
+			throw error;
+		});
 		runs.push(runJson(run));
 	}
 	const cautions: CautionKey[] = ['decisionSupport'];
