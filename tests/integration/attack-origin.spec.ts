@@ -9,6 +9,7 @@ import {
 	anOpenEvent,
 	fillSheet,
 	signedIn,
+	untilPast,
 	uploadSheet,
 	type TestEvent
 } from '../support/events';
@@ -27,13 +28,13 @@ beforeAll(async () => {
 	buyer = await aSignedInUser('buyer');
 	const { organisation, user } = await aSupplierOrganisationWithUser();
 	const bidder = await signedIn(user);
-	event = await anOpenEvent({ createdBy: buyer.user.id, invite: [organisation.id] });
+	// A published deadline can only move later, even in SQL: the event closes a few seconds from now.
+	const deadline = new Date(Date.now() + 15_000);
+	event = await anOpenEvent({ createdBy: buyer.user.id, invite: [organisation.id], deadline });
 	const sheet = Buffer.from(await (await bidder.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
 	const filled = await fillSheet(sheet, { 'IT-1': [4], 'IT-2': [5], 'IT-3': [6] });
 	expect((await uploadSheet(bidder, event.id, filled)).status).toBe(201);
-	await testDb()('events')
-		.where({ id: event.id })
-		.update({ deadline: new Date(Date.now() - 1000) });
+	await untilPast(deadline);
 	const plans = (await (
 		await buyer.client.get(`/api/events/${event.id}/plans`, 'application/json')
 	).json()) as {
