@@ -1,3 +1,4 @@
+import { sendSignInLink, type SignInLinkJob } from '../auth/sign-in-links';
 import { sendMail, type OutgoingMail } from '../mail';
 import { closeIfDue } from '../services/events';
 import { jobs, QUEUES, type CloseEventJob } from '.';
@@ -25,6 +26,9 @@ export async function startWorkers(options: { awardRuns?: boolean } = {}): Promi
 			if (job) await runAward(job.data.runId);
 		});
 	}
+	await queue.work<SignInLinkJob>(QUEUES.signInLink, async ([job]) => {
+		if (job) await sendSignInLink(job.data);
+	});
 	await queue.work<CloseEventJob>(QUEUES.closeEvent, async ([job]) => {
 		if (job) await closeIfDue(job.data.eventId, 'deadline job');
 	});
