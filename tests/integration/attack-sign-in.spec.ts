@@ -67,6 +67,30 @@ describe('sign-in link poisoning', () => {
 	}
 });
 
+describe('invitation link poisoning', () => {
+	it('mails an invitation link to the configured origin when the admin page is posted with a forged X-Forwarded-Host', async () => {
+		const admin = await aUser('admin');
+		const client = new Browserless();
+		await client.signInWithPassword(admin.email, admin.password!);
+		const email = `${unique('invitee')}@example.test`;
+		const answer = await client.request('/admin/users?/invite', {
+			method: 'POST',
+			headers: { 'x-forwarded-host': ATTACKER, 'x-forwarded-proto': 'https' },
+			body: new URLSearchParams({
+				email,
+				name: 'Invited Person',
+				role: 'buyer',
+				supplierOrganisationId: '',
+				newSupplierName: ''
+			})
+		});
+		expect(answer.status).toBe(200);
+		const mail = await latestMailTo(email);
+		expect(new URL(linkIn(mail.text)).origin).toBe(new URL(appUrl()).origin);
+		expect(`${mail.text}\n${mail.html ?? ''}`).not.toContain(ATTACKER);
+	});
+});
+
 /** What a person (or a script) sees after asking for a link: the answer and the page it leads to. */
 async function whatTheAskerSees(path: string, fields: Record<string, string>) {
 	const client = new Browserless();

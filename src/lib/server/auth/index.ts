@@ -22,7 +22,6 @@ import type { SessionUser } from './session-user';
 import { endUserSessions } from './sessions';
 import { requestSignInLink, returnPath, SIGN_IN_LINK_MINUTES } from './sign-in-links';
 
-export { SIGN_IN_LINK_MINUTES };
 export const SESSION_HOURS = 8;
 const LAST_SEEN_EVERY_MS = 60_000;
 const SESSION_ID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
@@ -89,7 +88,10 @@ const sessionUserOf = (row: UserWithOrganisation): SessionUser => ({
  */
 async function openSessionUser(userId: number, sid: unknown): Promise<UserWithOrganisation | null> {
 	if (!Number.isInteger(userId) || typeof sid !== 'string' || !SESSION_ID.test(sid)) return null;
-	const [row, session] = await Promise.all([findUserById(db(), userId), findOpenSession(db(), sid, userId)]);
+	const [row, session] = await Promise.all([
+		findUserById(db(), userId),
+		findOpenSession(db(), sid, userId, SESSION_HOURS)
+	]);
 	if (!row || row.deactivated_at || !session) return null;
 	if (Date.now() - session.last_seen.getTime() > LAST_SEEN_EVERY_MS) await touchSession(db(), sid);
 	return row;

@@ -28,15 +28,20 @@ export async function insertSession(
 	return row!.id;
 }
 
-/** The session when it belongs to the user and has not ended. */
+// Seen within the idle limit: the cookie's own limit, kept here too so that the row alone decides.
+const SEEN_WITHIN = 'last_seen > now() - make_interval(hours => ?)';
+
+/** The session when it belongs to the user, has not ended and has not been idle for longer than the limit. */
 export function findOpenSession(
 	db: Db,
 	id: string,
-	userId: number
+	userId: number,
+	idleHours: number
 ): Promise<Pick<UserSessionRow, 'id' | 'last_seen'> | undefined> {
 	return db<UserSessionRow>('user_sessions')
 		.where({ id, user_id: userId })
 		.whereNull('ended_at')
+		.whereRaw(SEEN_WITHIN, [idleHours])
 		.first('id', 'last_seen');
 }
 
@@ -44,10 +49,11 @@ export async function touchSession(db: Db, id: string): Promise<void> {
 	await db('user_sessions').where({ id }).whereNull('ended_at').update({ last_seen: db.fn.now() });
 }
 
-export function listOpenSessions(db: Db, userId: number): Promise<OpenSession[]> {
+export function listOpenSessions(db: Db, userId: number, idleHours: number): Promise<OpenSession[]> {
 	return db<UserSessionRow>('user_sessions')
 		.where({ user_id: userId })
 		.whereNull('ended_at')
+		.whereRaw(SEEN_WITHIN, [idleHours])
 		.orderBy('last_seen', 'desc')
 		.select('id', 'created_at', 'last_seen', 'user_agent', 'ip');
 }

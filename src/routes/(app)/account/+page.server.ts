@@ -3,7 +3,7 @@ import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { isStaff } from '$lib/roles';
 import { setPasswordSchema } from '$lib/schemas/account';
-import { currentSessionId } from '$lib/server/auth';
+import { currentSessionId, SESSION_HOURS } from '$lib/server/auth';
 import { requireRole, requireUser } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/knex';
 import { listOpenSessions } from '$lib/server/db/sessions';
@@ -15,7 +15,10 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireUser(event);
-	const [row, sessions] = await Promise.all([findUserById(db(), user.id), listOpenSessions(db(), user.id)]);
+	const [row, sessions] = await Promise.all([
+		findUserById(db(), user.id),
+		listOpenSessions(db(), user.id, SESSION_HOURS)
+	]);
 	const current = currentSessionId();
 	return {
 		title: 'Your account',
