@@ -26,9 +26,14 @@ export async function startWorkers(options: { awardRuns?: boolean } = {}): Promi
 			if (job) await runAward(job.data.runId);
 		});
 	}
-	await queue.work<SignInLinkJob>(QUEUES.signInLink, async ([job]) => {
-		if (job) await sendSignInLink(job.data);
-	});
+	// People wait for these: polled often and taken a few at a time (a retried batch may send a link twice).
+	await queue.work<SignInLinkJob>(
+		QUEUES.signInLink,
+		{ batchSize: 5, pollingIntervalSeconds: 0.5 },
+		async (batch) => {
+			for (const job of batch) await sendSignInLink(job.data);
+		}
+	);
 	await queue.work<CloseEventJob>(QUEUES.closeEvent, async ([job]) => {
 		if (job) await closeIfDue(job.data.eventId, 'deadline job');
 	});
