@@ -124,7 +124,6 @@ describe('e-mail link sign-in', () => {
 		const supplier = await aUser('supplier');
 		const { url: link } = await createSignInLink(db(), {
 			email: supplier.email,
-			origin: appUrl(),
 			callbackPath: '/',
 			validForHours: -1
 		});
@@ -197,7 +196,7 @@ describe('accounts managed by an administrator', () => {
 		);
 	});
 
-	it('ends the session of a deactivated user at the next request', async () => {
+	it('ends the sessions of a deactivated user at the next request, and notes both in the account log', async () => {
 		const admin = await aUser('admin');
 		const buyer = await aUser('buyer');
 		const client = new Browserless();
@@ -218,11 +217,15 @@ describe('accounts managed by an administrator', () => {
 		expect((await client.get('/api/me', 'application/json')).status).toBe(401);
 		const log = await testDb()('account_events')
 			.where({ subject_user_id: buyer.id })
-			.select('action', 'actor_user_id');
-		expect(log).toEqual([{ action: 'user.deactivated', actor_user_id: admin.id }]);
+			.orderBy('id')
+			.select('action', 'actor_user_id', 'detail');
+		expect(log).toEqual([
+			{ action: 'user.deactivated', actor_user_id: admin.id, detail: {} },
+			{ action: 'user.sessions_ended', actor_user_id: admin.id, detail: { reason: 'deactivated', count: 1 } }
+		]);
 	});
 
-	it('applies a role change at the next request', async () => {
+	it('ends the sessions of a user whose role changes, and the new role applies at the next sign-in', async () => {
 		const admin = await aUser('admin');
 		const buyer = await aUser('buyer');
 		const adminClient = new Browserless();
@@ -235,6 +238,8 @@ describe('accounts managed by an administrator', () => {
 			role: 'approver'
 		});
 		expect(changed.status).toBe(200);
+		expect((await client.get('/buyer')).status).toBe(303);
+		await client.signInWithPassword(buyer.email, buyer.password!);
 		expect((await client.get('/buyer')).status).toBe(403);
 		expect((await client.get('/approver')).status).toBe(200);
 	});

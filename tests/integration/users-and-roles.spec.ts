@@ -98,4 +98,17 @@ describe('users, roles and organisations in PostgreSQL', () => {
 			/append-only/
 		);
 	});
+
+	it('keeps an ended session ended, so nothing can bring a copied cookie back', async () => {
+		const user = await aUser('buyer');
+		const [session] = await testDb()('user_sessions')
+			.insert({ user_id: user.id, ended_at: new Date(), end_reason: 'signed out' })
+			.returning('id');
+		const row = testDb()('user_sessions').where({ id: session.id });
+		await expect(row.clone().update({ ended_at: null })).rejects.toThrow(/stays ended/);
+		await expect(row.clone().update({ ended_at: new Date(Date.now() + 60_000) })).rejects.toThrow(
+			/stays ended/
+		);
+		await row.clone().update({ last_seen: new Date() });
+	});
 });

@@ -1,4 +1,5 @@
 // A tiny HTTP client with a cookie jar, talking to the built server the test run started.
+import { request as httpRequest } from 'node:http';
 import { appUrl } from './env';
 import { latestMailTo, linkIn } from './mail';
 
@@ -18,6 +19,13 @@ export class Browserless {
 
 	private cookieHeader(): string {
 		return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ');
+	}
+
+	/** A second client holding a copy of this one's cookies, as someone who copied them would. */
+	copy(): Browserless {
+		const twin = new Browserless();
+		for (const [name, value] of this.cookies) twin.cookies.set(name, value);
+		return twin;
 	}
 
 	/** `origin`: what a non-GET request sends as Origin (the app's own by default; null sends none). */
@@ -80,4 +88,49 @@ export class Browserless {
 		const response = await this.get('/auth/session', 'application/json');
 		return (await response.json()) as Record<string, unknown> | null;
 	}
+}
+
+export interface RawResponse {
+	status: number;
+	location: string | null;
+	setCookie: string[];
+	body: string;
+}
+
+/**
+ * A request with headers fetch would not send as given (Host), as an attacker's own client sends them.
+ * Goes to the test server's address whatever the Host header says.
+ */
+export function rawRequest(
+	path: string,
+	init: { method?: string; headers?: Record<string, string>; body?: string } = {}
+): Promise<RawResponse> {
+	const target = new URL(path, appUrl());
+	return new Promise((resolve, reject) => {
+		const req = httpRequest(
+			{
+				host: target.hostname,
+				port: target.port,
+				path: target.pathname + target.search,
+				method: init.method ?? 'GET',
+				headers: init.headers
+			},
+			(res) => {
+				const chunks: Buffer[] = [];
+				res.on('data', (chunk: Buffer) => chunks.push(chunk));
+				res.on('end', () =>
+					resolve({
+						status: res.statusCode ?? 0,
+						location: res.headers.location ?? null,
+						setCookie: res.headers['set-cookie'] ?? [],
+						body: Buffer.concat(chunks).toString('utf8')
+					})
+				);
+				res.on('error', reject);
+			}
+		);
+		req.on('error', reject);
+		if (init.body) req.write(init.body);
+		req.end();
+	});
 }

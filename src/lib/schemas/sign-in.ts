@@ -1,6 +1,6 @@
 import { z } from 'zod';
 
-const email = z
+export const emailAddress = z
 	.email('Enter an e-mail address such as name@example.org.')
 	.max(254, 'That e-mail address is too long.');
 
@@ -12,13 +12,13 @@ const returnPath = z
 
 export const passwordSignInSchema = z.object({
 	providerId: z.literal('credentials'),
-	email,
+	email: emailAddress,
 	password: z.string().min(1, 'Enter your password.').max(200, 'That password is too long.'),
 	redirectTo: returnPath
 });
 
 export const linkSignInSchema = z.object({
 	providerId: z.literal('nodemailer'),
-	email,
+	email: emailAddress,
 	redirectTo: returnPath
 });

@@ -14,7 +14,12 @@ const schema = z.object({
 	TRAIL_MAC_KEY: z.string().min(32, 'TRAIL_MAC_KEY must be at least 32 characters (a random secret)'),
 	/** Earlier trail keys, comma-separated, kept after a rotation so older entries still verify. */
 	TRAIL_MAC_OLD_KEYS: z.string().optional(),
-	ORIGIN: z.url().optional(),
+	/** The public origin (https://tenders.example.org): every link in mail and the cookies' Secure flag come from it. */
+	ORIGIN: z.url({
+		protocol: /^https?$/,
+		error:
+			'ORIGIN is required: the public address people reach Tenderloom at, such as https://tenders.example.org'
+	}),
 	S3_ENDPOINT: z.url().optional(),
 	S3_REGION: z.string().default('us-east-1'),
 	S3_BUCKET: z.string().default('tenderloom'),
@@ -87,3 +92,6 @@ export function config(): Config {
 	cached = parsed.data;
 	return cached;
 }
+
+/** The configured public origin without a trailing slash: the only base for links in mail. */
+export const publicOrigin = (): string => new URL(config().ORIGIN).origin;

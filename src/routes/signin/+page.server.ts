@@ -4,6 +4,7 @@ import { zod4 } from 'sveltekit-superforms/adapters';
 import { homePath } from '$lib/roles';
 import { linkSignInSchema, passwordSignInSchema } from '$lib/schemas/sign-in';
 import { signInFromForm } from '$lib/server/auth';
+import { requestSignInLink } from '$lib/server/auth/sign-in-links';
 import { describeWait } from '$lib/server/auth/rate-limit';
 import { config } from '$lib/server/config';
 import type { Actions, PageServerLoad } from './$types';
@@ -50,8 +51,8 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 	};
 };
 
-// Each form is checked here first (so a person sees which field is wrong), then handed to Auth.js,
-// which reads the same body again: hence the clone.
+// Each form is checked here first (so a person sees which field is wrong). The password form is then
+// handed to Auth.js, which reads the same body again: hence the clone.
 export const actions: Actions = {
 	password: async (event) => {
 		const passwordForm = await superValidate(event.request.clone(), zod4(passwordSignInSchema), {
@@ -61,8 +62,11 @@ export const actions: Actions = {
 		await signInFromForm(event);
 	},
 	link: async (event) => {
-		const linkForm = await superValidate(event.request.clone(), zod4(linkSignInSchema), { id: 'link' });
+		const linkForm = await superValidate(event.request, zod4(linkSignInSchema), { id: 'link' });
 		if (!linkForm.valid) return fail(400, { linkForm });
-		await signInFromForm(event);
+		// The same answer for every address, registered or not: the link (if any) is sent in the background.
+		const throttle = await requestSignInLink(linkForm.data.email, linkForm.data.redirectTo);
+		if (throttle.blocked) redirect(303, `/signin?error=TooManyAttempts&wait=${throttle.retryAfterSeconds}`);
+		redirect(303, '/signin/check-email');
 	}
 };

@@ -3,4 +3,4 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = () => ({ title: 'Sign out' });
 
-export const actions: Actions = { default: signOut };
+export const actions: Actions = { default: (event) => signOut(event) };

@@ -33,6 +33,7 @@ describe('route areas', () => {
 	it('recognises sign-out, the one write an auditor may send', () => {
 		expect(isSignOut('/signout')).toBe(true);
 		expect(isSignOut('/auth/signout')).toBe(true);
+		expect(isSignOut('/signout/everywhere')).toBe(true);
 		expect(isSignOut('/account')).toBe(false);
 	});
 });

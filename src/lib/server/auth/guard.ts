@@ -57,7 +57,7 @@ export function rolesFor(path: string): readonly Role[] | null {
 	return areas.find((a) => within(path, a.prefix))?.roles ?? null;
 }
 
-/** Auditors read; the only request they may send that is not a read is signing out. */
+/** Auditors read; the only requests they may send that are not reads are signing out (here or everywhere). */
 export function isSignOut(path: string): boolean {
-	return path === '/auth/signout' || path === '/signout';
+	return path === '/auth/signout' || path === '/signout' || path === '/signout/everywhere';
 }

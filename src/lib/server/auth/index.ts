@@ -1,35 +1,49 @@
 // Sign-in for Tenderloom, the one module that knows Auth.js (so it can be swapped): e-mail links for
-// everyone, passwords for staff, JWT sessions whose user is re-read from the database on every request.
+// everyone, passwords for staff, JWT sessions whose user is re-read from the database on every request
+// and whose server-side record (user_sessions) must still be open.
+import { AsyncLocalStorage } from 'node:async_hooks';
 import PostgresAdapter from '@auth/pg-adapter';
 import { AuthError, CredentialsSignin, SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
-import { redirect, type RequestEvent } from '@sveltejs/kit';
+import { json, redirect, type Cookies, type Handle, type RequestEvent } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import Nodemailer from '@auth/sveltekit/providers/nodemailer';
 import pg from 'pg';
 import { z } from 'zod';
 import { isStaff } from '$lib/roles';
-import { config } from '../config';
+import { emailAddress } from '$lib/schemas/sign-in';
+import { config, publicOrigin } from '../config';
 import { db } from '../db/knex';
-import { findUserByEmail, findUserById } from '../db/users';
-import { sendMail } from '../mail';
-import { signInLinkMail } from '../mail/templates';
+import { findOpenSession, insertSession, touchSession } from '../db/sessions';
+import { findUserById, findUserByEmail, type UserWithOrganisation } from '../db/users';
+import { sessionCookiePolicy } from './cookies';
 import { verifyPassword } from './passwords';
-import {
-	clearPasswordFailures,
-	countPasswordFailure,
-	countSignInLink,
-	passwordSignInBlocked
-} from './rate-limit';
+import { clearPasswordFailures, countPasswordFailure, passwordSignInBlocked } from './rate-limit';
 import type { SessionUser } from './session-user';
+import { endUserSessions } from './sessions';
+import { requestSignInLink, returnPath, SIGN_IN_LINK_MINUTES } from './sign-in-links';
 
-export const SIGN_IN_LINK_MINUTES = 15;
 export const SESSION_HOURS = 8;
+const LAST_SEEN_EVERY_MS = 60_000;
+const SESSION_ID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
 
 declare module '@auth/core/jwt' {
 	interface JWT {
 		sessionUser?: SessionUser;
+		/** The user_sessions row this cookie belongs to. */
+		sid?: string;
 	}
 }
+
+/** What the callbacks may know of the request they run in (Auth.js does not hand it to them). */
+interface AuthRequest {
+	userAgent: string | null;
+	ip: string | null;
+	sessionId?: string;
+}
+const currentRequest = new AsyncLocalStorage<AuthRequest>();
+
+/** The id of the session the current request was made in, once the hook has read the session. */
+export const currentSessionId = (): string | null => currentRequest.getStore()?.sessionId ?? null;
 
 /** The code Auth.js puts in the sign-in page's URL; it names the wait, never the reason a password failed. */
 class SignInThrottled extends CredentialsSignin {
@@ -59,6 +73,30 @@ async function authorizePassword(credentials: Partial<Record<string, unknown>>) 
 	return { id: String(user.id), email: user.email, name: user.name };
 }
 
+const sessionUserOf = (row: UserWithOrganisation): SessionUser => ({
+	id: row.id,
+	name: row.name ?? row.email,
+	email: row.email,
+	role: row.role,
+	organisationId: row.organisation_id,
+	organisationName: row.organisation_name
+});
+
+/**
+ * The session behind a token, re-read on every request: a deactivated user, an ended session (sign-out,
+ * sign out everywhere, a password change elsewhere, a role change) or a token without one is refused.
+ */
+async function openSessionUser(userId: number, sid: unknown): Promise<UserWithOrganisation | null> {
+	if (!Number.isInteger(userId) || typeof sid !== 'string' || !SESSION_ID.test(sid)) return null;
+	const [row, session] = await Promise.all([
+		findUserById(db(), userId),
+		findOpenSession(db(), sid, userId, SESSION_HOURS)
+	]);
+	if (!row || row.deactivated_at || !session) return null;
+	if (Date.now() - session.last_seen.getTime() > LAST_SEEN_EVERY_MS) await touchSession(db(), sid);
+	return row;
+}
+
 let pool: pg.Pool | undefined;
 
 function authConfig(): SvelteKitAuthConfig {
@@ -67,7 +105,10 @@ function authConfig(): SvelteKitAuthConfig {
 	return {
 		adapter: PostgresAdapter(pool),
 		secret: settings.AUTH_SECRET,
+		// Auth.js builds URLs from the Host and X-Forwarded-* headers of what it is given; it is only ever
+		// given requests rebuilt on the configured origin (atPublicOrigin), so those headers are ours.
 		trustHost: true,
+		useSecureCookies: sessionCookiePolicy(settings.ORIGIN).secure,
 		session: { strategy: 'jwt', maxAge: SESSION_HOURS * 3600 },
 		pages: { signIn: '/signin', error: '/signin/error', verifyRequest: '/signin/check-email' },
 		logger: {
@@ -78,12 +119,14 @@ function authConfig(): SvelteKitAuthConfig {
 			warn: (code) => console.warn(JSON.stringify({ level: 'warn', source: 'auth', code }))
 		},
 		providers: [
+			// Only its callback is used (it checks the one-time token); links are sent by requestSignInLink.
 			Nodemailer({
 				server: settings.SMTP_URL,
 				from: settings.MAIL_FROM,
 				maxAge: SIGN_IN_LINK_MINUTES * 60,
-				sendVerificationRequest: ({ identifier, url, expires }) =>
-					sendMail(signInLinkMail(identifier, url, expires))
+				sendVerificationRequest: () => {
+					throw new Error('Sign-in links are sent by requestSignInLink, never by Auth.js.');
+				}
 			}),
 			Credentials({
 				credentials: {
@@ -96,35 +139,48 @@ function authConfig(): SvelteKitAuthConfig {
 		callbacks: {
 			async signIn({ user, account, email }) {
 				if (account?.provider !== 'nodemailer') return true;
-				const address = (user.email ?? '').toLowerCase();
-				const found = await findUserByEmail(db(), address);
-				if (email?.verificationRequest) {
-					const throttle = await countSignInLink(address);
-					if (throttle.blocked) return `/signin?error=TooManyAttempts&wait=${throttle.retryAfterSeconds}`;
-					// Unknown or deactivated: show the same "check your e-mail" page but send nothing.
-					if (!found || found.deactivated_at) return '/signin/check-email';
-					return true;
-				}
+				if (email?.verificationRequest) return false;
+				const found = await findUserByEmail(db(), (user.email ?? '').toLowerCase());
 				return Boolean(found && !found.deactivated_at);
 			},
 			async jwt({ token, user }) {
-				const id = Number(user?.id ?? token.sub);
-				const row = Number.isInteger(id) ? await findUserById(db(), id) : undefined;
+				const request = currentRequest.getStore();
+				if (user) {
+					const row = await findUserById(db(), Number(user.id));
+					if (!row || row.deactivated_at) return null;
+					const sid = await insertSession(db(), {
+						userId: row.id,
+						userAgent: request?.userAgent ?? null,
+						ip: request?.ip ?? null
+					});
+					if (request) request.sessionId = sid;
+					const { iat, exp, jti } = token;
+					return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
+				}
 				// Re-read on every request: a deactivated user loses the session at once, a new role applies at once.
-				if (!row || row.deactivated_at) return null;
-				const sessionUser: SessionUser = {
-					id: row.id,
-					name: row.name ?? row.email,
-					email: row.email,
-					role: row.role,
-					organisationId: row.organisation_id,
-					organisationName: row.organisation_name
-				};
-				return { sub: String(row.id), iat: token.iat, exp: token.exp, jti: token.jti, sessionUser };
+				const row = await openSessionUser(Number(token.sub), token.sid);
+				if (!row) return null;
+				if (request) request.sessionId = token.sid;
+				const { iat, exp, jti, sid } = token;
+				return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
 			},
 			session({ session, token }) {
-				// An explicit object: the default would carry more of the user row to the browser.
+				// An explicit object: the default would carry more of the user row (or the session id) to the browser.
 				return { expires: session.expires, user: token.sessionUser } as never;
+			}
+		},
+		events: {
+			async signOut(message) {
+				const token = 'token' in message ? message.token : null;
+				const userId = Number(token?.sub);
+				if (!token?.sid || !SESSION_ID.test(token.sid) || !Number.isInteger(userId)) return;
+				await endUserSessions(db(), {
+					userId,
+					reason: 'signed out',
+					actorUserId: userId,
+					ip: currentRequest.getStore()?.ip,
+					only: token.sid
+				});
 			}
 		}
 	};
@@ -143,7 +199,89 @@ const auth = SvelteKitAuth(async () => {
 	return cachedConfig;
 });
 
-export const { handle: authHandle, signOut } = auth;
+/** Cookies set through SvelteKit get the same flags as those Auth.js sets on its own answers. */
+function withSessionCookieFlags(cookies: Cookies): Cookies {
+	const { secure, httpOnly, sameSite } = sessionCookiePolicy(config().ORIGIN);
+	return {
+		...cookies,
+		set: (name, value, options) => cookies.set(name, value, { ...options, secure, httpOnly, sameSite })
+	};
+}
+
+const HOST_HEADERS = ['host', 'x-forwarded-host', 'x-forwarded-proto', 'x-forwarded-port', 'forwarded'];
+
+/**
+ * The request as Auth.js may see it: on the configured origin whatever the Host and X-Forwarded-*
+ * headers say, since Auth.js builds its links and redirects from them. The body goes along only when
+ * asked, so the route behind the hook still reads its own.
+ */
+function atPublicOrigin(event: RequestEvent, body: 'none' | 'request' | URLSearchParams): RequestEvent {
+	const url = new URL(event.url.pathname + event.url.search, publicOrigin());
+	const headers = new Headers(event.request.headers);
+	for (const name of HOST_HEADERS) headers.delete(name);
+	headers.set('host', url.host);
+	let request: Request;
+	if (body === 'none') request = new Request(url, { headers });
+	else if (body === 'request') {
+		request = new Request(url, {
+			method: event.request.method,
+			headers,
+			body: event.request.body,
+			duplex: 'half'
+		} as RequestInit);
+	} else {
+		headers.set('content-type', 'application/x-www-form-urlencoded');
+		request = new Request(url, { method: 'POST', headers, body });
+	}
+	return { ...event, url, request, cookies: withSessionCookieFlags(event.cookies) };
+}
+
+function clientAddress(event: RequestEvent): string | null {
+	try {
+		return event.getClientAddress();
+	} catch {
+		return null;
+	}
+}
+
+const linkEndpointSchema = z.object({ email: emailAddress, callbackUrl: z.string().max(2000).nullish() });
+
+/**
+ * Auth.js's own e-mail sign-in endpoint, answered as the sign-in page answers: the same redirect for
+ * every address, the link sent in the background.
+ */
+async function linkFromAuthEndpoint(event: RequestEvent): Promise<Response> {
+	const form = await event.request.formData().catch(() => new FormData());
+	const parsed = linkEndpointSchema.safeParse({
+		email: form.get('email'),
+		callbackUrl: form.get('callbackUrl')
+	});
+	let location = `${publicOrigin()}/signin?error=EmailSignin`;
+	if (parsed.success) {
+		const throttle = await requestSignInLink(parsed.data.email, returnPath(parsed.data.callbackUrl));
+		location = throttle.blocked
+			? `${publicOrigin()}/signin?error=TooManyAttempts&wait=${throttle.retryAfterSeconds}`
+			: `${publicOrigin()}/signin/check-email`;
+	}
+	if (event.request.headers.has('x-auth-return-redirect')) return json({ url: location });
+	return new Response(null, { status: 302, headers: { location } });
+}
+
+/** Auth.js's hook: its endpoints, and locals.auth() for the hooks and routes after it. */
+export const authHandle: Handle = ({ event, resolve }) =>
+	currentRequest.run(
+		{ userAgent: event.request.headers.get('user-agent'), ip: clientAddress(event) },
+		async () => {
+			const { pathname } = event.url;
+			if (event.request.method === 'POST' && pathname === '/auth/signin/nodemailer') {
+				return linkFromAuthEndpoint(event);
+			}
+			return auth.handle({
+				event: atPublicOrigin(event, pathname.startsWith('/auth/') ? 'request' : 'none'),
+				resolve: (_, options) => resolve(event, options)
+			});
+		}
+	);
 
 /**
  * Hands a sign-in form's body to Auth.js. Called from a form action, Auth.js throws its errors instead
@@ -151,11 +289,27 @@ export const { handle: authHandle, signOut } = auth;
  */
 export async function signInFromForm(event: RequestEvent): Promise<void> {
 	try {
-		await auth.signIn(event);
+		await auth.signIn(atPublicOrigin(event, 'request'));
 	} catch (error) {
 		if (!(error instanceof AuthError)) throw error;
 		const params = new URLSearchParams({ error: error.type ?? 'Default' });
 		if (error instanceof CredentialsSignin) params.set('code', error.code);
 		redirect(303, `/signin?${params}`);
 	}
+}
+
+/** Signs out: this session ends for good (a copy of its cookie no longer works) and the cookie is cleared. */
+export async function signOut(event: RequestEvent): Promise<void> {
+	await auth.signOut(atPublicOrigin(event, 'request'));
+}
+
+/** Ends every session of the signed-in user, this one included, then clears this browser's cookie. */
+export async function signOutEverywhere(event: RequestEvent, user: SessionUser): Promise<void> {
+	await endUserSessions(db(), {
+		userId: user.id,
+		reason: 'signed out everywhere',
+		actorUserId: user.id,
+		ip: clientAddress(event)
+	});
+	await auth.signOut(atPublicOrigin(event, new URLSearchParams({ redirectTo: '/signin?signedOut=1' })));
 }

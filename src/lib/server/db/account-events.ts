@@ -4,7 +4,12 @@ export interface AccountEvent {
 	actorUserId: number | null;
 	subjectUserId: number | null;
 	action:
-		'user.invited' | 'user.role_changed' | 'user.deactivated' | 'user.reactivated' | 'user.password_set';
+		| 'user.invited'
+		| 'user.role_changed'
+		| 'user.deactivated'
+		| 'user.reactivated'
+		| 'user.password_set'
+		| 'user.sessions_ended';
 	detail?: Record<string, unknown>;
 	ip?: string | null;
 }

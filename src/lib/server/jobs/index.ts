@@ -8,7 +8,8 @@ export const QUEUES = {
 	closeEvent: 'event-close',
 	mail: 'mail',
 	awardRun: 'award-run',
-	notice: 'notice'
+	notice: 'notice',
+	signInLink: 'sign-in-link'
 } as const;
 
 let boss: PgBoss | undefined;

@@ -1,3 +1,4 @@
+import { sendSignInLink, type SignInLinkJob } from '../auth/sign-in-links';
 import { sendMail, type OutgoingMail } from '../mail';
 import { closeIfDue } from '../services/events';
 import { jobs, QUEUES, type CloseEventJob } from '.';
@@ -25,6 +26,14 @@ export async function startWorkers(options: { awardRuns?: boolean } = {}): Promi
 			if (job) await runAward(job.data.runId);
 		});
 	}
+	// People wait for these: polled often and taken a few at a time (a retried batch may send a link twice).
+	await queue.work<SignInLinkJob>(
+		QUEUES.signInLink,
+		{ batchSize: 5, pollingIntervalSeconds: 0.5 },
+		async (batch) => {
+			for (const job of batch) await sendSignInLink(job.data);
+		}
+	);
 	await queue.work<CloseEventJob>(QUEUES.closeEvent, async ([job]) => {
 		if (job) await closeIfDue(job.data.eventId, 'deadline job');
 	});

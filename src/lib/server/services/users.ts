@@ -2,6 +2,7 @@
 import { isStaff, roleNames, type Role } from '$lib/roles';
 import { createSignInLink } from '../auth/sign-in-links';
 import { hashPassword, passwordProblems, verifyPassword } from '../auth/passwords';
+import { endUserSessions } from '../auth/sessions';
 import type { SessionUser } from '../auth/session-user';
 import { recordAccountEvent } from '../db/account-events';
 import { db } from '../db/knex';
@@ -30,6 +31,8 @@ export const INVITATION_HOURS = 72;
 export interface RequestContext {
 	origin: string;
 	ip: string | null;
+	/** The session the request was made in, when known (a password change keeps only that one). */
+	sessionId?: string | null;
 }
 
 export interface Invitation {
@@ -45,14 +48,9 @@ export interface InvitationResult {
 	mailed: boolean;
 }
 
-async function mailInvitation(
-	actor: SessionUser,
-	user: UserWithOrganisation,
-	context: RequestContext
-): Promise<boolean> {
+async function mailInvitation(actor: SessionUser, user: UserWithOrganisation): Promise<boolean> {
 	const link = await createSignInLink(db(), {
 		email: user.email,
-		origin: context.origin,
 		callbackPath: '/',
 		validForHours: INVITATION_HOURS
 	});
@@ -138,19 +136,19 @@ export async function inviteUser(
 		});
 		return (await findUserById(trx, row.id))!;
 	});
-	return { user: created, mailed: await mailInvitation(actor, created, context) };
+	return { user: created, mailed: await mailInvitation(actor, created) };
 }
 
 export async function resendInvitation(
 	actor: SessionUser,
 	userId: number,
-	context: RequestContext
+	_context: RequestContext
 ): Promise<boolean> {
 	const user = await findManagedUser(db(), actor.organisationId, userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
 	if (user.deactivated_at)
 		throw new RuleViolation(`${user.email} is deactivated: reactivate the account first.`);
-	return mailInvitation(actor, user, context);
+	return mailInvitation(actor, user);
 }
 
 async function targetOf(actor: SessionUser, userId: number): Promise<UserWithOrganisation> {
@@ -193,6 +191,12 @@ export async function changeRole(
 			detail: { from: user.role, to: role },
 			ip: context.ip
 		});
+		await endUserSessions(trx, {
+			userId: user.id,
+			reason: 'role changed',
+			actorUserId: actor.id,
+			ip: context.ip
+		});
 	});
 }
 
@@ -210,6 +214,13 @@ export async function setActive(
 			actorUserId: actor.id,
 			subjectUserId: user.id,
 			action: active ? 'user.reactivated' : 'user.deactivated',
+			ip: context.ip
+		});
+		// Reactivation too: an account comes back with no session, never with its old ones.
+		await endUserSessions(trx, {
+			userId: user.id,
+			reason: active ? 'reactivated' : 'deactivated',
+			actorUserId: actor.id,
 			ip: context.ip
 		});
 	});
@@ -243,6 +254,13 @@ export async function setOwnPassword(
 			subjectUserId: user.id,
 			action: 'user.password_set',
 			ip: context.ip
+		});
+		await endUserSessions(trx, {
+			userId: user.id,
+			reason: 'password changed',
+			actorUserId: actor.id,
+			ip: context.ip,
+			except: context.sessionId
 		});
 	});
 }
