@@ -6,7 +6,7 @@ import { closeDb } from '$lib/server/db/knex';
 import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import type { SessionUser } from '$lib/server/auth/session-user';
-import { config } from '$lib/server/config';
+import { config, publicOrigin } from '$lib/server/config';
 import { fallbackCsp, hookError, jsonError, newErrorId, securityHeaders } from '$lib/server/http';
 import errorPage from './error.html?raw';
 import { stopJobs } from '$lib/server/jobs';
@@ -27,12 +27,6 @@ export const init: ServerInit = async () => {
 	// Reads and checks the settings now, so a server with the local fakes in production never starts.
 	config();
 	if (process.env.RUN_WORKERS !== 'false') await startWorkers();
-};
-
-/** The configured public origin; under `vite dev` without ORIGIN, the address the server answers at. */
-const publicOrigin = (url: URL) => {
-	const configured = config().ORIGIN;
-	return configured ? new URL(configured).origin : url.origin;
 };
 
 const escapeHtml = (text: string) => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
@@ -64,7 +58,7 @@ const secureHeaders: Handle = async ({ event, resolve }) => {
 		response = answer;
 	}
 	const headers = {
-		...securityHeaders(publicOrigin(event.url).startsWith('https:')),
+		...securityHeaders(publicOrigin().startsWith('https:')),
 		...(response.headers.has('content-security-policy') ? {} : { 'content-security-policy': fallbackCsp })
 	};
 	try {
@@ -88,7 +82,7 @@ const sameOriginWrites: Handle = async ({ event, resolve }) => {
 	if (READS.has(event.request.method)) return resolve(event);
 	const origin = event.request.headers.get('origin');
 	const fetchSite = event.request.headers.get('sec-fetch-site');
-	const allowed = origin === null ? fetchSite === 'same-origin' : origin === publicOrigin(event.url);
+	const allowed = origin === null ? fetchSite === 'same-origin' : origin === publicOrigin();
 	if (allowed) return resolve(event);
 	const { pathname } = event.url;
 	const message = 'This request came from another site and was refused.';

@@ -478,10 +478,14 @@ describe('setting up an event', () => {
 			deadlineLocal: local
 		});
 		expect(response.status).toBeLessThan(400);
+		const head = await testDb()('trail_entries').where({ event_id: open.id }).orderBy('seq', 'desc').first();
+		expect(head.action).toBe('amendment 1');
 		for (const who of [one, two]) {
 			const mail = await latestMailTo(who.user.email, { after: sentAfter, timeoutMs: 15_000 });
 			expect(mail.subject).toMatch(/Amendment 1/);
 			expect(mail.text).toContain('New depot, Test town');
+			// The notice carries the trail's head, so the chain is anchored outside the database.
+			expect(mail.text).toContain(`entry ${head.seq}, SHA-256 ${String(head.hash).trim()}`);
 		}
 		const [amendment] = await testDb()('amendments').where({ event_id: open.id });
 		expect(amendment.detail.deliveryPlace).toEqual({ before: 'Test town', after: 'New depot, Test town' });

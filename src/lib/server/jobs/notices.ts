@@ -7,7 +7,7 @@ import { findEvent } from '../db/events';
 import { db } from '../db/knex';
 import { sendMail } from '../mail';
 import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/templates';
-import { config } from '../config';
+import { publicOrigin } from '../config';
 import type { RunRow } from '../services/awards';
 import { mailContext } from '../services/events';
 import { neutralise } from '../sheets/bid-sheet';
@@ -43,7 +43,7 @@ export async function sendNotice(noticeId: string): Promise<void> {
 		.whereNull('deactivated_at')
 		.select('email');
 	const context = {
-		...mailContext(event!, config().ORIGIN ?? 'http://127.0.0.1:3000', buyer?.name ?? 'The buyer'),
+		...mailContext(event!, publicOrigin(), buyer?.name ?? 'The buyer'),
 		currency: event!.currency,
 		trailHead: await trailHead(db(), notice.event_id)
 	};

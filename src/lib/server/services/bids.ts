@@ -32,9 +32,9 @@ import {
 import { readBidFile } from '../sheets/read-bid-file';
 import { checkUploadQuota, countSupplierUpload } from '../sheets/upload-limits';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
-import { appendTrail, trailHead } from '../trail';
+import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
-import { effectiveState, eventFor, mailContext, sheetEvent } from './events';
+import { effectiveState, eventFor, eventMail, sheetEvent } from './events';
 import type { RequestContext } from './users';
 import { formatInZone } from '$lib/time';
 
@@ -195,7 +195,7 @@ async function mailReceipt(
 	detail: { fileName: string | null; sha256: string | null; lines: number }
 ): Promise<void> {
 	// The receipt carries the trail's head, so the supplier keeps it outside the database.
-	const mail = { ...mailContext(event, context.origin, ''), trailHead: await trailHead(db(), event.id) };
+	const mail = await eventMail(event, context.origin, '');
 	await enqueueMail([
 		bidReceiptMail(actor.email, mail, {
 			revision: revision.number,
@@ -288,7 +288,11 @@ export async function withdraw(
 		return revision;
 	});
 	await enqueueMail([
-		withdrawalMail(actor.email, mailContext(event, context.origin, ''), revision.submitted_at.toISOString())
+		withdrawalMail(
+			actor.email,
+			await eventMail(event, context.origin, ''),
+			revision.submitted_at.toISOString()
+		)
 	]);
 	return revision;
 }

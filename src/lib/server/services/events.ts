@@ -42,7 +42,7 @@ import {
 } from '../mail/templates';
 import type { SheetEvent } from '../sheets/bid-sheet';
 import { COMMITMENT_SCHEME } from '../storage/sealed-files';
-import { appendTrail, canonicalJson, sha256 } from '../trail';
+import { appendTrail, canonicalJson, sha256, trailHead } from '../trail';
 import { RuleViolation } from './errors';
 import { inviteUser, type RequestContext } from './users';
 import { formatInZone } from '$lib/time';
@@ -197,6 +197,15 @@ export function mailContext(event: EventRow, origin: string, buyerName: string):
 	};
 }
 
+/** The mail context with the trail's head at this moment: every mail then anchors the chain outside the database. */
+export async function eventMail(
+	event: EventRow,
+	origin: string,
+	buyerName: string
+): Promise<EventMailContext> {
+	return { ...mailContext(event, origin, buyerName), trailHead: await trailHead(db(), event.id) };
+}
+
 async function buyerName(event: EventRow): Promise<string> {
 	return (await findOrganisation(db(), event.organisation_id))?.name ?? 'The buyer';
 }
@@ -235,7 +244,7 @@ export async function publish(
 	});
 	await scheduleEventClose(id, published.event.deadline);
 	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = mailContext(published.event, context.origin, await buyerName(published.event));
+	const mail = await eventMail(published.event, context.origin, await buyerName(published.event));
 	await enqueueMail(recipients.map((r) => eventInvitationMail(r.email, mail)));
 	return { invited: published.invited, mailed: recipients.length };
 }
@@ -294,7 +303,7 @@ export async function inviteSupplier(
 		return inserted;
 	});
 	if (added && event.state === 'open') {
-		const mail = mailContext(event, context.origin, await buyerName(event));
+		const mail = await eventMail(event, context.origin, await buyerName(event));
 		const users = (await invitedSupplierUsers(db(), id)).filter((u) => u.organisation_id === organisationId);
 		await enqueueMail(users.map((u) => eventInvitationMail(u.email, mail)));
 	}
@@ -415,7 +424,7 @@ export async function amend(
 	});
 	await scheduleEventClose(id, event.deadline);
 	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = mailContext(event, context.origin, await buyerName(event));
+	const mail = await eventMail(event, context.origin, await buyerName(event));
 	await enqueueMail(
 		recipients.map((r) =>
 			amendmentMail(r.email, mail, { number: amendment.number, summary: amendment.summary, changes })
@@ -460,7 +469,7 @@ export async function answer(
 		});
 	});
 	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = mailContext(event, context.origin, await buyerName(event));
+	const mail = await eventMail(event, context.origin, await buyerName(event));
 	await enqueueMail(
 		recipients.map((r) =>
 			clarificationMail(r.email, mail, { question: request.publishedQuestion, answer: request.answer })
