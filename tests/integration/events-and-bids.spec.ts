@@ -190,7 +190,11 @@ describe('the access matrix of event and bid routes (before the deadline)', () =
 			answer: 'No: quote per unit (C62).'
 		});
 		expect(response.status).toBeLessThan(400);
-		const mail = await latestMailTo(cast.a.user.email, { after: sentAfter, timeoutMs: 15_000 });
+		const mail = await latestMailTo(cast.a.user.email, {
+			after: sentAfter,
+			timeoutMs: 15_000,
+			subject: /Clarification/
+		});
 		expect(mail.subject).toMatch(/Clarification/);
 		expect(mail.text).toContain('May we quote in pallets?');
 		expect(mail.text).not.toContain(cast.b.name);

@@ -17,14 +17,19 @@ export async function mailTo(address: string): Promise<FakeMail[]> {
 	return (await response.json()) as FakeMail[];
 }
 
-/** Waits for the newest message to an address (received after a moment, when given). */
+/**
+ * Waits for the newest message to an address (received after a moment, and with a matching subject, when
+ * given): mail goes through a queue, so a receipt sent earlier may arrive after the moment.
+ */
 export async function latestMailTo(
 	address: string,
-	options: { after?: Date; timeoutMs?: number } = {}
+	options: { after?: Date; timeoutMs?: number; subject?: RegExp } = {}
 ): Promise<FakeMail> {
 	const deadline = Date.now() + (options.timeoutMs ?? 10_000);
 	while (Date.now() < deadline) {
-		const [newest] = await mailTo(address);
+		const [newest] = (await mailTo(address)).filter(
+			(m) => !options.subject || options.subject.test(m.subject)
+		);
 		if (newest && (!options.after || new Date(newest.receivedAt) >= options.after)) return newest;
 		await new Promise((r) => setTimeout(r, 150));
 	}
