@@ -52,8 +52,18 @@ describe('signing in with a browser', () => {
 		await page.getByRole('button', { name: 'Show' }).click();
 		await page.waitForURL(/\/dev\/mailbox\?to=/);
 		await expectAccessible('local mailbox');
+		// The link is mailed by a background job, so it can arrive after the mailbox page was rendered:
+		// reload the page until it is there (the page itself does not refresh).
 		const message = page.getByTestId('mail-message').first();
-		await expect.poll(() => message.textContent()).toContain('Your Tenderloom sign-in link');
+		await expect
+			.poll(
+				async () => {
+					if ((await message.count()) === 0) await page.reload();
+					return (await message.count()) > 0 ? message.textContent() : '';
+				},
+				{ timeout: 30_000, intervals: [500, 1000, 2000] }
+			)
+			.toContain('Your Tenderloom sign-in link');
 		await message.getByRole('link').first().click();
 
 		await page.waitForURL('**/supplier');
