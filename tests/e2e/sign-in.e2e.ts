@@ -61,7 +61,7 @@ describe('signing in with a browser', () => {
 					if ((await message.count()) === 0) await page.reload();
 					return (await message.count()) > 0 ? message.textContent() : '';
 				},
-				{ timeout: 30_000, intervals: [500, 1000, 2000] }
+				{ timeout: 30_000, interval: 1_000 }
 			)
 			.toContain('Your Tenderloom sign-in link');
 		await message.getByRole('link').first().click();

@@ -1,4 +1,6 @@
 // Row types of the tables, as the database returns them.
+import type { AwardResult } from '$lib/award/engine';
+import type { AwardProblem, AwardRule } from '$lib/award/problem';
 import type { Role } from '$lib/roles';
 
 export type OrganisationKind = 'buyer' | 'supplier';
@@ -33,4 +35,70 @@ export interface AccountEventRow {
 	action: string;
 	detail: Record<string, unknown>;
 	ip: string | null;
+}
+
+export interface PlanRow {
+	id: string;
+	event_id: string;
+	name: string;
+	rules: AwardRule[];
+	lowest_cost: boolean;
+	created_by: number | null;
+	created_at: Date;
+	updated_at: Date;
+}
+
+export type RunStatus = 'queued' | 'running' | 'done' | 'failed' | 'cancelled';
+
+export interface RunRow {
+	id: string;
+	event_id: string;
+	plan_id: string;
+	number: number;
+	plan_name: string;
+	status: RunStatus;
+	cancel_requested: boolean;
+	problem: AwardProblem;
+	problem_sha256: string;
+	/** The engine's result, as stored when the run finished (null until then). */
+	result: AwardResult | null;
+	result_sha256: string | null;
+	solver_version: string | null;
+	options: Record<string, unknown>;
+	error: string | null;
+	attempts: number;
+	created_by: number;
+	queued_at: Date;
+	started_at: Date | null;
+	finished_at: Date | null;
+}
+
+export interface SignoffRow {
+	id: string;
+	event_id: string;
+	run_id: string;
+	submitted_by: number;
+	submitted_at: Date;
+	bound_hash: string;
+	decision: 'approve' | 'return' | null;
+	decided_by: number | null;
+	decided_at: Date | null;
+	comment: string | null;
+	superseded_at: Date | null;
+	superseded_reason: string | null;
+}
+
+export interface NoticeRow {
+	id: string;
+	event_id: string;
+	run_id: string;
+	supplier_organisation_id: string;
+	kind: 'award' | 'regret';
+	status: 'queued' | 'sent';
+	queued_at: Date;
+	sent_at: Date | null;
+	/** A date column: pg returns a Date at local midnight, or the text when the type parser is set. */
+	standstill_ends_on: Date | string;
+	attempts: number;
+	last_error: string | null;
 }

@@ -9,42 +9,13 @@ import { now } from '../clock';
 import { visibleBids } from '../db/bids';
 import { listInvitations, listItems, lockEvent, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
+import type { PlanRow, RunRow, SignoffRow } from '../db/tables';
 import { jobs, QUEUES } from '../jobs';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor } from './events';
 
-export interface PlanRow {
-	id: string;
-	event_id: string;
-	name: string;
-	rules: AwardRule[];
-	lowest_cost: boolean;
-	created_at: Date;
-	updated_at: Date;
-}
-
-export interface RunRow {
-	id: string;
-	event_id: string;
-	plan_id: string;
-	number: number;
-	plan_name: string;
-	status: 'queued' | 'running' | 'done' | 'failed' | 'cancelled';
-	cancel_requested: boolean;
-	problem: AwardProblem;
-	problem_sha256: string;
-	result: Record<string, unknown> | null;
-	result_sha256: string | null;
-	solver_version: string | null;
-	options: Record<string, unknown>;
-	error: string | null;
-	attempts: number;
-	created_by: number;
-	queued_at: Date;
-	started_at: Date | null;
-	finished_at: Date | null;
-}
+export type { PlanRow, RunRow, SignoffRow };
 
 export const LOWEST_COST = 'Lowest cost (no rules)';
 
@@ -321,21 +292,6 @@ export async function cancelRun(user: SessionUser, runId: string, eventId?: stri
 			detail: { run: run.id, number: run.number }
 		});
 	});
-}
-
-export interface SignoffRow {
-	id: string;
-	event_id: string;
-	run_id: string;
-	submitted_by: number;
-	submitted_at: Date;
-	bound_hash: string;
-	decision: 'approve' | 'return' | null;
-	decided_by: number | null;
-	decided_at: Date | null;
-	comment: string | null;
-	superseded_at: Date | null;
-	superseded_reason: string | null;
 }
 
 const boundHash = (run: Pick<RunRow, 'problem_sha256' | 'result_sha256'>) =>
