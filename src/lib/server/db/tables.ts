@@ -71,6 +71,12 @@ export interface RunRow {
 	queued_at: Date;
 	started_at: Date | null;
 	finished_at: Date | null;
+	/** Set by the worker that owns a running run, every few seconds; a stale one means the worker died. */
+	heartbeat_at: Date | null;
+	/** Rule costs, conflicts and sensitivity: worked out after the allocation, by their own job. */
+	explanation: Pick<AwardResult, 'ruleCosts' | 'conflicts' | 'sensitivity'> | null;
+	explanation_status: 'pending' | 'running' | 'done' | 'failed' | 'not_needed';
+	explanation_error: string | null;
 }
 
 export interface SignoffRow {
