@@ -13,7 +13,12 @@ export function api(work: (user: SessionUser, event: RequestEvent) => Promise<Re
 			return result instanceof Response ? result : json(result);
 		} catch (error) {
 			if (error instanceof RuleViolation)
-				return jsonError(error.status, error.message, { path: event.url.pathname, userId: user.id });
+				return jsonError(
+					error.status,
+					error.message,
+					{ path: event.url.pathname, userId: user.id },
+					error.field ? { field: error.field } : {}
+				);
 			throw error;
 		}
 	};

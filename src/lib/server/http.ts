@@ -21,10 +21,15 @@ export function hookError(status: number, message: string, context: Record<strin
 }
 
 /** The same, as a JSON response, for hooks and API routes that answer without throwing. */
-export function jsonError(status: number, message: string, context: Record<string, unknown> = {}): Response {
+export function jsonError(
+	status: number,
+	message: string,
+	context: Record<string, unknown> = {},
+	body: { field?: string } = {}
+): Response {
 	const errorId = newErrorId();
 	console.warn(JSON.stringify({ level: 'warn', errorId, status, message, ...context }));
-	return json({ message, errorId }, { status });
+	return json({ message, errorId, ...body }, { status });
 }
 
 /**

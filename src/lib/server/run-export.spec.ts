@@ -1,7 +1,6 @@
 import ExcelJS from 'exceljs';
 import { describe, expect, it } from 'vitest';
-import { compareRuns, runWorkbook } from './run-export';
-import type { RunJson } from './services/awards';
+import { compareRuns, runWorkbook, type ExportedRun } from './run-export';
 
 const run = (
 	id: string,
@@ -29,7 +28,7 @@ const run = (
 			supplierTotals: [],
 			ruleCosts: [{ rule: 0, label: 'r', cost: 12, cumulativeCost: 12 }]
 		}
-	}) as unknown as RunJson;
+	}) as unknown as ExportedRun;
 
 describe('runs side by side and as a workbook', () => {
 	it('counts suppliers and split items and lists only the items allocated differently', () => {

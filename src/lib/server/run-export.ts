@@ -1,30 +1,25 @@
 // A run as a workbook for the file: summary, allocation, supplier totals and rule costs. Every text cell
 // from data is neutralised, so a spreadsheet never reads a supplier's or item's name as a formula.
 import ExcelJS from 'exceljs';
-import type { RunJson } from './services/awards';
+import type { AwardResult } from '$lib/award/engine';
 import { neutralise } from './sheets/bid-sheet';
 
-interface Result {
+/** What a workbook or a comparison needs of a run: the shape services/award-views' runJson returns. */
+export interface ExportedRun {
+	id: string;
+	number: number;
+	plan: string;
 	status: string;
-	method: string;
-	totalCost: number | null;
-	baselineCost: number | null;
-	savings: number | null;
-	gap: number | null;
-	awards: {
-		supplier: string;
-		item: string;
-		quantity: number;
-		unitPrice: number;
-		cost: number;
-		bundle?: string;
-	}[];
-	supplierTotals: { supplier: string; quantity: number; cost: number; items: number }[];
-	ruleCosts?: { rule: number; label: string; cost: number | null; cumulativeCost: number | null }[];
+	currency: string;
+	problemSha256: string;
+	resultSha256: string | null;
+	solverVersion: string | null;
+	rules: { index: number; text: string }[];
+	result: AwardResult | null;
 }
 
-export async function runWorkbook(reference: string, run: RunJson): Promise<Buffer> {
-	const result = run.result as Result | null;
+export async function runWorkbook(reference: string, run: ExportedRun): Promise<Buffer> {
+	const result = run.result;
 	const workbook = new ExcelJS.Workbook();
 	workbook.creator = 'Tenderloom';
 	const summary = workbook.addWorksheet('Summary');
@@ -84,9 +79,9 @@ export async function runWorkbook(reference: string, run: RunJson): Promise<Buff
 }
 
 /** Two to four runs side by side, and the items whose allocation differs between them. */
-export function compareRuns(runs: RunJson[]) {
+export function compareRuns(runs: ExportedRun[]) {
 	const summaries = runs.map((run) => {
-		const result = run.result as Result | null;
+		const result = run.result;
 		const byItem = new Map<string, Map<string, number>>();
 		for (const l of result?.awards ?? []) {
 			const split = byItem.get(l.item) ?? new Map<string, number>();

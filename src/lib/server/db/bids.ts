@@ -1,7 +1,7 @@
 // Uploads and sealed bids. Rows with prices (bid lines, price breaks, bundle offers) are read only
 // through the database function visible_bid_revisions(event, viewer organisation, now): a supplier sees
 // its own, the buying organisation sees every bid once the deadline has passed, and nobody else anything.
-import type { ParsedBid, SheetProblem } from '../sheets/bid-sheet';
+import type { ParsedBid, SheetProblem } from '../shapes';
 import type { Db } from './knex';
 
 export interface UploadRow {

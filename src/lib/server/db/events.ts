@@ -1,6 +1,7 @@
 // Sourcing events and what belongs to them before bids: lots, items, invitations, amendments and
 // clarification questions. Prices are not here: bids are read only through db/bids.ts and its seal.
 import type { Db } from './knex';
+import type { ItemFields } from '../shapes';
 
 export type EventState =
 	'draft' | 'open' | 'closed' | 'in_evaluation' | 'awaiting_signoff' | 'awarded' | 'cancelled';
@@ -60,16 +61,7 @@ export interface EventFields {
 	allowBundles: boolean;
 }
 
-export interface ItemFields {
-	ref: string;
-	description: string;
-	lot: string | null;
-	quantity: number;
-	unit: string;
-	baselineUnitPrice: number | null;
-	freightPerUnit: number | null;
-	dutyPerUnit: number | null;
-}
+export type { ItemFields };
 
 const columnsOf = (f: EventFields) => ({
 	reference: f.reference,
@@ -202,11 +194,22 @@ export function setEventState(
 	db: Db,
 	id: string,
 	state: EventState,
-	extra: Partial<Pick<EventRow, 'published_at' | 'opened_at' | 'opening_record'>> = {}
+	extra: Partial<Pick<EventRow, 'published_at' | 'opened_at' | 'opening_record' | 'awarded_run_id'>> = {}
 ): Promise<number> {
 	return db('events')
 		.where({ id })
 		.update({ state, ...extra, updated_at: db.fn.now() });
+}
+
+/** What the opening record counts: the suppliers with a bid revision, and the revisions. */
+export async function bidCounts(db: Db, eventId: string): Promise<{ suppliers: number; revisions: number }> {
+	const [row] = await db('bid_revisions')
+		.where({ event_id: eventId })
+		.select(
+			db.raw('count(distinct supplier_organisation_id)::int as suppliers'),
+			db.raw('count(*)::int as revisions')
+		);
+	return row as { suppliers: number; revisions: number };
 }
 
 export interface InvitationRow {
@@ -362,6 +365,11 @@ export async function insertQuestion(
 		.insert({ event_id: eventId, supplier_organisation_id: supplierOrganisationId, asked_by: askedBy, text })
 		.returning('*');
 	return row!;
+}
+
+/** One question of an event, locked until the transaction ends (two answers to it then queue). */
+export function lockQuestion(db: Db, eventId: string, id: string): Promise<QuestionRow | undefined> {
+	return db<QuestionRow>('questions').where({ event_id: eventId, id }).forUpdate().first();
 }
 
 export async function answerQuestion(

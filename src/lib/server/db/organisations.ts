@@ -74,3 +74,26 @@ export async function insertOrganisation(
 	const [row] = await db<OrganisationRow>('organisations').insert({ name, kind }).returning('*');
 	return row!;
 }
+
+/** The organisation's standstill when it set none: the one place the default lives. */
+export const DEFAULT_STANDSTILL_DAYS = 10;
+
+/** The organisation's standstill, in calendar days after an award notice is dispatched. */
+export async function standstillDays(db: Db, id: string): Promise<number> {
+	const row = await db('organisations').where({ id }).first('standstill_days');
+	return (row?.standstill_days as number | null | undefined) ?? DEFAULT_STANDSTILL_DAYS;
+}
+
+export async function setStandstillDays(db: Db, id: string, days: number): Promise<void> {
+	await db('organisations').where({ id }).update({ standstill_days: days });
+}
+
+/** Whether the database answers at all (the health check). */
+export async function databaseAnswers(db: Db): Promise<boolean> {
+	try {
+		await db.raw('select 1');
+		return true;
+	} catch {
+		return false;
+	}
+}

@@ -9,7 +9,8 @@ import { SolveCancelled, SolverPool } from '$lib/award/pool';
 import { parseProblem } from '$lib/award/problem';
 import { now } from '../clock';
 import { db } from '../db/knex';
-import { RUN_OPTIONS, type RunRow } from '../services/awards';
+import type { RunRow } from '../db/tables';
+import { RUN_OPTIONS } from '../services/award-runs';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 
 let pool: SolverPool | undefined;

@@ -8,7 +8,7 @@ import { db } from '../db/knex';
 import { sendMail } from '../mail';
 import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/templates';
 import { publicOrigin } from '../config';
-import type { RunRow } from '../services/awards';
+import type { RunRow } from '../db/tables';
 import { mailContext } from '../services/events';
 import { neutralise } from '../sheets/bid-sheet';
 import { appendTrail, trailHead } from '../trail';

@@ -4,6 +4,7 @@
 import PgBoss from 'pg-boss';
 import { config } from '../config';
 import type { Db } from '../db/knex';
+import type { OutgoingMail } from '../mail';
 
 export const QUEUES = {
 	closeEvent: 'event-close',
@@ -90,4 +91,32 @@ export async function sendJob<T extends object>(
 ): Promise<string | null> {
 	const instance = await jobs();
 	return instance.send(queue, data, { ...options, db: jobDb(trx) });
+}
+
+/** Mail through the queue, inside the caller's transaction: retried with backoff while the relay is down. */
+export async function enqueueMail(trx: Db, mails: OutgoingMail[]): Promise<void> {
+	// One after the other: a transaction's connection runs one statement at a time.
+	for (const mail of mails)
+		await sendJob(
+			trx,
+			QUEUES.mail,
+			{
+				...mail,
+				attachments: mail.attachments?.map((a) => ({ ...a, content: a.content.toString('base64') }))
+			},
+			{ retryLimit: 10, retryDelay: 5, retryBackoff: true }
+		);
+}
+
+export interface CloseEventJob {
+	eventId: string;
+}
+
+/** The job that closes an event at its deadline, inside the transaction that set the deadline. */
+export async function scheduleEventClose(trx: Db, eventId: string, deadline: Date): Promise<void> {
+	await sendJob(trx, QUEUES.closeEvent, { eventId } satisfies CloseEventJob, {
+		startAfter: deadline,
+		singletonKey: `close-${eventId}-${deadline.toISOString()}`,
+		retryLimit: 5
+	});
 }

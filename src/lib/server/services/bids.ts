@@ -19,8 +19,8 @@ import {
 	type VisibleBid
 } from '../db/bids';
 import { listItems, lockEvent, type EventRow } from '../db/events';
-import { db } from '../db/knex';
-import { enqueueMail } from '../jobs';
+import { db, type Db } from '../db/knex';
+import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
 import {
 	buildBidCsv,
@@ -177,17 +177,19 @@ export async function submitUpload(
 			detail: { supplier: actor.organisationName, revision: revision.number, upload: upload.id, commitment },
 			at
 		});
+		await mailReceipt(trx, actor, event, revision, context, {
+			fileName: upload.file_name,
+			sha256,
+			lines: accepted.lines.length
+		});
 		return { revision, upload };
-	});
-	await mailReceipt(actor, event, revision, context, {
-		fileName: upload.file_name,
-		sha256,
-		lines: accepted.lines.length
 	});
 	return { ok: true, revision, upload, sha256 };
 }
 
+/** The receipt, queued in the transaction that records the bid. */
 async function mailReceipt(
+	trx: Db,
 	actor: SessionUser,
 	event: EventRow,
 	revision: RevisionRow,
@@ -195,8 +197,8 @@ async function mailReceipt(
 	detail: { fileName: string | null; sha256: string | null; lines: number }
 ): Promise<void> {
 	// The receipt carries the trail's head, so the supplier keeps it outside the database.
-	const mail = await eventMail(event, context.origin, '');
-	await enqueueMail([
+	const mail = await eventMail(trx, event, context.origin, '');
+	await enqueueMail(trx, [
 		bidReceiptMail(actor.email, mail, {
 			revision: revision.number,
 			receivedAt: revision.submitted_at.toISOString(),
@@ -245,12 +247,12 @@ export async function submitScreen(
 			detail: { supplier: actor.organisationName, revision: revision.number },
 			at
 		});
+		await mailReceipt(trx, actor, event, revision, context, {
+			fileName: null,
+			sha256: null,
+			lines: parsed.bid.lines.length
+		});
 		return revision;
-	});
-	await mailReceipt(actor, event, revision, context, {
-		fileName: null,
-		sha256: null,
-		lines: parsed.bid.lines.length
 	});
 	return { ok: true, revision, upload: null, sha256: null };
 }
@@ -285,15 +287,15 @@ export async function withdraw(
 			detail: { supplier: actor.organisationName, revision: revision.number },
 			at
 		});
+		await enqueueMail(trx, [
+			withdrawalMail(
+				actor.email,
+				await eventMail(trx, event, context.origin, ''),
+				revision.submitted_at.toISOString()
+			)
+		]);
 		return revision;
 	});
-	await enqueueMail([
-		withdrawalMail(
-			actor.email,
-			await eventMail(event, context.origin, ''),
-			revision.submitted_at.toISOString()
-		)
-	]);
 	return revision;
 }
 

@@ -16,7 +16,9 @@ import {
 } from '../db/events';
 import { db } from '../db/knex';
 import { now } from '../clock';
-import { effectiveState, eventFor } from './events';
+import type { SheetEvent } from '../sheets/bid-sheet';
+import { RuleViolation } from './errors';
+import { effectiveState, eventFor, sheetEvent } from './events';
 
 export function eventJson(event: EventRow) {
 	return {
@@ -72,6 +74,26 @@ export async function itemsFor(user: SessionUser, id: string): Promise<ItemJson[
 	const { view } = await eventFor(user, id);
 	const items = (await listItems(db(), id)).map(itemJson);
 	return view === 'staff' ? items : items.map((i) => ({ ...i, baselineUnitPrice: null }));
+}
+
+/** The event as its bid sheet describes it (terms and items), for whoever may see the event. */
+export async function eventSheet(user: SessionUser, id: string): Promise<SheetEvent> {
+	const { event } = await eventFor(user, id);
+	return sheetEvent(event, await listItems(db(), id));
+}
+
+/** What an award plan's rules may name: the items, lots, invited suppliers and their tags. */
+export async function planRefs(user: SessionUser, id: string) {
+	const { view } = await eventFor(user, id);
+	if (view !== 'staff')
+		throw new RuleViolation('Award plans are for the buying organisation.', undefined, 403);
+	const [items, invitations] = await Promise.all([listItems(db(), id), listInvitations(db(), id)]);
+	return {
+		items: items.map((i) => i.ref),
+		lots: [...new Set(items.map((i) => i.lot_ref).filter((l): l is string => Boolean(l)))],
+		suppliers: invitations.map((i) => i.supplier_name),
+		tags: [...new Set(invitations.flatMap((i) => i.tags))].sort()
+	};
 }
 
 export async function eventDetail(user: SessionUser, id: string) {

@@ -6,6 +6,7 @@ import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import {
 	answerQuestion,
+	bidCounts,
 	deleteInvitation,
 	findEvent,
 	insertAmendment,
@@ -16,8 +17,8 @@ import {
 	isInvited,
 	listInvitations,
 	listItems,
-	listQuestions,
 	lockEvent,
+	lockQuestion,
 	findEventByReference,
 	replaceItems,
 	setInvitationTags,
@@ -29,11 +30,12 @@ import {
 	type EventState,
 	type ItemRow
 } from '../db/events';
+import { ensureLowestCostPlan } from '../db/awards';
 import { listUploadCommitments } from '../db/bids';
 import { db, type Db } from '../db/knex';
 import { findOrganisation } from '../db/organisations';
 import { findUserByEmail } from '../db/users';
-import { enqueueMail, scheduleEventClose } from '../jobs';
+import { enqueueMail, scheduleEventClose } from '../jobs/queue';
 import {
 	amendmentMail,
 	clarificationMail,
@@ -69,18 +71,33 @@ export async function eventFor(user: SessionUser, id: string): Promise<EventAcce
 	if (!event) throw notFound();
 	if (event.state === 'open' && isPastDeadline(event))
 		event = (await closeIfDue(event.id, 'first read after the deadline')) ?? event;
+	return accessTo(db(), user, event);
+}
+
+/** Who may see an event, read through `from` (a transaction that holds the event, or the pool). */
+async function accessTo(from: Db, user: SessionUser, event: EventRow): Promise<EventAccess> {
 	if (isStaff(user.role)) {
 		if (event.organisation_id !== user.organisationId) throw notFound();
 		return { event, view: 'staff', canEdit: user.role === 'buyer' };
 	}
-	if (event.state === 'draft' || !(await isInvited(db(), event.id, user.organisationId))) throw notFound();
+	if (event.state === 'draft' || !(await isInvited(from, event.id, user.organisationId))) throw notFound();
 	return { event, view: 'supplier', canEdit: false };
 }
 
+const onlyBuyers = () => new RuleViolation('Only buyers change events.', undefined, 403);
+
 export async function buyerEvent(user: SessionUser, id: string): Promise<EventRow> {
 	const access = await eventFor(user, id);
-	if (!access.canEdit) throw new RuleViolation('Only buyers change events.', undefined, 403);
+	if (!access.canEdit) throw onlyBuyers();
 	return access.event;
+}
+
+/** The event locked in `trx` for a change by one of its buyers: the access check reads through `trx` too. */
+async function lockedForBuyer(trx: Db, user: SessionUser, id: string): Promise<EventRow> {
+	const event = await lockEvent(trx, id);
+	if (!event) throw notFound();
+	if (!(await accessTo(trx, user, event)).canEdit) throw onlyBuyers();
+	return event;
 }
 
 /**
@@ -94,12 +111,7 @@ export async function closeIfDue(eventId: string, by: string): Promise<EventRow 
 	return db().transaction(async (trx) => {
 		const event = await lockEvent(trx, eventId);
 		if (!event || event.state !== 'open' || !isPastDeadline(event)) return event;
-		const [{ suppliers, revisions }] = await trx('bid_revisions')
-			.where({ event_id: eventId })
-			.select(
-				trx.raw('count(distinct supplier_organisation_id)::int as suppliers'),
-				trx.raw('count(*)::int as revisions')
-			);
+		const { suppliers, revisions } = await bidCounts(trx, eventId);
 		const at = now();
 		const record = { at: at.toISOString(), by, suppliers, revisions };
 		await setEventState(trx, eventId, 'closed', { opened_at: at, opening_record: record });
@@ -124,6 +136,8 @@ export async function closeIfDue(eventId: string, by: string): Promise<EventRow 
 			},
 			at
 		});
+		// Runs start after the opening: from here on the event has its lowest-cost plan (no rules).
+		await ensureLowestCostPlan(trx, eventId);
 		return { ...event, state: 'closed', opened_at: at, opening_record: record };
 	});
 }
@@ -158,8 +172,7 @@ export async function updateDraft(actor: SessionUser, id: string, fields: EventF
 }
 
 async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
-	await buyerEvent(actor, id);
-	const event = (await lockEvent(trx, id))!;
+	const event = await lockedForBuyer(trx, actor, id);
 	if (event.state !== 'draft') {
 		throw new RuleViolation(
 			'The event is published: its items and terms are locked. Change it by an amendment.',
@@ -197,17 +210,21 @@ export function mailContext(event: EventRow, origin: string, buyerName: string):
 	};
 }
 
-/** The mail context with the trail's head at this moment: every mail then anchors the chain outside the database. */
+/**
+ * The mail context with the trail's head at this moment, read through `from` (the transaction that
+ * queues the mail): every mail then anchors the chain outside the database.
+ */
 export async function eventMail(
+	from: Db,
 	event: EventRow,
 	origin: string,
 	buyerName: string
 ): Promise<EventMailContext> {
-	return { ...mailContext(event, origin, buyerName), trailHead: await trailHead(db(), event.id) };
+	return { ...mailContext(event, origin, buyerName), trailHead: await trailHead(from, event.id) };
 }
 
-async function buyerName(event: EventRow): Promise<string> {
-	return (await findOrganisation(db(), event.organisation_id))?.name ?? 'The buyer';
+async function buyerName(from: Db, event: EventRow): Promise<string> {
+	return (await findOrganisation(from, event.organisation_id))?.name ?? 'The buyer';
 }
 
 export async function publish(
@@ -215,7 +232,7 @@ export async function publish(
 	id: string,
 	context: RequestContext
 ): Promise<{ invited: number; mailed: number }> {
-	const published = await db().transaction(async (trx) => {
+	return db().transaction(async (trx) => {
 		const event = await lockedDraft(trx, actor, id);
 		const [items, invitations] = await Promise.all([listItems(trx, id), listInvitations(trx, id)]);
 		const missing = [
@@ -240,13 +257,17 @@ export async function publish(
 			},
 			at
 		});
-		return { event: { ...event, state: 'open' as const }, invited: invitations.length };
+		// The closing job and the invitations are queued with the publication, or not at all.
+		await scheduleEventClose(trx, id, event.deadline);
+		const recipients = await invitedSupplierUsers(trx, id);
+		const published = { ...event, state: 'open' as const };
+		const mail = await eventMail(trx, published, context.origin, await buyerName(trx, published));
+		await enqueueMail(
+			trx,
+			recipients.map((r) => eventInvitationMail(r.email, mail))
+		);
+		return { invited: invitations.length, mailed: recipients.length };
 	});
-	await scheduleEventClose(id, published.event.deadline);
-	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = await eventMail(published.event, context.origin, await buyerName(published.event));
-	await enqueueMail(recipients.map((r) => eventInvitationMail(r.email, mail)));
-	return { invited: published.invited, mailed: recipients.length };
 }
 
 export interface InviteRequest {
@@ -293,20 +314,23 @@ export async function inviteSupplier(
 		throw new RuleViolation('Choose a supplier organisation from the list.', 'supplierOrganisationId', 422);
 	const added = await db().transaction(async (trx) => {
 		const inserted = await insertInvitation(trx, id, organisationId, actor.id);
-		if (inserted)
-			await appendTrail(trx, {
-				eventId: id,
-				actor,
-				action: 'supplier invited',
-				detail: { supplier: organisation.name }
-			});
-		return inserted;
+		if (!inserted) return false;
+		await appendTrail(trx, {
+			eventId: id,
+			actor,
+			action: 'supplier invited',
+			detail: { supplier: organisation.name }
+		});
+		if (event.state === 'open') {
+			const mail = await eventMail(trx, event, context.origin, await buyerName(trx, event));
+			const users = (await invitedSupplierUsers(trx, id)).filter((u) => u.organisation_id === organisationId);
+			await enqueueMail(
+				trx,
+				users.map((u) => eventInvitationMail(u.email, mail))
+			);
+		}
+		return true;
 	});
-	if (added && event.state === 'open') {
-		const mail = await eventMail(event, context.origin, await buyerName(event));
-		const users = (await invitedSupplierUsers(db(), id)).filter((u) => u.organisation_id === organisationId);
-		await enqueueMail(users.map((u) => eventInvitationMail(u.email, mail)));
-	}
 	return { organisationName: organisation.name, added };
 }
 
@@ -388,8 +412,9 @@ export async function amend(
 	request: AmendmentRequest,
 	context: RequestContext
 ): Promise<{ number: number; mailed: number }> {
-	const { event, amendment, changes } = await db().transaction(async (trx) => {
-		await buyerEvent(actor, id);
+	// The access check (which may close an event past its deadline) runs before the transaction opens.
+	await buyerEvent(actor, id);
+	return db().transaction(async (trx) => {
 		const event = (await lockEvent(trx, id))!;
 		if (effectiveState(event) !== 'open')
 			throw new RuleViolation('Only an open event before its deadline can be amended.', undefined, 409);
@@ -420,17 +445,18 @@ export async function amend(
 			action: `amendment ${amendment.number}`,
 			detail: { summary: request.summary, changes: detail }
 		});
-		return { event: { ...event, deadline: request.deadline }, amendment, changes };
+		const amended = { ...event, deadline: request.deadline };
+		await scheduleEventClose(trx, id, amended.deadline);
+		const recipients = await invitedSupplierUsers(trx, id);
+		const mail = await eventMail(trx, amended, context.origin, await buyerName(trx, amended));
+		await enqueueMail(
+			trx,
+			recipients.map((r) =>
+				amendmentMail(r.email, mail, { number: amendment.number, summary: amendment.summary, changes })
+			)
+		);
+		return { number: amendment.number, mailed: recipients.length };
 	});
-	await scheduleEventClose(id, event.deadline);
-	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = await eventMail(event, context.origin, await buyerName(event));
-	await enqueueMail(
-		recipients.map((r) =>
-			amendmentMail(r.email, mail, { number: amendment.number, summary: amendment.summary, changes })
-		)
-	);
-	return { number: amendment.number, mailed: recipients.length };
 }
 
 export async function askQuestion(actor: SessionUser, id: string, text: string): Promise<void> {
@@ -456,10 +482,13 @@ export async function answer(
 	context: RequestContext
 ): Promise<{ mailed: number }> {
 	const event = await buyerEvent(actor, id);
-	const question = (await listQuestions(db(), id)).find((q) => q.id === request.questionId);
-	if (!question) throw new RuleViolation('There is no such question in this event.', undefined, 404);
-	if (question.answer) throw new RuleViolation('This question has been answered already.', undefined, 409);
-	await db().transaction(async (trx) => {
+	if (!/^[0-9a-f-]{36}$/i.test(request.questionId))
+		throw new RuleViolation('There is no such question in this event.', undefined, 404);
+	return db().transaction(async (trx) => {
+		// Checked under the question's lock: of two answers at once, the second finds the first.
+		const question = await lockQuestion(trx, id, request.questionId);
+		if (!question) throw new RuleViolation('There is no such question in this event.', undefined, 404);
+		if (question.answer) throw new RuleViolation('This question has been answered already.', undefined, 409);
 		await answerQuestion(trx, question.id, request.publishedQuestion, request.answer, actor.id, now());
 		await appendTrail(trx, {
 			eventId: id,
@@ -467,15 +496,16 @@ export async function answer(
 			action: 'answer published',
 			detail: { question: question.id, publishedQuestion: request.publishedQuestion, answer: request.answer }
 		});
+		const recipients = await invitedSupplierUsers(trx, id);
+		const mail = await eventMail(trx, event, context.origin, await buyerName(trx, event));
+		await enqueueMail(
+			trx,
+			recipients.map((r) =>
+				clarificationMail(r.email, mail, { question: request.publishedQuestion, answer: request.answer })
+			)
+		);
+		return { mailed: recipients.length };
 	});
-	const recipients = await invitedSupplierUsers(db(), id);
-	const mail = await eventMail(event, context.origin, await buyerName(event));
-	await enqueueMail(
-		recipients.map((r) =>
-			clarificationMail(r.email, mail, { question: request.publishedQuestion, answer: request.answer })
-		)
-	);
-	return { mailed: recipients.length };
 }
 
 function trailFields(fields: EventFields) {

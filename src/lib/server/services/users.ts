@@ -10,13 +10,16 @@ import {
 	buyersOfSupplier,
 	findOrganisation,
 	findOrganisationByName,
-	insertOrganisation
+	insertOrganisation,
+	listRelatedSuppliers
 } from '../db/organisations';
+import { listOpenSessions, type OpenSession } from '../db/sessions';
 import {
 	findManagedUser,
 	findUserByEmail,
 	findUserById,
 	insertUser,
+	listUsers,
 	setPasswordHash,
 	setUserDeactivated,
 	updateUserRole,
@@ -27,6 +30,28 @@ import { invitationMail } from '../mail/templates';
 import { RuleViolation } from './errors';
 
 export const INVITATION_HOURS = 72;
+
+/** The users an admin manages (its organisation's staff and the suppliers it works with), and those suppliers. */
+export async function managedUsers(admin: SessionUser) {
+	if (admin.role !== 'admin') throw new RuleViolation('Only admins manage users.', undefined, 403);
+	const [users, suppliers] = await Promise.all([
+		listUsers(db(), admin.organisationId),
+		listRelatedSuppliers(db(), admin.organisationId)
+	]);
+	return { users, suppliers };
+}
+
+/** The signed-in user's own account: whether it has a password, and its open sessions. */
+export async function ownAccount(
+	user: SessionUser,
+	idleHours: number
+): Promise<{ hasPassword: boolean; sessions: OpenSession[] }> {
+	const [row, sessions] = await Promise.all([
+		findUserById(db(), user.id),
+		listOpenSessions(db(), user.id, idleHours)
+	]);
+	return { hasPassword: Boolean(row?.password_hash), sessions };
+}
 
 export interface RequestContext {
 	origin: string;

@@ -3,6 +3,7 @@
 // whole sheet is valid. Formulas are never evaluated: a formula cell is refused.
 import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
+import type { BidLine, ParsedBid, SheetProblem } from '../shapes';
 
 export interface SheetItem {
 	ref: string;
@@ -25,25 +26,7 @@ export interface SheetEvent {
 	items: SheetItem[];
 }
 
-export interface BidLine {
-	item: string;
-	unitPrice: number;
-	maxQuantity: number | null;
-	priceBreaks: { fromQuantity: number; unitPrice: number }[];
-}
-
-export interface ParsedBid {
-	lines: BidLine[];
-	capacity: number | null;
-	bundles: { ref: string; price: number; items: { item: string; quantity: number }[] }[];
-}
-
-export interface SheetProblem {
-	sheet: string;
-	row: number | null;
-	column: string | null;
-	message: string;
-}
+export type { BidLine, ParsedBid, SheetProblem } from '../shapes';
 
 export const PRICE_BREAKS = 3;
 const SHEETS = {

@@ -3,7 +3,7 @@
 import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
 import { UNIT_CODE } from '$lib/schemas/events';
-import type { ItemFields } from '../db/events';
+import type { ItemFields } from '../shapes';
 import { letter, type SheetProblem } from './bid-sheet';
 
 export const ITEM_COLUMNS = [

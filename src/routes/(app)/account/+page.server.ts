@@ -1,30 +1,24 @@
 import { fail } from '@sveltejs/kit';
-import { message, setError, superValidate } from 'sveltekit-superforms';
+import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { isStaff } from '$lib/roles';
 import { setPasswordSchema } from '$lib/schemas/account';
 import { currentSessionId, SESSION_HOURS } from '$lib/server/auth';
 import { requireRole, requireUser } from '$lib/server/auth/guard';
-import { db } from '$lib/server/db/knex';
-import { listOpenSessions } from '$lib/server/db/sessions';
-import { findUserById } from '$lib/server/db/users';
 import { requestContext } from '$lib/server/request-context';
-import { RuleViolation } from '$lib/server/services/errors';
-import { setOwnPassword } from '$lib/server/services/users';
+import { orFieldError } from '$lib/server/route-errors';
+import { ownAccount, setOwnPassword } from '$lib/server/services/users';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireUser(event);
-	const [row, sessions] = await Promise.all([
-		findUserById(db(), user.id),
-		listOpenSessions(db(), user.id, SESSION_HOURS)
-	]);
+	const { hasPassword, sessions } = await ownAccount(user, SESSION_HOURS);
 	const current = currentSessionId();
 	return {
 		title: 'Your account',
 		canHavePassword: isStaff(user.role) && user.role !== 'auditor',
 		readOnly: user.role === 'auditor',
-		hasPassword: Boolean(row?.password_hash),
+		hasPassword,
 		// Never the session ids: they stay on the server.
 		sessions: sessions.map((s) => ({
 			current: s.id === current,
@@ -42,19 +36,14 @@ export const actions: Actions = {
 		const user = requireRole(event, 'admin', 'buyer', 'approver');
 		const form = await superValidate(event.request, zod4(setPasswordSchema));
 		if (!form.valid) return fail(400, { form });
-		try {
-			await setOwnPassword(user, form.data, requestContext(event));
-		} catch (error) {
-			if (error instanceof RuleViolation) {
-				return setError(
-					form,
-					(error.field ?? 'newPassword') as 'currentPassword' | 'newPassword',
-					error.message
-				);
+		return orFieldError(
+			form,
+			{ known: ['currentPassword', 'newPassword'], fallback: 'newPassword', status: false },
+			async () => {
+				await setOwnPassword(user, form.data, requestContext(event));
+				form.data = { currentPassword: '', newPassword: '', confirmPassword: '' };
+				return message(form, 'Password saved. Use it the next time you sign in.');
 			}
-			throw error;
-		}
-		form.data = { currentPassword: '', newPassword: '', confirmPassword: '' };
-		return message(form, 'Password saved. Use it the next time you sign in.');
+		);
 	}
 };

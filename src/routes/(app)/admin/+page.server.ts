@@ -2,21 +2,13 @@ import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
-import { db } from '$lib/server/db/knex';
+import { setStandstill, standstillOf } from '$lib/server/services/organisations';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'admin');
 	const cautions: CautionKey[] = ['standstill'];
-	const organisation = await db()('organisations')
-		.where({ id: user.organisationId })
-		.first('standstill_days');
-	return {
-		title: 'Home',
-		user,
-		cautions,
-		standstillDays: (organisation?.standstill_days as number | undefined) ?? 10
-	};
+	return { title: 'Home', user, cautions, standstillDays: await standstillOf(user) };
 };
 
 const standstill = z.coerce
@@ -30,7 +22,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'admin');
 		const parsed = standstill.safeParse((await event.request.formData()).get('standstillDays'));
 		if (!parsed.success) return fail(400, { error: parsed.error.issues[0]!.message });
-		await db()('organisations').where({ id: user.organisationId }).update({ standstill_days: parsed.data });
+		await setStandstill(user, parsed.data);
 		return { ok: `Saved: award notices give a standstill end ${parsed.data} calendar days after dispatch.` };
 	}
 };

@@ -1,6 +1,6 @@
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
-import { awaitingSignoff } from '$lib/server/services/awards';
+import { awaitingSignoff } from '$lib/server/services/award-views';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

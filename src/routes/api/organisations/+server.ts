@@ -1,8 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
-import { db } from '$lib/server/db/knex';
-import { findOrganisation, listOrganisations, listRelatedSuppliers } from '$lib/server/db/organisations';
 import { jsonError } from '$lib/server/http';
+import { organisationsFor } from '$lib/server/services/organisations';
 import type { RequestHandler } from './$types';
 
 /**
@@ -21,12 +20,6 @@ export const GET: RequestHandler = async (event) => {
 			kind,
 			userId: user.id
 		});
-	const own = kind === 'supplier' ? [] : [(await findOrganisation(db(), user.organisationId))!];
-	const suppliers =
-		kind === 'buyer'
-			? []
-			: user.role === 'admin'
-				? await listRelatedSuppliers(db(), user.organisationId)
-				: await listOrganisations(db(), 'supplier');
-	return json([...own, ...suppliers].map((o) => ({ id: o.id, name: o.name, kind: o.kind })));
+	const organisations = await organisationsFor(user, kind);
+	return json(organisations.map((o) => ({ id: o.id, name: o.name, kind: o.kind })));
 };

@@ -1,22 +1,22 @@
 import { fail } from '@sveltejs/kit';
-import { message, setError, superValidate } from 'sveltekit-superforms';
+import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { inviteUserSchema, setActiveSchema, setRoleSchema, userIdSchema } from '$lib/schemas/users';
 import { requireRole } from '$lib/server/auth/guard';
-import { db } from '$lib/server/db/knex';
-import { listRelatedSuppliers } from '$lib/server/db/organisations';
-import { listUsers } from '$lib/server/db/users';
 import { requestContext } from '$lib/server/request-context';
-import { RuleViolation } from '$lib/server/services/errors';
-import { changeRole, inviteUser, resendInvitation, setActive } from '$lib/server/services/users';
+import { orFail, orFieldError } from '$lib/server/route-errors';
+import {
+	changeRole,
+	inviteUser,
+	managedUsers,
+	resendInvitation,
+	setActive
+} from '$lib/server/services/users';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const admin = requireRole(event, 'admin');
-	const [users, suppliers] = await Promise.all([
-		listUsers(db(), admin.organisationId),
-		listRelatedSuppliers(db(), admin.organisationId)
-	]);
+	const { users, suppliers } = await managedUsers(admin);
 	return {
 		title: 'Users',
 		users: users.map((u) => ({
@@ -36,14 +36,11 @@ export const load: PageServerLoad = async (event) => {
 
 type RowOutcome = { userId: number; ok: boolean; text: string };
 
-async function rowAction(userId: number, work: () => Promise<string>) {
-	try {
-		return { row: { userId, ok: true, text: await work() } satisfies RowOutcome };
-	} catch (error) {
-		if (error instanceof RuleViolation)
-			return fail(error.status, { row: { userId, ok: false, text: error.message } satisfies RowOutcome });
-		throw error;
-	}
+function rowAction(userId: number, work: () => Promise<string>) {
+	return orFail(
+		async () => ({ row: { userId, ok: true, text: await work() } satisfies RowOutcome }),
+		(v) => ({ row: { userId, ok: false, text: v.message } satisfies RowOutcome })
+	);
 }
 
 export const actions: Actions = {
@@ -51,22 +48,19 @@ export const actions: Actions = {
 		const actor = requireRole(event, 'admin');
 		const form = await superValidate(event.request, zod4(inviteUserSchema), { id: 'invite' });
 		if (!form.valid) return fail(400, { form });
-		try {
-			const { user, mailed } = await inviteUser(actor, form.data, requestContext(event));
-			return message(
-				form,
-				mailed
-					? `Invited ${user.email}; the invitation with a sign-in link is on its way.`
-					: `Saved ${user.email}, but the invitation e-mail could not be sent. Use “Send invitation again” once mail works.`
-			);
-		} catch (error) {
-			if (error instanceof RuleViolation) {
-				const field = (error.field ?? 'email') as
-					'email' | 'name' | 'role' | 'supplierOrganisationId' | 'newSupplierName';
-				return setError(form, field, error.message, { status: error.status });
+		return orFieldError(
+			form,
+			{ known: ['email', 'name', 'role', 'supplierOrganisationId', 'newSupplierName'], fallback: 'email' },
+			async () => {
+				const { user, mailed } = await inviteUser(actor, form.data, requestContext(event));
+				return message(
+					form,
+					mailed
+						? `Invited ${user.email}; the invitation with a sign-in link is on its way.`
+						: `Saved ${user.email}, but the invitation e-mail could not be sent. Use “Send invitation again” once mail works.`
+				);
 			}
-			throw error;
-		}
+		);
 	},
 	setRole: async (event) => {
 		const actor = requireRole(event, 'admin');

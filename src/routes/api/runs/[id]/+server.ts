@@ -1,5 +1,6 @@
 import { api } from '$lib/server/api';
-import { findRun, runJson } from '$lib/server/services/awards';
+import { findRun } from '$lib/server/services/award-runs';
+import { runJson } from '$lib/server/services/award-views';
 
 export const GET = api(async (user, event) => {
 	const { run } = await findRun(user, event.params.id!);

@@ -1,20 +1,19 @@
 import { fail } from '@sveltejs/kit';
-import { message, setError, superValidate } from 'sveltekit-superforms';
+import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { amendmentSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
-import { findEvent } from '$lib/server/db/events';
-import { db } from '$lib/server/db/knex';
 import { currencies, eventSchema, fieldsFromForm, formFromEvent, timeZones } from '$lib/server/event-form';
 import { requestContext } from '$lib/server/request-context';
-import { RuleViolation } from '$lib/server/services/errors';
+import { orErrorPage, orFail, orFieldError } from '$lib/server/route-errors';
 import { amend, buyerEvent, publish, updateDraft } from '$lib/server/services/events';
 import { fromLocalInput, toLocalInput } from '$lib/time';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
-	const row = await buyerEvent(user, event.params.id);
+	// An unknown id, or another organisation's event, is the 404 page (not a 500).
+	const row = await orErrorPage(event, () => buyerEvent(user, event.params.id));
 	return {
 		form: await superValidate(formFromEvent(row), zod4(eventSchema), { id: 'event', errors: false }),
 		amendForm: await superValidate(
@@ -37,33 +36,29 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(eventSchema), { id: 'event' });
 		if (!form.valid) return fail(400, { form });
-		try {
+		return orFieldError(form, { known: [], fallback: 'reference' }, async () => {
 			await updateDraft(user, event.params.id, fieldsFromForm(form.data));
-		} catch (error) {
-			if (error instanceof RuleViolation)
-				return setError(form, 'reference', error.message, { status: error.status });
-			throw error;
-		}
-		return message(form, 'Saved.');
+			return message(form, 'Saved.');
+		});
 	},
 	publish: async (event) => {
 		const user = requireRole(event, 'buyer');
-		try {
-			const outcome = await publish(user, event.params.id, requestContext(event));
-			return {
-				published: `Published. The event is open for bids; ${outcome.mailed} supplier contact${outcome.mailed === 1 ? '' : 's'} are being notified.`
-			};
-		} catch (error) {
-			if (error instanceof RuleViolation) return fail(error.status, { publishError: error.message });
-			throw error;
-		}
+		return orFail(
+			async () => {
+				const outcome = await publish(user, event.params.id, requestContext(event));
+				return {
+					published: `Published. The event is open for bids; ${outcome.mailed} supplier contact${outcome.mailed === 1 ? '' : 's'} are being notified.`
+				};
+			},
+			(v) => ({ publishError: v.message })
+		);
 	},
 	amend: async (event) => {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(amendmentSchema), { id: 'amend' });
 		if (!form.valid) return fail(400, { amendForm: form });
-		const row = (await findEvent(db(), event.params.id))!;
-		try {
+		return orFieldError(form, { known: ['summary', 'deadlineLocal'], fallback: 'summary' }, async () => {
+			const row = await buyerEvent(user, event.params.id);
 			const outcome = await amend(
 				user,
 				event.params.id,
@@ -83,12 +78,6 @@ export const actions: Actions = {
 				form,
 				`Amendment ${outcome.number} recorded and mailed to ${outcome.mailed} supplier contacts.`
 			);
-		} catch (error) {
-			if (error instanceof RuleViolation) {
-				const field = (error.field ?? 'summary') as 'summary' | 'deadlineLocal';
-				return setError(form, field, error.message, { status: error.status });
-			}
-			throw error;
-		}
+		});
 	}
 };

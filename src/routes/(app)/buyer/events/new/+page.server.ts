@@ -1,9 +1,9 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { setError, superValidate } from 'sveltekit-superforms';
+import { superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { requireRole } from '$lib/server/auth/guard';
 import { currencies, eventSchema, fieldsFromForm, timeZones } from '$lib/server/event-form';
-import { RuleViolation } from '$lib/server/services/errors';
+import { orFieldError } from '$lib/server/route-errors';
 import { createEvent } from '$lib/server/services/events';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -33,14 +33,9 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(eventSchema));
 		if (!form.valid) return fail(400, { form });
-		let id: string;
-		try {
-			id = (await createEvent(user, fieldsFromForm(form.data))).id;
-		} catch (error) {
-			if (error instanceof RuleViolation)
-				return setError(form, 'reference', error.message, { status: error.status });
-			throw error;
-		}
-		redirect(303, `/buyer/events/${id}/items`);
+		return orFieldError(form, { known: [], fallback: 'reference' }, async () => {
+			const { id } = await createEvent(user, fieldsFromForm(form.data));
+			redirect(303, `/buyer/events/${id}/items`);
+		});
 	}
 };

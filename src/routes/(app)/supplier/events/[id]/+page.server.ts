@@ -1,35 +1,32 @@
 import { fail } from '@sveltejs/kit';
 import { questionSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
-import { httpError } from '$lib/server/http';
 import { requestContext } from '$lib/server/request-context';
-import { myResult } from '$lib/server/services/awards';
+import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { myResult } from '$lib/server/services/award-views';
 import { ownBid, submitScreen, withdraw } from '$lib/server/services/bids';
-import { RuleViolation } from '$lib/server/services/errors';
-import { bidJson, eventDetail, itemsFor } from '$lib/server/services/event-views';
-import { askQuestion, eventFor, sheetEvent } from '$lib/server/services/events';
-import { listItems } from '$lib/server/db/events';
-import { db } from '$lib/server/db/knex';
+import { bidJson, eventDetail, eventSheet, itemsFor } from '$lib/server/services/event-views';
+import { askQuestion } from '$lib/server/services/events';
 import { priceColumns } from '$lib/server/sheets/bid-sheet';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'supplier');
-	try {
-		const [detail, items, own, result] = await Promise.all([
+	return orErrorPage(event, async () => {
+		const [detail, items, own, result, sheet] = await Promise.all([
 			eventDetail(user, event.params.id),
 			itemsFor(user, event.params.id),
 			ownBid(user, event.params.id),
-			myResult(user, event.params.id)
+			myResult(user, event.params.id),
+			eventSheet(user, event.params.id)
 		]);
-		const { event: row } = await eventFor(user, event.params.id);
 		return {
 			title: detail.event.reference,
 			detail,
 			result,
 			items,
 			// The columns a supplier types, after the item columns of the sheet.
-			priceColumns: priceColumns(sheetEvent(row, await listItems(db(), row.id))).slice(5),
+			priceColumns: priceColumns(sheet).slice(5),
 			current: own.current ? bidJson(own.current) : null,
 			revisions: own.revisions.map((r) => ({
 				number: r.number,
@@ -47,20 +44,8 @@ export const load: PageServerLoad = async (event) => {
 			})),
 			uploadCount: own.uploadCount
 		};
-	} catch (error) {
-		if (error instanceof RuleViolation) httpError(error.status, error.message, { path: event.url.pathname });
-		throw error;
-	}
+	});
 };
-
-async function attempt<T>(work: () => Promise<T>) {
-	try {
-		return await work();
-	} catch (error) {
-		if (error instanceof RuleViolation) return fail(error.status, { error: error.message });
-		throw error;
-	}
-}
 
 export const actions: Actions = {
 	prices: async (event) => {
@@ -74,7 +59,7 @@ export const actions: Actions = {
 			return fail(400, { error: 'The price table could not be read.' });
 		}
 		const capacity = data.get('capacity');
-		return attempt(async () => {
+		return orFail(async () => {
 			const outcome = await submitScreen(
 				user,
 				event.params.id,
@@ -90,7 +75,7 @@ export const actions: Actions = {
 	},
 	withdraw: async (event) => {
 		const user = requireRole(event, 'supplier');
-		return attempt(async () => {
+		return orFail(async () => {
 			const revision = await withdraw(user, event.params.id, requestContext(event));
 			return { accepted: `Your bid is withdrawn (revision ${revision.number}).` };
 		});
@@ -99,7 +84,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'supplier');
 		const parsed = questionSchema.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { askError: parsed.error.issues[0]!.message });
-		return attempt(async () => {
+		return orFail(async () => {
 			await askQuestion(user, event.params.id, parsed.data.text);
 			return { asked: 'Your question is sent. The answer goes to all invited suppliers, without your name.' };
 		});

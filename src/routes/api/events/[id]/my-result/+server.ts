@@ -1,4 +1,4 @@
 import { api } from '$lib/server/api';
-import { myResult } from '$lib/server/services/awards';
+import { myResult } from '$lib/server/services/award-views';
 
 export const GET = api((user, event) => myResult(user, event.params.id!));

@@ -3,7 +3,8 @@ import { z } from 'zod';
 import { api } from '$lib/server/api';
 import { RuleViolation } from '$lib/server/services/errors';
 import { eventFor } from '$lib/server/services/events';
-import { checkRules, listPlans, planJson, savePlan } from '$lib/server/services/awards';
+import { checkRules, listPlans, savePlan } from '$lib/server/services/award-plans';
+import { planJson } from '$lib/server/services/award-views';
 
 export const GET = api(async (user, event) => {
 	const { event: row } = await eventFor(user, event.params.id!);

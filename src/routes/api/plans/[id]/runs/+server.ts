@@ -1,6 +1,6 @@
 import { json } from '@sveltejs/kit';
 import { api } from '$lib/server/api';
-import { startRun } from '$lib/server/services/awards';
+import { startRun } from '$lib/server/services/award-runs';
 
 /** Queues a run of the plan: 202 with the run's id; follow it at GET /api/runs/{id}. */
 export const POST = api(async (user, event) => {

@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { api } from '$lib/server/api';
 import { RuleViolation } from '$lib/server/services/errors';
-import { decide } from '$lib/server/services/awards';
+import { decide } from '$lib/server/services/signoff';
 
 const body = z.object({ decision: z.enum(['approve', 'return']), comment: z.string().max(4000).default('') });
 

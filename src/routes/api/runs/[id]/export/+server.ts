@@ -1,6 +1,7 @@
 import { api } from '$lib/server/api';
 import { runWorkbook } from '$lib/server/run-export';
-import { findRun, runJson } from '$lib/server/services/awards';
+import { findRun } from '$lib/server/services/award-runs';
+import { runJson } from '$lib/server/services/award-views';
 
 /** The run as an .xlsx workbook (formula-injection safe). */
 export const GET = api(async (user, event) => {

@@ -1,5 +1,5 @@
 import { api } from '$lib/server/api';
-import { submitRun } from '$lib/server/services/awards';
+import { submitRun } from '$lib/server/services/signoff';
 
 export const POST = api(async (user, event) => {
 	const signoff = await submitRun(user, event.params.id!);

@@ -1,6 +1,6 @@
 import { fail } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
-import { RuleViolation } from '$lib/server/services/errors';
+import { orFail } from '$lib/server/route-errors';
 import { itemsFor } from '$lib/server/services/event-views';
 import { saveItems } from '$lib/server/services/events';
 import { inspectUpload } from '$lib/server/sheets/inspect';
@@ -25,17 +25,14 @@ async function store(
 	id: string,
 	work: () => Promise<Parameters<typeof saveItems>[2]>
 ) {
-	try {
-		const items = await work();
-		await saveItems(user, id, items);
-		return { saved: `Saved ${items.length} items.` };
-	} catch (error) {
-		if (error instanceof RuleViolation)
-			return fail(error.status, {
-				problems: [{ sheet: '', row: null, column: null, message: error.message }]
-			});
-		throw error;
-	}
+	return orFail(
+		async () => {
+			const items = await work();
+			await saveItems(user, id, items);
+			return { saved: `Saved ${items.length} items.` };
+		},
+		(v) => ({ problems: [{ sheet: '', row: null, column: null, message: v.message }] })
+	);
 }
 
 export const actions: Actions = {

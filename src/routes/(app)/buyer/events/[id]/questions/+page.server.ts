@@ -2,7 +2,7 @@ import { fail } from '@sveltejs/kit';
 import { answerSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
 import { requestContext } from '$lib/server/request-context';
-import { RuleViolation } from '$lib/server/services/errors';
+import { orFail } from '$lib/server/route-errors';
 import { answer } from '$lib/server/services/events';
 import type { Actions } from './$types';
 
@@ -12,16 +12,13 @@ export const actions: Actions = {
 		const parsed = answerSchema.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success)
 			return fail(400, { questionId: null, error: parsed.error.issues.map((i) => i.message).join(' ') });
-		try {
-			const outcome = await answer(user, event.params.id, parsed.data, requestContext(event));
-			return {
-				questionId: parsed.data.questionId,
-				ok: `Answer published and mailed to ${outcome.mailed} supplier contacts.`
-			};
-		} catch (error) {
-			if (error instanceof RuleViolation)
-				return fail(error.status, { questionId: parsed.data.questionId, error: error.message });
-			throw error;
-		}
+		const questionId = parsed.data.questionId;
+		return orFail(
+			async () => {
+				const outcome = await answer(user, event.params.id, parsed.data, requestContext(event));
+				return { questionId, ok: `Answer published and mailed to ${outcome.mailed} supplier contacts.` };
+			},
+			(v) => ({ questionId, error: v.message })
+		);
 	}
 };

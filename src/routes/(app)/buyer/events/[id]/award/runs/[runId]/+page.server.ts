@@ -1,17 +1,14 @@
-import { fail } from '@sveltejs/kit';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
-import { httpError } from '$lib/server/http';
-import { findRun, runJson, submitRun } from '$lib/server/services/awards';
-import { RuleViolation } from '$lib/server/services/errors';
+import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { findRun } from '$lib/server/services/award-runs';
+import { runJson } from '$lib/server/services/award-views';
+import { submitRun } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
-	const { run } = await findRun(user, event.params.runId, event.params.id).catch((error: unknown) => {
-		if (error instanceof RuleViolation) httpError(error.status, error.message, { path: event.url.pathname });
-		throw error;
-	});
+	const { run } = await orErrorPage(event, () => findRun(user, event.params.runId, event.params.id));
 	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
 	return { run: runJson(run), cautions };
 };
@@ -19,12 +16,9 @@ export const load: PageServerLoad = async (event) => {
 export const actions: Actions = {
 	submit: async (event) => {
 		const user = requireRole(event, 'buyer');
-		try {
+		return orFail(async () => {
 			await submitRun(user, event.params.runId, event.params.id);
 			return { ok: 'Submitted for sign-off. An approver other than you decides.' };
-		} catch (error) {
-			if (error instanceof RuleViolation) return fail(error.status, { error: error.message });
-			throw error;
-		}
+		});
 	}
 };

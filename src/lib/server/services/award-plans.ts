@@ -1,0 +1,108 @@
+// Award plans: the rules a run solves under. Every event has the lowest-cost plan (no rules) from the
+// opening of its bids (made in closeIfDue's transaction, services/events.ts; the migration
+// 20261204010000 made it for the events opened before), so listing plans only reads. A changed plan sends
+// an event awaiting sign-off back to evaluation.
+import { ruleSchema, type AwardRule } from '$lib/award/problem';
+import type { SessionUser } from '../auth/session-user';
+import { now } from '../clock';
+import * as awards from '../db/awards';
+import { lockEvent, setEventState, type EventRow } from '../db/events';
+import { db, type Db } from '../db/knex';
+import type { PlanRow } from '../db/tables';
+import { appendTrail } from '../trail';
+import { RuleViolation } from './errors';
+import { eventFor } from './events';
+
+export { LOWEST_COST } from '../db/awards';
+
+/** The event, for the staff of its buying organisation only. */
+export async function staffEvent(user: SessionUser, id: string): Promise<EventRow> {
+	const access = await eventFor(user, id);
+	if (access.view !== 'staff')
+		throw new RuleViolation('Award plans are for the buying organisation.', undefined, 403);
+	return access.event;
+}
+
+/** The event, for its buyers only. */
+export async function buyerOnly(user: SessionUser, id: string): Promise<EventRow> {
+	const event = await staffEvent(user, id);
+	if (user.role !== 'buyer')
+		throw new RuleViolation('Only buyers build plans and start runs.', undefined, 403);
+	return event;
+}
+
+/** The plans of an event, the lowest-cost plan first. A pure read. */
+export async function listPlans(user: SessionUser, eventId: string): Promise<PlanRow[]> {
+	await staffEvent(user, eventId);
+	return awards.listPlans(db(), eventId);
+}
+
+export function checkRules(
+	input: unknown
+): { ok: true; rules: AwardRule[] } | { ok: false; problems: string[] } {
+	if (!Array.isArray(input)) return { ok: false, problems: ['rules: must be a list'] };
+	const problems: string[] = [];
+	const rules: AwardRule[] = [];
+	input.forEach((raw, k) => {
+		const parsed = ruleSchema.safeParse(raw);
+		if (parsed.success) rules.push(parsed.data as AwardRule);
+		else
+			problems.push(
+				...parsed.error.issues.map(
+					(i) => `rules[${k}]${i.path.length ? `.${i.path.join('.')}` : ''}: ${i.message}`
+				)
+			);
+	});
+	return problems.length ? { ok: false, problems } : { ok: true, rules };
+}
+
+/** Sends an event awaiting sign-off back to evaluation, superseding the pending sign-off. */
+export async function backToEvaluation(
+	trx: Db,
+	event: EventRow,
+	actor: SessionUser,
+	reason: string
+): Promise<void> {
+	if (event.state !== 'awaiting_signoff') return;
+	await awards.supersedePendingSignoffs(trx, event.id, now(), reason);
+	await setEventState(trx, event.id, 'in_evaluation');
+	await appendTrail(trx, {
+		eventId: event.id,
+		actor,
+		action: 'returned to evaluation',
+		detail: { reason, state: { from: 'awaiting_signoff', to: 'in_evaluation' } }
+	});
+}
+
+export async function savePlan(
+	user: SessionUser,
+	eventId: string,
+	plan: { id?: string; name: string; rules: AwardRule[] }
+): Promise<PlanRow> {
+	await buyerOnly(user, eventId);
+	return db().transaction(async (trx) => {
+		const event = (await lockEvent(trx, eventId))!;
+		if (['awarded', 'cancelled'].includes(event.state))
+			throw new RuleViolation('The event is awarded: its plans are final.', undefined, 409);
+		let row: PlanRow;
+		if (plan.id) {
+			const existing = await awards.findEventPlan(trx, eventId, plan.id);
+			if (!existing) throw new RuleViolation('There is no such plan in this event.', undefined, 404);
+			if (existing.lowest_cost)
+				throw new RuleViolation('The lowest-cost plan has no rules by definition.', undefined, 409);
+			row = await awards.updatePlan(trx, plan.id, plan);
+			await backToEvaluation(trx, event, user, `plan “${plan.name}” changed`);
+		} else {
+			if (await awards.findPlanByName(trx, eventId, plan.name))
+				throw new RuleViolation(`A plan named “${plan.name}” exists already.`, 'name', 409);
+			row = await awards.insertPlan(trx, { eventId, name: plan.name, rules: plan.rules, createdBy: user.id });
+		}
+		await appendTrail(trx, {
+			eventId,
+			actor: user,
+			action: plan.id ? 'plan changed' : 'plan created',
+			detail: { plan: row.id, name: plan.name, rules: plan.rules }
+		});
+		return row;
+	});
+}

@@ -1,0 +1,128 @@
+// What the award pages and API show of plans, runs and results: JSON shapes, the supplier's own result
+// and the approver's queue.
+import { describeRule } from '$lib/award/describe';
+import type { AwardResult } from '$lib/award/engine';
+import type { SessionUser } from '../auth/session-user';
+import { now } from '../clock';
+import * as awards from '../db/awards';
+import { db } from '../db/knex';
+import type { PlanRow, RunRow } from '../db/tables';
+import { RuleViolation } from './errors';
+import { eventFor } from './events';
+
+type AwardLine = AwardResult['awards'][number];
+
+/** A heartbeat older than this means the worker running the solve has died. */
+export const HEARTBEAT_STALE_MS = 20_000;
+
+export function planJson(plan: PlanRow, currency: string) {
+	return {
+		id: plan.id,
+		name: plan.name,
+		lowestCost: plan.lowest_cost,
+		rules: plan.rules,
+		preview: plan.rules.map((r) => r.label ?? describeRule(r, currency)),
+		updatedAt: plan.updated_at.toISOString()
+	};
+}
+
+export function runJson(run: RunRow, options: { withProblem?: boolean } = {}) {
+	const at = now();
+	const end = run.finished_at ?? at;
+	// Rule costs, conflicts and sensitivity come in their own column once their job is done.
+	const result: AwardResult | null =
+		run.status === 'done' && run.result ? { ...run.result, ...(run.explanation ?? {}) } : null;
+	return {
+		id: run.id,
+		eventId: run.event_id,
+		number: run.number,
+		planId: run.plan_id,
+		plan: run.plan_name,
+		status: run.status,
+		cancelRequested: run.cancel_requested,
+		progress: {
+			queuedAt: run.queued_at.toISOString(),
+			startedAt: run.started_at?.toISOString() ?? null,
+			finishedAt: run.finished_at?.toISOString() ?? null,
+			elapsedSeconds: run.started_at ? Math.max(0, (end.getTime() - run.started_at.getTime()) / 1000) : 0,
+			attempts: run.attempts,
+			gap: run.result?.gap ?? null
+		},
+		problemSha256: run.problem_sha256.trim(),
+		resultSha256: run.result_sha256?.trim() ?? null,
+		solverVersion: run.solver_version,
+		options: run.options,
+		error: run.error,
+		result,
+		explanationStatus: run.explanation_status ?? 'done',
+		workerLost:
+			run.status === 'running' &&
+			run.heartbeat_at != null &&
+			at.getTime() - run.heartbeat_at.getTime() > HEARTBEAT_STALE_MS,
+		rules: run.problem.rules.map((r, k) => ({
+			index: k,
+			text: r.label ?? describeRule(r, run.problem.currency)
+		})),
+		currency: run.problem.currency,
+		...(options.withProblem ? { problem: run.problem } : {})
+	};
+}
+export type RunJson = ReturnType<typeof runJson>;
+
+/** A run's line in the award page's list: its progress and outcome, without the allocation. */
+export function runSummary(run: RunRow) {
+	const json = runJson(run);
+	return {
+		...json,
+		result: null,
+		outcome: json.result?.status ?? null,
+		totalCost: json.result?.totalCost ?? null
+	};
+}
+export type RunSummary = ReturnType<typeof runSummary>;
+
+/** A supplier's own award lines of a result (quantity above zero), never another's. */
+export function ownLines(
+	result: Pick<AwardResult, 'awards'> | null | undefined,
+	supplierName: string
+): Pick<AwardLine, 'item' | 'quantity' | 'unitPrice' | 'cost'>[] {
+	return (result?.awards ?? [])
+		.filter((a) => a.supplier === supplierName && a.quantity > 0)
+		.map(({ item, quantity, unitPrice, cost }) => ({ item, quantity, unitPrice, cost }));
+}
+
+const isoDate = (value: Date | string) =>
+	String(value instanceof Date ? value.toISOString().slice(0, 10) : value);
+
+/** A supplier's own result: its award lines once the event is awarded, or its regret; never another's. */
+export async function myResult(user: SessionUser, eventId: string) {
+	const access = await eventFor(user, eventId);
+	if (access.view !== 'supplier')
+		throw new RuleViolation('This is the supplier’s view of its result.', undefined, 403);
+	const event = access.event;
+	if (event.state !== 'awarded' || !event.awarded_run_id) return { status: 'pending' as const, lines: [] };
+	const run = (await awards.findRun(db(), event.awarded_run_id))!;
+	const notice = await awards.findSupplierNotice(db(), run.id, user.organisationId);
+	const lines = ownLines(run.result, user.organisationName);
+	return {
+		status: lines.length ? ('awarded' as const) : ('regret' as const),
+		lines,
+		currency: event.currency,
+		total: lines.reduce((a, l) => a + l.cost, 0),
+		noticeSentAt: notice?.sent_at?.toISOString() ?? null,
+		standstillEndsOn: notice ? isoDate(notice.standstill_ends_on) : null
+	};
+}
+
+/** Runs awaiting sign-off in the approver's organisation, oldest first. */
+export async function awaitingSignoff(user: SessionUser) {
+	const rows = await awards.listAwaitingSignoff(db(), user.organisationId);
+	return rows.map((r) => ({
+		runId: r.run_id,
+		number: r.number,
+		plan: r.plan_name,
+		event: `${r.reference} · ${r.title}`,
+		submittedAt: r.submitted_at.toISOString(),
+		submittedBy: r.submitted_by
+	}));
+}
