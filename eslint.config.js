@@ -34,5 +34,52 @@ export default ts.config(
 	{
 		files: ['**/*.js', '**/*.mjs'],
 		...ts.configs.disableTypeChecked
+	},
+	// Which layer may import which, flagged in the editor; src/architecture.spec.ts checks the same rules
+	// (and the award core's purity) over the whole tree in npm test.
+	{
+		files: ['src/routes/**'],
+		rules: {
+			'no-restricted-imports': [
+				'error',
+				{
+					patterns: [
+						{ group: ['$lib/server/db', '$lib/server/db/*'], message: 'Routes call services, never db/*.' }
+					]
+				}
+			]
+		}
+	},
+	{
+		files: ['src/lib/server/db/**'],
+		rules: {
+			'no-restricted-imports': [
+				'error',
+				{
+					patterns: [
+						{
+							group: ['../services', '../services/*', '../sheets/*', '../jobs', '../jobs/*'],
+							message: 'db/* is the bottom layer: no services, sheets or jobs.'
+						}
+					]
+				}
+			]
+		}
+	},
+	{
+		files: ['src/lib/server/services/**'],
+		rules: {
+			'no-restricted-imports': [
+				'error',
+				{
+					patterns: [
+						{
+							regex: '^\\.\\./jobs(/index|/handlers(/.*)?)?$',
+							message: 'Services send jobs through ../jobs/queue only.'
+						}
+					]
+				}
+			]
+		}
 	}
 );

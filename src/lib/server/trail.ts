@@ -11,6 +11,7 @@ import type { SessionUser } from './auth/session-user';
 import { now } from './clock';
 import { config } from './config';
 import { db, type Db } from './db/knex';
+import { insertTrailEntry, lastTrailEntry, listTrailRows, lockTrailChain } from './db/trail';
 import { writeCheckpoint, type TrailCheckpoint } from './storage/trail-checkpoints';
 
 export interface TrailEntry {
@@ -113,11 +114,8 @@ export async function appendTrail(
 ): Promise<TrailEntry> {
 	const [key] = configuredMacKeys();
 	const work = async (trx: Db) => {
-		await trx.raw('select pg_advisory_xact_lock(hashtext(?))', [`trail:${entry.eventId}`]);
-		const last = await trx('trail_entries')
-			.where({ event_id: entry.eventId })
-			.orderBy('seq', 'desc')
-			.first('seq', 'hash');
+		await lockTrailChain(trx, entry.eventId);
+		const last = await lastTrailEntry(trx, entry.eventId);
 		const body = {
 			event_id: entry.eventId,
 			seq: (last?.seq ?? 0) + 1,
@@ -131,7 +129,7 @@ export async function appendTrail(
 		};
 		const hash = entryHash(body);
 		const row: TrailEntry = { ...body, hash, mac: entryMac(key!, hash), mac_key_id: key!.id };
-		await trx('trail_entries').insert({ ...row, detail: JSON.stringify(row.detail) });
+		await insertTrailEntry(trx, row);
 		return row;
 	};
 	const target = into ?? db();
@@ -151,7 +149,7 @@ export async function appendTrail(
 }
 
 export async function listTrail(from: Db, eventId: string): Promise<TrailEntry[]> {
-	const rows = (await from('trail_entries').where({ event_id: eventId }).orderBy('seq')) as TrailEntry[];
+	const rows = await listTrailRows(from, eventId);
 	return rows.map((r) => ({
 		...r,
 		seq: Number(r.seq),
@@ -164,10 +162,7 @@ export async function listTrail(from: Db, eventId: string): Promise<TrailEntry[]
 
 /** The newest entry of an event's trail: what receipts and notices carry, so the head is kept outside. */
 export async function trailHead(from: Db, eventId: string): Promise<{ seq: number; hash: string } | null> {
-	const row = await from('trail_entries')
-		.where({ event_id: eventId })
-		.orderBy('seq', 'desc')
-		.first('seq', 'hash');
+	const row = await lastTrailEntry(from, eventId);
 	return row ? { seq: Number(row.seq), hash: String(row.hash).trim() } : null;
 }
 

@@ -69,7 +69,14 @@ export function jobDb(trx: Db): {
 		async executeSql(text, values = []) {
 			const bindings: unknown[] = [];
 			const sql = text.replace(/\$(\d+)/g, (_, n: string) => {
-				bindings.push(values[Number(n) - 1] ?? null);
+				const value = values[Number(n) - 1] ?? null;
+				// A job's data is a plain object (pg would send it as JSON); Knex refuses any binding that holds
+				// an undefined property (such as a mail without attachments), so it goes as JSON text here.
+				bindings.push(
+					value !== null && typeof value === 'object' && Object.getPrototypeOf(value) === Object.prototype
+						? JSON.stringify(value)
+						: value
+				);
 				return '?';
 			});
 			const result = (await trx.raw(sql, bindings as never[])) as { rows: unknown[] };
