@@ -11,23 +11,11 @@ import type { SessionUser } from './auth/session-user';
 import { now } from './clock';
 import { config } from './config';
 import { db, type Db } from './db/knex';
-import { insertTrailEntry, lastTrailEntry, listTrailRows, lockTrailChain } from './db/trail';
+import { insertTrailEntry, lastTrailEntry, listTrailRows, lockTrailChain, type TrailRow } from './db/trail';
 import { writeCheckpoint, type TrailCheckpoint } from './storage/trail-checkpoints';
 
-export interface TrailEntry {
-	event_id: string;
-	seq: number;
-	at: Date;
-	actor_user_id: number | null;
-	actor: string;
-	action: string;
-	detail: Record<string, unknown>;
-	previous_hash: string | null;
-	hash: string;
-	/** HMAC-SHA256 of the hash; null only on entries written before entries were signed. */
-	mac: string | null;
-	mac_key_id: string | null;
-}
+/** An entry of the trail, as stored (db/trail.ts). */
+export type TrailEntry = TrailRow;
 
 /** JSON with object keys sorted at every level: the same value always gives the same text. */
 export function canonicalJson(value: unknown): string {

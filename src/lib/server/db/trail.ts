@@ -13,6 +13,7 @@ export interface TrailRow {
 	detail: Record<string, unknown>;
 	previous_hash: string | null;
 	hash: string;
+	/** HMAC-SHA256 of the hash; null only on entries written before entries were signed. */
 	mac: string | null;
 	mac_key_id: string | null;
 }
