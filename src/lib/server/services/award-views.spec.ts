@@ -1,0 +1,87 @@
+import { describe, expect, it } from 'vitest';
+import type { AwardResult } from '$lib/award/engine';
+import type { RunRow } from '../db/tables';
+import { ownLines, runJson } from './award-views';
+
+const result = {
+	status: 'optimal',
+	method: 'mip',
+	currency: 'EUR',
+	totalCost: 30,
+	baselineCost: null,
+	savings: null,
+	bound: 30,
+	gap: 0,
+	awards: [
+		{ supplier: 'A', item: 'IT-1', quantity: 10, unitPrice: 1, cost: 10 },
+		{ supplier: 'B', item: 'IT-2', quantity: 10, unitPrice: 2, cost: 20 },
+		{ supplier: 'A', item: 'IT-3', quantity: 0, unitPrice: 3, cost: 0 }
+	],
+	supplierTotals: [],
+	uncoveredItems: [],
+	solveSeconds: 0.1,
+	modelSize: { rows: 1, columns: 1, integers: 0 },
+	violations: []
+} as AwardResult;
+
+const run = (over: Partial<RunRow> = {}): RunRow =>
+	({
+		id: 'run-1',
+		event_id: 'event-1',
+		plan_id: 'plan-1',
+		number: 1,
+		plan_name: 'Lowest cost (no rules)',
+		status: 'done',
+		cancel_requested: false,
+		problem: { currency: 'EUR', items: [], suppliers: [], bids: [], bundles: [], rules: [] },
+		problem_sha256: 'a'.repeat(64),
+		result,
+		result_sha256: 'b'.repeat(64),
+		solver_version: 'HiGHS',
+		options: {},
+		error: null,
+		attempts: 1,
+		created_by: 1,
+		queued_at: new Date(Date.now() - 60_000),
+		started_at: new Date(Date.now() - 50_000),
+		finished_at: new Date(Date.now() - 40_000),
+		heartbeat_at: null,
+		explanation: null,
+		explanation_status: 'done',
+		explanation_error: null,
+		...over
+	}) as RunRow;
+
+describe('a run as the pages and the API see it (runJson)', () => {
+	it('merges the explanation, worked out later, into the result', () => {
+		const ruleCosts = [{ rule: 0, label: 'r', cost: 5, cumulativeCost: 5, statusWithout: 'optimal' }];
+		const json = runJson(run({ explanation: { ruleCosts } as never }));
+		expect(json.result?.ruleCosts).toEqual(ruleCosts);
+		expect(json.result?.totalCost).toBe(30);
+	});
+
+	it('says the explanation is done when the run predates the column, and pending while it is', () => {
+		expect(runJson(run({ explanation_status: undefined as never })).explanationStatus).toBe('done');
+		expect(runJson(run({ explanation_status: 'pending' })).explanationStatus).toBe('pending');
+	});
+
+	it('has no result until the run is done', () => {
+		expect(runJson(run({ status: 'running', finished_at: null })).result).toBeNull();
+	});
+
+	it('tells a lost worker by a heartbeat older than 20 s, only while running', () => {
+		const running = { status: 'running' as const, finished_at: null, result: null };
+		expect(runJson(run({ ...running, heartbeat_at: new Date(Date.now() - 25_000) })).workerLost).toBe(true);
+		expect(runJson(run({ ...running, heartbeat_at: new Date(Date.now() - 5_000) })).workerLost).toBe(false);
+		expect(runJson(run({ ...running, heartbeat_at: null })).workerLost).toBe(false);
+		expect(runJson(run({ heartbeat_at: new Date(Date.now() - 25_000) })).workerLost).toBe(false);
+	});
+});
+
+describe('a supplier’s own award lines (ownLines)', () => {
+	it('keeps its lines with a quantity, never another supplier’s', () => {
+		expect(ownLines(result, 'A')).toEqual([{ item: 'IT-1', quantity: 10, unitPrice: 1, cost: 10 }]);
+		expect(ownLines(result, 'C')).toEqual([]);
+		expect(ownLines(null, 'A')).toEqual([]);
+	});
+});
