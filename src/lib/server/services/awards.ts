@@ -485,7 +485,10 @@ export function runJson(run: RunRow, options: { withProblem?: boolean } = {}) {
 		solverVersion: run.solver_version,
 		options: run.options,
 		error: run.error,
-		result: run.status === 'done' ? run.result : null,
+		// The allocation with its explanation, once the explain-run job has stored it (older runs carry it inside).
+		result: run.status === 'done' ? { ...run.result!, ...(run.explanation ?? {}) } : null,
+		explanationStatus: run.explanation_status,
+		explanationError: run.explanation_error,
 		rules: run.problem.rules.map((r, k) => ({
 			index: k,
 			text: r.label ?? describeRule(r, run.problem.currency)
