@@ -1,8 +1,12 @@
 // The local SMTP stand-in: accepts every message on loopback, keeps each one as JSON under
 // SMTP_FAKE_DIR (so they survive a restart), and serves them over a small HTTP API:
-//   GET /messages (newest first; ?to= filters by recipient), GET /messages/:id, DELETE /messages
+//   GET /messages (newest first; ?to= filters by recipient, ?messageId= by Message-ID), GET /messages/:id,
+//   DELETE /messages
 //   PUT /outages/:address, DELETE /outages/:address: while an address is listed, the fake answers its
-//   RCPT TO with "451 try again later", as a relay in trouble would (tests of retried mail)
+//   RCPT TO with "451 try again later", as a relay in trouble would (tests of retried mail); ?times=N
+//   refuses only the next N attempts, ?code=550 refuses with a permanent error instead
+//   PUT /holds/:address?seconds=S, DELETE /holds/:address: a message to the address is stored at once but
+//   answered only S seconds later (a sender killed meanwhile never learns that it went out)
 import { randomUUID } from 'node:crypto';
 import { mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:http';
@@ -22,6 +26,7 @@ interface StoredMessage {
 	from: string;
 	to: string[];
 	subject: string;
+	messageId: string | null;
 	text: string;
 	html: string | null;
 	attachments: { filename: string | null; contentType: string; size: number }[];
@@ -32,7 +37,10 @@ function addresses(field: AddressObject | AddressObject[] | undefined): string[]
 	return list.flatMap((a) => a.value.map((v) => v.address ?? '')).filter(Boolean);
 }
 
-const outages = new Set<string>();
+/** Refused addresses: how many more attempts to refuse (Infinity: until lifted), and with which code. */
+const outages = new Map<string, { left: number; code: number }>();
+/** Addresses whose messages are answered late, in milliseconds. */
+const holds = new Map<string, number>();
 
 const smtp = new SMTPServer({
 	// The bundled certificate of smtp-server has expired; the fake speaks plain SMTP on loopback only.
@@ -41,11 +49,17 @@ const smtp = new SMTPServer({
 	size: 25 * 1024 * 1024,
 	logger: false,
 	onRcptTo(address, _session, callback) {
-		if (outages.has(address.address.toLowerCase())) {
-			const error = new Error('451 4.3.0 Temporary failure: try again later') as Error & {
-				responseCode: number;
-			};
-			error.responseCode = 451;
+		const key = address.address.toLowerCase();
+		const outage = outages.get(key);
+		if (outage) {
+			outage.left -= 1;
+			if (outage.left <= 0) outages.delete(key);
+			const error = new Error(
+				outage.code >= 500
+					? `${outage.code} 5.1.1 Mailbox unavailable`
+					: `${outage.code} 4.3.0 Temporary failure: try again later`
+			) as Error & { responseCode: number };
+			error.responseCode = outage.code;
 			return callback(error);
 		}
 		callback();
@@ -65,6 +79,7 @@ const smtp = new SMTPServer({
 					from: addresses(mail.from)[0] ?? '',
 					to: addresses(mail.to),
 					subject: mail.subject ?? '',
+					messageId: mail.messageId ?? null,
 					text: mail.text ?? '',
 					html: typeof mail.html === 'string' ? mail.html : null,
 					attachments: mail.attachments.map((a) => ({
@@ -74,7 +89,9 @@ const smtp = new SMTPServer({
 					}))
 				};
 				writeFileSync(join(directory, `${id}.json`), JSON.stringify(message));
-				callback();
+				const hold = Math.max(0, ...message.envelope.to.map((a) => holds.get(a.toLowerCase()) ?? 0));
+				if (hold) setTimeout(() => callback(), hold);
+				else callback();
 			})
 			.catch((error: Error) => callback(error));
 	}
@@ -96,7 +113,12 @@ const http = createServer((request, response) => {
 	};
 	if (url.pathname === '/messages' && request.method === 'GET') {
 		const to = url.searchParams.get('to')?.toLowerCase();
-		const messages = listMessages().filter((m) => !to || m.to.some((a) => a.toLowerCase() === to));
+		const bare = (id: string | null | undefined) => id?.trim().replace(/^<|>$/g, '') ?? '';
+		const messageId = bare(url.searchParams.get('messageId'));
+		const messages = listMessages().filter(
+			(m) =>
+				(!to || m.to.some((a) => a.toLowerCase() === to)) && (!messageId || bare(m.messageId) === messageId)
+		);
 		return send(200, messages);
 	}
 	if (url.pathname === '/messages' && request.method === 'DELETE') {
@@ -106,9 +128,18 @@ const http = createServer((request, response) => {
 	const outage = /^\/outages\/(.+)$/.exec(url.pathname);
 	if (outage && (request.method === 'PUT' || request.method === 'DELETE')) {
 		const address = decodeURIComponent(outage[1]!).toLowerCase();
-		if (request.method === 'PUT') outages.add(address);
+		const times = Number(url.searchParams.get('times') ?? Infinity);
+		const code = Number(url.searchParams.get('code') ?? 451);
+		if (request.method === 'PUT') outages.set(address, { left: times > 0 ? times : Infinity, code });
 		else outages.delete(address);
 		return send(200, { address, outage: outages.has(address) });
+	}
+	const hold = /^\/holds\/(.+)$/.exec(url.pathname);
+	if (hold && (request.method === 'PUT' || request.method === 'DELETE')) {
+		const address = decodeURIComponent(hold[1]!).toLowerCase();
+		if (request.method === 'PUT') holds.set(address, Number(url.searchParams.get('seconds') ?? 10) * 1000);
+		else holds.delete(address);
+		return send(200, { address, holdMs: holds.get(address) ?? 0 });
 	}
 	const one = /^\/messages\/([\w-]+)$/.exec(url.pathname);
 	if (one && request.method === 'GET') {

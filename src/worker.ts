@@ -3,7 +3,7 @@
 // PostgreSQL, S3 store and SMTP relay: `npm run worker`. Stops cleanly on SIGINT and SIGTERM.
 import { closeDb } from '$lib/server/db/knex';
 import { stopJobs } from '$lib/server/jobs';
-import { closeSolverPool } from '$lib/server/jobs/award-runs';
+import { closeSolverPool } from '$lib/server/services/run-execution';
 import { startWorkers } from '$lib/server/jobs/workers';
 
 await startWorkers({ awardRuns: true });

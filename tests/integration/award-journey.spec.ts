@@ -34,7 +34,12 @@ let event: TestEvent;
 async function finished(client: Browserless, runId: string) {
 	for (let k = 0; k < 120; k++) {
 		const run = await json(await client.get(`/api/runs/${runId}`, 'application/json'));
-		if (!['queued', 'running'].includes(String(run.status))) return run;
+		// Ended, and its explanation (rule costs, sensitivity; worked out after the allocation) stored too.
+		if (
+			!['queued', 'running'].includes(String(run.status)) &&
+			!['pending', 'running'].includes(String(run.explanationStatus))
+		)
+			return run;
 		await new Promise((r) => setTimeout(r, 250));
 	}
 	throw new Error('the run did not end in time');

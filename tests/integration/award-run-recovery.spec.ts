@@ -1,5 +1,6 @@
 import PgBoss from 'pg-boss';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { MAX_RESTARTS } from '../../src/lib/server/services/run-execution';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { aUser, closeTestDb, testDb } from '../support/factories';
 import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent, signedIn } from '../support/events';
@@ -71,10 +72,28 @@ describe('award runs survive a worker that dies', () => {
 		expect((run.result as { totalCost: number }).totalCost).toBe(25);
 	});
 
-	it('fails a run whose worker died and whose job will not come back, with the reason', async () => {
+	// Issue 10 changed this behaviour: such a run used to wait 31 minutes and then fail with "the worker
+	// stopped during the run and it was not retried"; now the workers' sweep finds its stale heartbeat
+	// and starts it again within seconds, and fails it with the reason only after MAX_RESTARTS takeovers.
+	it('takes over a run whose worker died and whose job will not come back, within seconds', async () => {
 		const { runId } = await aRunLeftRunning(120);
-		const run = await until(runId, (r) => r.status === 'failed', 30);
-		expect(run.error).toBe('the worker stopped during the run and it was not retried');
+		const run = await until(runId, (r) => r.status === 'done', 60);
+		expect(run).toMatchObject({ status: 'done', attempts: 2, restarts: 1 });
+		expect((run.result as { totalCost: number }).totalCost).toBe(25);
+		const restarted = await testDb()('trail_entries')
+			.where({ action: 'award run restarted' })
+			.whereRaw("detail->>'run' = ?", [runId]);
+		expect(restarted).toHaveLength(1);
+		expect(restarted[0].detail.reason).toBe('the worker stopped; restarting');
+	});
+
+	it('fails a run whose workers stopped MAX_RESTARTS times, with the reason', async () => {
+		const { runId } = await aRunLeftRunning(120);
+		await testDb()('award_runs').where({ id: runId }).update({ restarts: MAX_RESTARTS });
+		const run = await until(runId, (r) => r.status === 'failed', 60);
+		expect(run.error).toBe(
+			`the worker stopped during the run ${MAX_RESTARTS + 1} times; it was not started again`
+		);
 		const trail = await testDb()('trail_entries')
 			.where({ action: 'award run failed' })
 			.whereRaw("detail->>'run' = ?", [runId]);

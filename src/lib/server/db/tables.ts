@@ -73,10 +73,30 @@ export interface RunRow {
 	finished_at: Date | null;
 	/** Set by the worker that owns a running run, every few seconds; a stale one means the worker died. */
 	heartbeat_at: Date | null;
+	/** The claim of the worker that owns the run now (a fresh token per claim): writes of an earlier owner are refused. */
+	owner: string | null;
+	/** How often a run (or its explanation) was taken over after its worker stopped. */
+	restarts: number;
 	/** Rule costs, conflicts and sensitivity: worked out after the allocation, by their own job. */
 	explanation: Pick<AwardResult, 'ruleCosts' | 'conflicts' | 'sensitivity'> | null;
 	explanation_status: 'pending' | 'running' | 'done' | 'failed' | 'not_needed';
 	explanation_error: string | null;
+	explanation_sha256: string | null;
+}
+
+export interface MailDeliveryRow {
+	id: string;
+	key: string;
+	recipient: string;
+	subject: string;
+	status: 'sending' | 'sent' | 'failed' | 'unknown';
+	message_id: string;
+	attempts: number;
+	sender: string | null;
+	claimed_at: Date;
+	sent_at: Date | null;
+	last_error: string | null;
+	created_at: Date;
 }
 
 export interface SignoffRow {

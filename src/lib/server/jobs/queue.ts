@@ -11,10 +11,29 @@ export const QUEUES = {
 	mail: 'mail',
 	awardRun: 'award-run',
 	notice: 'notice',
-	signInLink: 'sign-in-link'
+	signInLink: 'sign-in-link',
+	explainRun: 'explain-run'
 } as const;
 
 export type QueueName = (typeof QUEUES)[keyof typeof QUEUES];
+
+/**
+ * Each queue's defaults, for jobs sent without their own. A job whose worker died is handed to another
+ * worker after its expiry: short for mail, whose every send is recorded under an idempotency key first
+ * (a redelivered job never mails anyone twice); award runs and explanations are taken over sooner, by
+ * the heartbeat sweep of the workers (services/run-execution.ts).
+ */
+export const QUEUE_POLICIES: Record<QueueName, Omit<PgBoss.Queue, 'name'>> = {
+	'event-close': { retryLimit: 5 },
+	mail: { expireInSeconds: 30, retryLimit: 10, retryDelay: 5, retryBackoff: true },
+	notice: { expireInSeconds: 30, retryLimit: 30, retryDelay: 2, retryBackoff: true },
+	'sign-in-link': { expireInSeconds: 30, retryLimit: 5, retryDelay: 5, retryBackoff: true },
+	'award-run': { expireInSeconds: 1800, retryLimit: 2, retryDelay: 2 },
+	'explain-run': { expireInSeconds: 3600, retryLimit: 2, retryDelay: 5 }
+};
+
+/** How often pg-boss (in some process) hands expired jobs back: the mail queues' expiry needs it often. */
+export const MAINTENANCE_SECONDS = 10;
 
 let boss: PgBoss | undefined;
 let starting: Promise<PgBoss> | undefined;
@@ -27,7 +46,11 @@ export async function installJobQueues(ownerUrl: string): Promise<void> {
 	const instance = new PgBoss({ connectionString: ownerUrl, max: 2, supervise: false, schedule: false });
 	await instance.start();
 	try {
-		for (const name of [...Object.values(QUEUES), '__pgboss__send-it']) await instance.createQueue(name);
+		for (const name of Object.values(QUEUES)) {
+			await instance.createQueue(name, { name, ...QUEUE_POLICIES[name] });
+			await instance.updateQueue(name, { name, ...QUEUE_POLICIES[name] });
+		}
+		await instance.createQueue('__pgboss__send-it');
 	} finally {
 		await instance.stop({ graceful: false, wait: true });
 	}
@@ -36,7 +59,12 @@ export async function installJobQueues(ownerUrl: string): Promise<void> {
 /** The process's pg-boss, started on first use; its schema and queues must already exist. */
 export function jobs(): Promise<PgBoss> {
 	starting ??= (async () => {
-		const instance = new PgBoss({ connectionString: config().DATABASE_URL, max: 4, migrate: false });
+		const instance = new PgBoss({
+			connectionString: config().DATABASE_URL,
+			max: 4,
+			migrate: false,
+			maintenanceIntervalSeconds: MAINTENANCE_SECONDS
+		});
 		instance.on('error', (error) =>
 			console.error(JSON.stringify({ level: 'error', source: 'pg-boss', message: error.message }))
 		);

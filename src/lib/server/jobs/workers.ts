@@ -1,49 +1,55 @@
-import { sendSignInLink, type SignInLinkJob } from '../auth/sign-in-links';
-import { sendMail, type OutgoingMail } from '../mail';
-import { closeIfDue } from '../services/events';
-import { jobs, QUEUES, type CloseEventJob } from '.';
-import { sendNotice } from './notices';
+// Wires the queues to their handlers in this process: closing events at their deadline, mail, sign-in
+// links and notices everywhere; award runs and their explanations only where asked (worker processes),
+// so a web process never solves. Worker processes also sweep for runs whose worker stopped.
+import { sweepStaleRuns, SWEEP_SECONDS } from '../services/run-execution';
+import { handleAwardRun } from './handlers/award-run';
+import { handleCloseEvent, type CloseEventJob } from './handlers/close-event';
+import { eachJob } from './handlers/each-job';
+import { handleExplainRun } from './handlers/explain-run';
+import { handleMail, type QueuedMail } from './handlers/mail';
+import { handleNotice } from './handlers/notice';
+import { handleSignInLink } from './handlers/sign-in-link';
+import { jobs, QUEUES } from './queue';
+import type { SignInLinkJob } from '../auth/sign-in-links';
+import type { NoticeJob } from '../services/notice-sending';
+import type { RunJob } from '../services/run-execution';
 
-type QueuedMail = Omit<OutgoingMail, 'attachments'> & {
-	attachments?: { filename: string; content: string; contentType?: string }[];
-};
+let sweeping: ReturnType<typeof setInterval> | undefined;
 
 /**
- * Takes work from the queues in this process: closing events at their deadline, mail and notices; award
- * runs only where asked (worker processes), so a web process never solves.
+ * Starts taking jobs. WORKER_QUEUE_PREFIX (tests only) makes this process take its jobs from queues of
+ * that prefix instead (made by the test as the database owner), so a test can hand work to one process
+ * it started and kill it, while the stack's own processes go on with everything else.
  */
 export async function startWorkers(options: { awardRuns?: boolean } = {}): Promise<void> {
 	const queue = await jobs();
-	await queue.work<{ noticeId: string }>(QUEUES.notice, async ([job]) => {
-		if (job) await sendNotice(job.data.noticeId);
-	});
+	const prefix = process.env.WORKER_QUEUE_PREFIX ?? '';
+	const name = (q: string) => `${prefix}${q}`;
+	await queue.work<NoticeJob>(name(QUEUES.notice), handleNotice);
 	if (options.awardRuns) {
-		const { runAward, failAbandonedRuns } = await import('./award-runs');
-		await failAbandonedRuns();
-		// A run whose worker died and whose job will not come back is failed with a reason, never lost.
-		setInterval(() => void failAbandonedRuns().catch(() => undefined), 10_000).unref();
-		await queue.work<{ runId: string }>(QUEUES.awardRun, async ([job]) => {
-			if (job) await runAward(job.data.runId);
-		});
+		await queue.work<RunJob>(name(QUEUES.awardRun), handleAwardRun);
+		// The run page waits for these: polled often.
+		await queue.work<RunJob>(name(QUEUES.explainRun), { pollingIntervalSeconds: 0.5 }, handleExplainRun);
+		const sweep = () =>
+			void sweepStaleRuns().catch((error: Error) =>
+				console.error(JSON.stringify({ level: 'error', source: 'run sweep', message: error.message }))
+			);
+		sweep();
+		sweeping ??= setInterval(sweep, SWEEP_SECONDS * 1000);
+		sweeping.unref();
 	}
-	// People wait for these: polled often and taken a few at a time (a retried batch may send a link twice).
+	// People wait for these: polled often, taken a few at a time, each job settled on its own.
 	await queue.work<SignInLinkJob>(
-		QUEUES.signInLink,
+		name(QUEUES.signInLink),
 		{ batchSize: 5, pollingIntervalSeconds: 0.5 },
-		async (batch) => {
-			for (const job of batch) await sendSignInLink(job.data);
-		}
+		eachJob(name(QUEUES.signInLink), handleSignInLink)
 	);
-	await queue.work<CloseEventJob>(QUEUES.closeEvent, async ([job]) => {
-		if (job) await closeIfDue(job.data.eventId, 'deadline job');
-	});
-	await queue.work<QueuedMail>(QUEUES.mail, { batchSize: 5 }, async (batch) => {
-		// A failure throws, so pg-boss retries the batch with backoff while the relay is down.
-		for (const job of batch) {
-			await sendMail({
-				...job.data,
-				attachments: job.data.attachments?.map((a) => ({ ...a, content: Buffer.from(a.content, 'base64') }))
-			});
-		}
-	});
+	await queue.work<CloseEventJob>(name(QUEUES.closeEvent), handleCloseEvent);
+	await queue.work<QueuedMail>(name(QUEUES.mail), { batchSize: 5 }, eachJob(name(QUEUES.mail), handleMail));
+}
+
+/** Stops the sweep (the queues stop with stopJobs). */
+export function stopSweeping(): void {
+	if (sweeping) clearInterval(sweeping);
+	sweeping = undefined;
 }
