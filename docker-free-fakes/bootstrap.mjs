@@ -33,4 +33,12 @@ const child = spawn(
 for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP']) {
 	process.on(signal, () => child.kill(signal));
 }
+// `kill -TERM <npm pid>`: npm 11 passes the signal to the shell that runs this script, the shell dies and
+// this process is re-parented without a signal of its own. Seen as a new parent: stop the stack.
+const parent = process.ppid;
+const lifeline = setInterval(() => {
+	if (process.ppid === parent) return;
+	clearInterval(lifeline);
+	child.kill('SIGTERM');
+}, 500);
 child.on('exit', (code, signal) => process.exit(code ?? (signal ? 1 : 0)));

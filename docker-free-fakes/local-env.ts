@@ -57,7 +57,8 @@ function keptSecrets(dataRoot: string): StackPlan['secrets'] {
 const envPort = (name: string, fallback: number) => Number(process.env[name] ?? fallback);
 
 export function startPlan(root: string): StackPlan {
-	const dataRoot = join(root, '.data');
+	// TENDERLOOM_DATA_DIR: another folder than .data, for the shutdown test's second stack.
+	const dataRoot = process.env.TENDERLOOM_DATA_DIR ?? join(root, '.data');
 	return {
 		dataRoot,
 		throwaway: false,

@@ -24,7 +24,7 @@ import {
 	postgresService,
 	stopLeftoverServer
 } from './postgres';
-import { Supervisor, waitFor, waitForPort } from './supervisor';
+import { exitWithParent, Supervisor, waitFor, waitForPort } from './supervisor';
 import { migrateDatabase, seedDatabase } from './db';
 import { demoAccounts, DEMO_PASSWORD } from '../seeds/data/demo-accounts';
 
@@ -35,10 +35,17 @@ const tsxNode = (script: string) => ({
 	args: ['--import', 'tsx', join(root, script)]
 });
 
+/** Where the stack keeps its record of pids and its hold files (docker-free-fakes/supervisor.ts). */
+const controlDir = (plan: StackPlan) => join(plan.dataRoot, 'run');
+
+/** What the outage and shutdown tests need to know of the stack that runs them (never the app). */
+const stackFacts = { pgDataDir: '', pgBinDir: '' };
+
 async function startServices(plan: StackPlan, supervisor: Supervisor): Promise<AppEnvironment> {
 	const env = appEnvironment(plan);
 	const binDir = ensurePostgresInstalled(say);
 	const dataDir = chooseDataDir(join(plan.dataRoot, 'pg'), root);
+	Object.assign(stackFacts, { pgDataDir: dataDir, pgBinDir: binDir });
 	if (initCluster(binDir, dataDir, plan.secrets.postgresPassword))
 		say(`created a PostgreSQL cluster in ${dataDir}`);
 	else say(`reusing the PostgreSQL cluster in ${dataDir}`);
@@ -128,7 +135,15 @@ async function startWeb(
 		command: process.execPath,
 		args: [join(root, 'build', 'index.js')],
 		// adapter-node refuses request bodies over 512 kB by default; bid sheets may be up to 5 MB.
-		env: { ...process.env, BODY_SIZE_LIMIT: '6M', ...env, NODE_ENV: localNodeEnv(plan) },
+		env: {
+			...process.env,
+			BODY_SIZE_LIMIT: '6M',
+			// In-flight requests get this long to finish once the server stops taking new ones.
+			SHUTDOWN_TIMEOUT: '5',
+			...env,
+			NODE_ENV: localNodeEnv(plan),
+			EXIT_WITH_PARENT: '1'
+		},
 		logFile: join(plan.dataRoot, 'logs', 'web.log'),
 		echo: !plan.throwaway,
 		ready: () =>
@@ -150,32 +165,51 @@ async function migrateAndSeed(plan: StackPlan, env: AppEnvironment): Promise<voi
 	await seedDatabase(migrationDatabaseUrl(plan));
 }
 
+/** The test or check step running now, stopped with the stack when it is told to stop. */
+let currentStep: ReturnType<typeof spawn> | undefined;
+
 function runStep(command: string, args: string[], env: NodeJS.ProcessEnv = process.env): Promise<number> {
 	return new Promise((resolve) => {
 		const child = spawn(command, args, { cwd: root, env, stdio: 'inherit' });
-		child.on('exit', (code) => resolve(code ?? 1));
+		currentStep = child;
+		child.on('exit', (code) => {
+			currentStep = undefined;
+			resolve(code ?? 1);
+		});
 	});
 }
 
 function build(): void {
+	// For the shutdown test, which starts a second stack beside the one that already built the app.
+	if (process.env.TENDERLOOM_SKIP_BUILD === '1' && existsSync(join(root, 'build', 'index.js'))) return;
 	say('building the app (vite build)…');
 	const result = spawnSync('npx', ['vite', 'build', '--logLevel', 'error'], { cwd: root, stdio: 'inherit' });
 	if (result.status !== 0) throw new Error('vite build failed');
 }
 
+/**
+ * Ctrl-C (SIGINT to the terminal's whole foreground group), SIGTERM or SIGHUP, or the death of the process
+ * that started this one (npm does not pass SIGTERM on to its script's children): stop web and worker, then
+ * the fakes, then PostgreSQL (the supervisor stops them in the reverse order of their start; they sit in
+ * process groups of their own, so a terminal's signal reaches them only through here).
+ */
 function onShutdown(stop: () => Promise<void>): void {
 	let stopping = false;
-	for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) {
-		process.on(signal, () => {
-			if (stopping) return;
-			stopping = true;
-			say(`${signal}: stopping everything`);
-			stop().then(
-				() => process.exit(0),
-				() => process.exit(1)
-			);
-		});
-	}
+	const shutdown = (why: string) => {
+		if (stopping) return;
+		stopping = true;
+		say(`${why}: stopping everything`);
+		currentStep?.kill('SIGTERM');
+		stop().then(
+			() => process.exit(0),
+			(error: unknown) => {
+				console.error(`[tenderloom] stopping failed: ${(error as Error).message}`);
+				process.exit(1);
+			}
+		);
+	};
+	for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) process.on(signal, () => shutdown(signal));
+	exitWithParent(() => shutdown('the process that started the stack is gone'));
 }
 
 async function assertPortsFree(plan: StackPlan): Promise<string[]> {
@@ -193,7 +227,7 @@ async function assertPortsFree(plan: StackPlan): Promise<string[]> {
 
 async function start(): Promise<void> {
 	const plan = startPlan(root);
-	const supervisor = new Supervisor(say);
+	const supervisor = new Supervisor(say, { controlDir: controlDir(plan) });
 	onShutdown(() => supervisor.stopAll());
 	try {
 		const env = await startServices(plan, supervisor);
@@ -256,7 +290,7 @@ async function test(filters: string[]): Promise<void> {
 	// mkdtemp makes a 0700 folder; the `postgres` user must be able to reach the cluster inside it.
 	chmodSync(dataRoot, 0o755);
 	const plan = await testPlan(dataRoot);
-	const supervisor = new Supervisor(say);
+	const supervisor = new Supervisor(say, { controlDir: controlDir(plan) });
 	const results: StepResult[] = [];
 	const counts = { passed: 0, failed: 0, skipped: 0 };
 	const cleanUp = async () => {
@@ -336,7 +370,10 @@ async function test(filters: string[]): Promise<void> {
 							DATABASE_OWNER_URL: migrationDatabaseUrl(plan),
 							DATABASE_ADMIN_URL: adminDatabaseUrl(plan),
 							TEST_DATA_DIR: dataRoot,
-							CLOCK_OFFSET_FILE: join(dataRoot, 'clock.json')
+							CLOCK_OFFSET_FILE: join(dataRoot, 'clock.json'),
+							// The outage test stops this stack's PostgreSQL for a while (tests/support/stack.ts).
+							STACK_CONTROL_DIR: controlDir(plan),
+							PG_DATA_DIR: stackFacts.pgDataDir
 						}
 					);
 					let passed = 0;
@@ -368,7 +405,7 @@ async function test(filters: string[]): Promise<void> {
 
 async function fakes(): Promise<void> {
 	const plan = startPlan(root);
-	const supervisor = new Supervisor(say);
+	const supervisor = new Supervisor(say, { controlDir: controlDir(plan) });
 	onShutdown(() => supervisor.stopAll());
 	const env = await startServices(plan, supervisor);
 	await migrateAndSeed(plan, env);

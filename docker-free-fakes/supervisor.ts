@@ -1,9 +1,53 @@
 // A small process supervisor: starts each local service as a child process, waits until it answers,
-// restarts it when it dies unexpectedly, and stops every child on shutdown.
+// restarts it when it dies unexpectedly (with back-off, for as long as the stack runs), and stops every
+// child on shutdown, in the reverse order of their start.
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createWriteStream, mkdirSync, type WriteStream } from 'node:fs';
+import {
+	createWriteStream,
+	existsSync,
+	mkdirSync,
+	renameSync,
+	writeFileSync,
+	type WriteStream
+} from 'node:fs';
 import { connect } from 'node:net';
-import { dirname } from 'node:path';
+import { dirname, join } from 'node:path';
+
+/**
+ * How fast a crashed service comes back: quickly (doubling from `firstDelayMs` up to `fastDelayMaxMs`)
+ * while it has restarted fewer than `fastRestarts` times within the last `windowMs`, then every
+ * `slowDelayMs`; never giving up, since a local stack with a service missing is down.
+ */
+export interface RestartPolicy {
+	windowMs: number;
+	fastRestarts: number;
+	firstDelayMs: number;
+	fastDelayMaxMs: number;
+	slowDelayMs: number;
+}
+
+export const DEFAULT_RESTART_POLICY: RestartPolicy = {
+	windowMs: 60_000,
+	fastRestarts: 5,
+	firstDelayMs: 500,
+	fastDelayMaxMs: 8_000,
+	slowDelayMs: 30_000
+};
+
+/** The wait before the next restart, given the times of the earlier restarts (pruned to the window). */
+export function restartDelay(policy: RestartPolicy, recentRestarts: number): number {
+	if (recentRestarts >= policy.fastRestarts) return policy.slowDelayMs;
+	return Math.min(policy.firstDelayMs * 2 ** recentRestarts, policy.fastDelayMaxMs);
+}
+
+export interface SupervisorOptions {
+	/**
+	 * A folder for the stack's own record: `pids.json` (every service's current pid, for tests that check
+	 * nothing is left) and hold files: while `hold-<name>` exists a stopped service is not restarted (the
+	 * outage tests stop PostgreSQL for a while this way).
+	 */
+	controlDir?: string;
+}
 
 export interface ServiceSpec {
 	name: string;
@@ -18,28 +62,44 @@ export interface ServiceSpec {
 	stopSignal?: NodeJS.Signals;
 	/** Copy the service's output to this process's stdout as well as to its log file. */
 	echo?: boolean;
-	maxRestarts?: number;
+	restart?: Partial<RestartPolicy>;
 }
 
 interface Running {
 	spec: ServiceSpec;
 	child: ChildProcess;
 	log: WriteStream;
+	/** When it was restarted, within the policy's window. */
+	restartedAt: number[];
 	restarts: number;
 	stopping: boolean;
+	pending?: NodeJS.Timeout;
 }
 
 export class Supervisor {
 	private readonly running = new Map<string, Running>();
 	private shuttingDown = false;
 
-	constructor(private readonly say: (line: string) => void) {}
+	constructor(
+		private readonly say: (line: string) => void,
+		private readonly options: SupervisorOptions = {}
+	) {
+		if (options.controlDir) mkdirSync(options.controlDir, { recursive: true });
+	}
 
 	async start(spec: ServiceSpec): Promise<void> {
 		mkdirSync(dirname(spec.logFile), { recursive: true });
 		const log = createWriteStream(spec.logFile, { flags: 'a' });
-		const entry: Running = { spec, child: this.launch(spec, log), log, restarts: 0, stopping: false };
+		const entry: Running = {
+			spec,
+			child: this.launch(spec, log),
+			log,
+			restartedAt: [],
+			restarts: 0,
+			stopping: false
+		};
 		this.running.set(spec.name, entry);
+		this.recordPids();
 		this.watch(entry);
 		try {
 			await spec.ready();
@@ -52,9 +112,17 @@ export class Supervisor {
 		const child = spawn(spec.command, spec.args, {
 			cwd: spec.cwd,
 			env: spec.env ?? process.env,
-			// stdin stays open as a lifeline: the fakes exit when it closes, so they never outlive a killed parent
-			stdio: ['pipe', 'pipe', 'pipe']
+			// stdin stays open as a lifeline: the fakes, the web server and the worker exit when it closes, so
+			// they never outlive a killed parent.
+			stdio: ['pipe', 'pipe', 'pipe'],
+			// A group of its own: Ctrl-C in a terminal signals the whole foreground group at once, and
+			// PostgreSQL would stop while the web server and worker still use it. Only this process stops
+			// the services, in order.
+			detached: true
 		});
+		// A service that dies closes its end of the lifeline; writing nothing to it never fails, but keep
+		// a late EPIPE from becoming an unhandled error.
+		child.stdin?.on('error', () => undefined);
 		for (const stream of [child.stdout, child.stderr]) {
 			stream?.on('data', (chunk: Buffer) => {
 				log.write(chunk);
@@ -67,28 +135,61 @@ export class Supervisor {
 	private watch(entry: Running): void {
 		entry.child.once('exit', (code, signal) => {
 			if (entry.stopping || this.shuttingDown) return;
-			const limit = entry.spec.maxRestarts ?? 5;
-			if (entry.restarts >= limit) {
-				this.say(
-					`${entry.spec.name} stopped (${signal ?? code}) and was restarted ${limit} times; giving up`
-				);
-				return;
-			}
-			entry.restarts += 1;
-			const delay = Math.min(500 * 2 ** entry.restarts, 10_000);
-			this.say(`${entry.spec.name} stopped (${signal ?? code}); restarting in ${delay} ms`);
-			setTimeout(() => {
+			const policy = { ...DEFAULT_RESTART_POLICY, ...entry.spec.restart };
+			const now = Date.now();
+			entry.restartedAt = entry.restartedAt.filter((at) => now - at < policy.windowMs);
+			const delay = restartDelay(policy, entry.restartedAt.length);
+			this.say(
+				`${entry.spec.name} stopped (${signal ?? code}); restarting in ${delay} ms` +
+					` (${entry.restartedAt.length} restarts in the last ${policy.windowMs / 1000} s)`
+			);
+			const relaunch = () => {
+				entry.pending = undefined;
 				if (this.shuttingDown || entry.stopping) return;
+				if (this.held(entry.spec.name)) {
+					entry.pending = setTimeout(relaunch, 200);
+					return;
+				}
+				entry.restartedAt.push(Date.now());
+				entry.restarts += 1;
 				entry.child = this.launch(entry.spec, entry.log);
+				this.recordPids();
 				this.watch(entry);
-			}, delay).unref();
+			};
+			entry.pending = setTimeout(relaunch, delay);
 		});
+	}
+
+	private held(name: string): boolean {
+		return Boolean(this.options.controlDir && existsSync(join(this.options.controlDir, `hold-${name}`)));
+	}
+
+	/** How often a service was restarted since it started (for tests and messages). */
+	restarts(name: string): number {
+		return this.running.get(name)?.restarts ?? 0;
+	}
+
+	/** The service's current pid, while it runs. */
+	pid(name: string): number | undefined {
+		const child = this.running.get(name)?.child;
+		return child && child.exitCode === null && child.signalCode === null ? child.pid : undefined;
+	}
+
+	private recordPids(): void {
+		if (!this.options.controlDir) return;
+		const pids = Object.fromEntries(
+			[...this.running].map(([name, entry]) => [name, entry.child.pid ?? null])
+		);
+		const file = join(this.options.controlDir, 'pids.json');
+		writeFileSync(`${file}.tmp`, JSON.stringify({ supervisor: process.pid, services: pids }, null, 2));
+		renameSync(`${file}.tmp`, file);
 	}
 
 	async stop(name: string, timeoutMs = 15_000): Promise<void> {
 		const entry = this.running.get(name);
 		if (!entry) return;
 		entry.stopping = true;
+		clearTimeout(entry.pending);
 		const began = Date.now();
 		await stopChild(entry.child, entry.spec.stopSignal ?? 'SIGTERM', timeoutMs);
 		this.say(`stopped ${name} (${Date.now() - began} ms)`);
@@ -153,4 +254,18 @@ export async function waitFor(
 		await new Promise((r) => setTimeout(r, 200));
 	}
 	throw new Error(`timed out waiting for ${what}`);
+}
+
+/**
+ * Calls `onOrphaned` once this process's parent is gone (it was re-parented): npm, for one, ends its
+ * script's shell on SIGTERM but does not signal what that shell started.
+ */
+export function exitWithParent(onOrphaned: () => void, everyMs = 500): void {
+	const parent = process.ppid;
+	const timer = setInterval(() => {
+		if (process.ppid === parent) return;
+		clearInterval(timer);
+		onOrphaned();
+	}, everyMs);
+	timer.unref();
 }

@@ -1,11 +1,11 @@
+import { AsyncLocalStorage } from 'node:async_hooks';
 import { isHttpError, isRedirect, redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
 import { building } from '$app/environment';
 import { sequence } from '@sveltejs/kit/hooks';
-import { authHandle, closeAuthPool } from '$lib/server/auth';
-import { closeDb } from '$lib/server/db/knex';
+import { authHandle, closeAuthPool, SessionCheckUnavailable, sessionUser } from '$lib/server/auth';
+import { closeDb, isDatabaseUnavailable } from '$lib/server/db/knex';
 import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
-import type { SessionUser } from '$lib/server/auth/session-user';
 import { config, publicOrigin } from '$lib/server/config';
 import { fallbackCsp, hookError, jsonError, newErrorId, securityHeaders } from '$lib/server/http';
 import errorPage from './error.html?raw';
@@ -15,11 +15,37 @@ import type { ServerInit } from '@sveltejs/kit';
 
 const READS = new Set(['GET', 'HEAD', 'OPTIONS']);
 
-// adapter-node emits this once the server has stopped taking requests; idle pools would otherwise
-// hold the process open for their idle timeout.
-process.once('sveltekit:shutdown', () => {
-	void stopJobs().finally(() => Promise.all([closeDb(), closeAuthPool()]));
+const log = (level: 'info' | 'warn' | 'error', message: string, more: Record<string, unknown> = {}) =>
+	console[level](JSON.stringify({ level, source: 'web', message, pid: process.pid, ...more }));
+
+// adapter-node stops taking requests on SIGINT and SIGTERM, lets the ones in flight finish (for up to
+// SHUTDOWN_TIMEOUT seconds), then emits this: stop taking jobs, close the pools, and end.
+process.once('sveltekit:shutdown', (reason: string) => {
+	log('info', 'stopping', { reason });
+	void stopJobs()
+		.catch((cause: unknown) => log('warn', `stopping the job queue: ${(cause as Error).message}`))
+		.then(() => Promise.all([closeDb(), closeAuthPool()]))
+		.catch((cause: unknown) => log('warn', `closing the database pools: ${(cause as Error).message}`))
+		.finally(() => {
+			log('info', 'stopped');
+			process.exit(0);
+		});
 });
+
+// A promise nobody waits for that fails (a dropped database connection inside a library, say) is logged;
+// by default Node would end the whole web server for it.
+process.on('unhandledRejection', (reason) =>
+	log('error', `unhandled rejection: ${reason instanceof Error ? reason.message : String(reason)}`, {
+		databaseUnavailable: isDatabaseUnavailable(reason)
+	})
+);
+
+// Started by the project's supervisor (docker-free-fakes/supervisor.ts): stdin is its lifeline, so the
+// server stops as on SIGTERM when the supervisor is gone.
+if (process.env.EXIT_WITH_PARENT === '1' && !building) {
+	process.stdin.on('close', () => process.kill(process.pid, 'SIGTERM'));
+	process.stdin.resume();
+}
 
 /** Web processes take queued work too, unless RUN_WORKERS=false (then another process must run the workers). */
 export const init: ServerInit = async () => {
@@ -47,16 +73,29 @@ function thrownAnswer(thrown: unknown, accept: string): Response | null {
 	});
 }
 
-/** Security headers on every answer; pages keep the CSP with nonces that kit.csp gave them. */
+/** Set by handleError when a request failed because the database did not answer. */
+const requestFailure = new AsyncLocalStorage<{ databaseUnavailable: boolean }>();
+
+const DATABASE_UNAVAILABLE = 'Tenderloom cannot reach its database; try again in a minute.';
+
+/**
+ * Security headers on every answer; pages keep the CSP with nonces that kit.csp gave them. A request that
+ * failed because the database is unreachable is answered 503 (with Retry-After), not 500.
+ */
 const secureHeaders: Handle = async ({ event, resolve }) => {
+	const failure = { databaseUnavailable: false };
 	let response: Response;
 	try {
-		response = await resolve(event);
+		response = await requestFailure.run(failure, () => resolve(event));
 	} catch (thrown) {
 		const answer = thrownAnswer(thrown, event.request.headers.get('accept') ?? '');
 		if (!answer) throw thrown;
 		response = answer;
 	}
+	if (failure.databaseUnavailable && response.status === 500) {
+		response = new Response(response.body, { status: 503, headers: response.headers });
+	}
+	if (response.status === 503) response = withHeader(response, 'retry-after', '30');
 	const headers = {
 		...securityHeaders(publicOrigin().startsWith('https:')),
 		...(response.headers.has('content-security-policy') ? {} : { 'content-security-policy': fallbackCsp })
@@ -104,9 +143,19 @@ const throttleSignIn: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
+/**
+ * The signed-in user, re-read from the database. When the database does not answer, the request is
+ * answered 503 and the session cookie stays: an outage is not a sign-out.
+ */
 const loadUser: Handle = async ({ event, resolve }) => {
-	const session = await event.locals.auth();
-	event.locals.user = (session?.user as SessionUser | undefined) ?? null;
+	try {
+		event.locals.user = await sessionUser(event);
+	} catch (thrown) {
+		if (!(thrown instanceof SessionCheckUnavailable)) throw thrown;
+		const context = { path: event.url.pathname, cause: 'session check: the database is unavailable' };
+		if (event.url.pathname.startsWith('/api/')) return jsonError(503, DATABASE_UNAVAILABLE, context);
+		hookError(503, DATABASE_UNAVAILABLE, context);
+	}
 	return resolve(event);
 };
 
@@ -137,6 +186,21 @@ export const handle = sequence(secureHeaders, sameOriginWrites, throttleSignIn, 
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = newErrorId();
+	if (isDatabaseUnavailable(error)) {
+		const failure = requestFailure.getStore();
+		if (failure) failure.databaseUnavailable = true;
+		console.warn(
+			JSON.stringify({
+				level: 'warn',
+				errorId,
+				status: 503,
+				path: event.url.pathname,
+				summary: 'the database is unavailable',
+				message: error instanceof Error ? error.message : String(error)
+			})
+		);
+		return { message: DATABASE_UNAVAILABLE, errorId };
+	}
 	const cause =
 		error instanceof Error ? { message: error.message, stack: error.stack } : { message: String(error) };
 	console.error(
@@ -157,3 +221,15 @@ export const handleError: HandleServerError = ({ error, event, status, message }
 		errorId
 	};
 };
+
+function withHeader(response: Response, name: string, value: string): Response {
+	try {
+		response.headers.set(name, value);
+		return response;
+	} catch {
+		// Response.redirect() and fetched responses have immutable headers.
+		const copy = new Response(response.body, response);
+		copy.headers.set(name, value);
+		return copy;
+	}
+}

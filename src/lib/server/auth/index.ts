@@ -12,7 +12,7 @@ import { z } from 'zod';
 import { isStaff } from '$lib/roles';
 import { emailAddress } from '$lib/schemas/sign-in';
 import { config, publicOrigin } from '../config';
-import { db } from '../db/knex';
+import { db, isDatabaseUnavailable, logPoolError } from '../db/knex';
 import { findOpenSession, insertSession, touchSession } from '../db/sessions';
 import { findUserById, findUserByEmail, type UserWithOrganisation } from '../db/users';
 import { sessionCookiePolicy } from './cookies';
@@ -39,6 +39,8 @@ interface AuthRequest {
 	userAgent: string | null;
 	ip: string | null;
 	sessionId?: string;
+	/** The session could not be checked because the database did not answer (the cookie is kept). */
+	databaseUnavailable?: boolean;
 }
 const currentRequest = new AsyncLocalStorage<AuthRequest>();
 
@@ -101,7 +103,11 @@ let pool: pg.Pool | undefined;
 
 function authConfig(): SvelteKitAuthConfig {
 	const settings = config();
-	pool ??= new pg.Pool({ connectionString: settings.DATABASE_URL, max: 5 });
+	if (!pool) {
+		pool = new pg.Pool({ connectionString: settings.DATABASE_URL, max: 5 });
+		// An idle connection that PostgreSQL drops (a restart) is an 'error' event: unheard, it ends the process.
+		pool.on('error', logPoolError('auth-pool'));
+	}
 	return {
 		adapter: PostgresAdapter(pool),
 		secret: settings.AUTH_SECRET,
@@ -158,7 +164,17 @@ function authConfig(): SvelteKitAuthConfig {
 					return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
 				}
 				// Re-read on every request: a deactivated user loses the session at once, a new role applies at once.
-				const row = await openSessionUser(Number(token.sub), token.sid);
+				let row: UserWithOrganisation | null;
+				try {
+					row = await openSessionUser(Number(token.sub), token.sid);
+				} catch (error) {
+					// Auth.js clears the cookie when this callback throws or answers null: a database that is
+					// down for a minute would sign everyone out. Keep the token as it is; sessionUser() then
+					// answers the request with "unavailable".
+					if (!request || !isDatabaseUnavailable(error)) throw error;
+					request.databaseUnavailable = true;
+					return token;
+				}
 				if (!row) return null;
 				if (request) request.sessionId = token.sid;
 				const { iat, exp, jti, sid } = token;
@@ -265,6 +281,25 @@ async function linkFromAuthEndpoint(event: RequestEvent): Promise<Response> {
 	}
 	if (event.request.headers.has('x-auth-return-redirect')) return json({ url: location });
 	return new Response(null, { status: 302, headers: { location } });
+}
+
+/** The session could not be checked: the database did not answer. The cookie stays as it was. */
+export class SessionCheckUnavailable extends Error {
+	constructor() {
+		super('Tenderloom cannot reach its database; try again in a minute.');
+		this.name = 'SessionCheckUnavailable';
+	}
+}
+
+/**
+ * The signed-in user of this request, or null when there is none (no cookie, an ended session, a
+ * deactivated user). Throws SessionCheckUnavailable when the database could not be asked: that is an
+ * outage to report, not a sign-out. Call it from a hook after authHandle.
+ */
+export async function sessionUser(event: RequestEvent): Promise<SessionUser | null> {
+	const session = await event.locals.auth();
+	if (currentRequest.getStore()?.databaseUnavailable) throw new SessionCheckUnavailable();
+	return (session?.user as SessionUser | undefined) ?? null;
 }
 
 /** Auth.js's hook: its endpoints, and locals.auth() for the hooks and routes after it. */
