@@ -4,9 +4,9 @@
 import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
-import { solveAward, type Solver } from '$lib/award/engine';
-import { SolveCancelled, SolverPool } from '$lib/award/pool';
-import { parseProblem } from '$lib/award/problem';
+import { solveAward, type Solver } from '$lib/award/core/engine';
+import { SolveCancelled, SolverPool } from '$lib/award/runtime/pool';
+import { parseProblem } from '$lib/award/core/problem';
 import { now } from '../clock';
 import { db } from '../db/knex';
 import { RUN_OPTIONS, type RunRow } from '../services/awards';

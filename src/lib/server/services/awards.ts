@@ -2,8 +2,8 @@
 // freight and duty adders) and the plan's rules into an award problem, stores it with its SHA-256 and
 // solves it in a worker process (pg-boss queue "award-run"); the result is stored with its hash too. An
 // approval is bound to both hashes; a later change to the plan sends the event back to evaluation.
-import { describeRule } from '$lib/award/describe';
-import { parseProblem, ruleSchema, type AwardProblem, type AwardRule } from '$lib/award/problem';
+import { describeRule } from '$lib/award/core/describe';
+import { parseProblem, ruleSchema, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import { visibleBids } from '../db/bids';
