@@ -1,6 +1,6 @@
 // What the engine asks of a solver: one model in, one outcome out. The engine stays pure; the runtime
 // (a pool of HiGHS worker threads, or one instance in this thread) implements it.
-import type { AwardModel } from './model';
+import type { AwardModel } from './model-builder';
 
 export interface SolveOptions {
 	/** Seconds; covers the solve (HiGHS does not count the load). */

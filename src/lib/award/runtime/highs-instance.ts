@@ -2,7 +2,7 @@
 // the CLI and tests. The web process never calls this on its main thread; it uses the pool.
 import { createRequire } from 'node:module';
 import highsLoader, { type Highs } from 'highs';
-import type { AwardModel } from '../core/model';
+import type { AwardModel } from '../core/model-builder';
 import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
 import { solveModel } from './solve-model';
 

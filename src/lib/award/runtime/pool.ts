@@ -5,7 +5,7 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import type { AwardModel } from '../core/model';
+import type { AwardModel } from '../core/model-builder';
 import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
 
 export interface PoolOptions {

@@ -1,6 +1,6 @@
 // One solve of an award model by a HiGHS instance given to it (the runner owns the instances).
 import type { Highs } from 'highs';
-import type { AwardModel } from '../core/model';
+import type { AwardModel } from '../core/model-builder';
 import type { SolveOptions, SolveOutcome } from '../core/solver';
 
 export function solveModel(highs: Highs, model: AwardModel, options: SolveOptions = {}): SolveOutcome {
