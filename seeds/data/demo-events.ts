@@ -1,7 +1,7 @@
 // The two sourcing events of the invented demo scenario (README, "Demo sign-ins"). Every name, item and
 // price is made up; prices come from a seeded generator, so every `npm start` shows the same numbers.
 
-import { seededRandom as seeded } from '../../src/lib/award/generate';
+import { seededRandom as seeded } from '../../src/lib/award/tools/generate';
 
 export interface DemoItem {
 	ref: string;

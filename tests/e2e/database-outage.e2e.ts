@@ -7,7 +7,7 @@
 import PgBoss from 'pg-boss';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { generateProblem } from '../../src/lib/award/generate';
+import { generateProblem } from '../../src/lib/award/tools/generate';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { databaseUrl } from '../support/env';
 import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';

@@ -1,7 +1,7 @@
 // Fault test with real processes: the worker solving a run is killed with SIGKILL mid-solve; another
 // worker (the stack's own) must take the run over and finish it within 60 s, once.
 import { afterAll, describe, expect, it } from 'vitest';
-import { benchmarkRules, generateProblem } from '../../src/lib/award/generate';
+import { benchmarkRules, generateProblem } from '../../src/lib/award/tools/generate';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
 import { aUser, closeTestDb, testDb } from '../support/factories';

@@ -1,7 +1,7 @@
 // A run as a workbook for the file: summary, allocation, supplier totals and rule costs. Every text cell
 // from data is neutralised, so a spreadsheet never reads a supplier's or item's name as a formula.
 import ExcelJS from 'exceljs';
-import type { AwardResult } from '$lib/award/engine';
+import type { AwardResult } from '$lib/award/core/engine';
 import { neutralise } from './sheets/bid-sheet';
 
 /** What a workbook or a comparison needs of a run: the shape services/award-views' runJson returns. */

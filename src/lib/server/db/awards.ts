@@ -1,6 +1,6 @@
 // Award plans, runs, sign-offs and notices: the SQL. The rules (who may, when, in which transaction) are
 // in services/award-plans, award-runs, signoff and award-views.
-import type { AwardRule } from '$lib/award/problem';
+import type { AwardRule } from '$lib/award/core/problem';
 import type { Db } from './knex';
 import type { NoticeRow, PlanRow, RunRow, SignoffRow } from './tables';
 

@@ -1,6 +1,6 @@
 // Row types of the tables, as the database returns them.
-import type { AwardResult } from '$lib/award/engine';
-import type { AwardProblem, AwardRule } from '$lib/award/problem';
+import type { AwardResult } from '$lib/award/core/engine';
+import type { AwardProblem, AwardRule } from '$lib/award/core/problem';
 import type { Role } from '$lib/roles';
 
 export type OrganisationKind = 'buyer' | 'supplier';

@@ -2,7 +2,7 @@
 // opening of its bids (made in closeIfDue's transaction, services/events.ts; the migration
 // 20261204010000 made it for the events opened before), so listing plans only reads. A changed plan sends
 // an event awaiting sign-off back to evaluation.
-import { ruleSchema, type AwardRule } from '$lib/award/problem';
+import { ruleSchema, type AwardRule } from '$lib/award/core/problem';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';

@@ -1,7 +1,7 @@
 // Award runs: a run snapshots the open bids (landed cost where the buyer set freight and duty adders) and
 // the plan's rules into an award problem, stores it with its SHA-256 and queues its solve (pg-boss queue
 // "award-run", sent in the same transaction as the run row: a run is queued with its job or not at all).
-import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/problem';
+import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';

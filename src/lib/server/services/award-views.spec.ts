@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { AwardResult } from '$lib/award/engine';
+import type { AwardResult } from '$lib/award/core/engine';
 import type { RunRow } from '../db/tables';
 import { ownLines, runJson } from './award-views';
 

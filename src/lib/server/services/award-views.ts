@@ -1,7 +1,7 @@
 // What the award pages and API show of plans, runs and results: JSON shapes, the supplier's own result
 // and the approver's queue.
-import { describeRule } from '$lib/award/describe';
-import type { AwardResult } from '$lib/award/engine';
+import { describeRule } from '$lib/award/core/describe';
+import type { AwardResult } from '$lib/award/core/engine';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';

@@ -6,12 +6,11 @@
 // the reason after MAX_RESTARTS takeovers. The allocation is stored as soon as the solve ends; rule costs,
 // conflicts and sensitivity are worked out after it by their own job (explain-run), under the same rules.
 import { randomUUID } from 'node:crypto';
-import { readFileSync } from 'node:fs';
-import { createRequire } from 'node:module';
-import { dirname, join } from 'node:path';
-import { solveAward, type AwardResult, type Solver } from '$lib/award/engine';
-import { SolveCancelled, SolverPool } from '$lib/award/pool';
-import { parseProblem, type AwardProblem } from '$lib/award/problem';
+import { solveAward, type AwardResult, type Solver } from '$lib/award/core/engine';
+import { explainAward } from '$lib/award/core/explain';
+import { SolveCancelled, SolverPool } from '$lib/award/runtime/pool';
+import { solverVersion } from '$lib/award/runtime/solver-version';
+import { parseProblem, type AwardProblem } from '$lib/award/core/problem';
 import { now } from '../clock';
 import {
 	beatRun,
@@ -47,18 +46,6 @@ export interface RunJob {
 
 let pool: SolverPool | undefined;
 
-export const solverVersion = (() => {
-	try {
-		const wasm = createRequire(import.meta.url).resolve('highs/runtime');
-		const { version } = JSON.parse(readFileSync(join(dirname(wasm), '..', 'package.json'), 'utf8')) as {
-			version: string;
-		};
-		return `HiGHS (npm highs ${version})`;
-	} catch {
-		return 'HiGHS (npm highs)';
-	}
-})();
-
 export async function closeSolverPool(): Promise<void> {
 	await pool?.close();
 	pool = undefined;
@@ -77,20 +64,6 @@ export type Explanation = Pick<AwardResult, 'ruleCosts' | 'conflicts' | 'sensiti
  * Works out the explanation of a run's result. For now by solving again with explanations on (the solve
  * is deterministic, so the allocation is the stored one); to be replaced by the engine's explainAward.
  */
-export async function explainStoredRun(
-	problem: AwardProblem,
-	result: AwardResult,
-	solver: Solver
-): Promise<Explanation> {
-	void result;
-	const full = await solveAward(problem, solver, { ...RUN_OPTIONS, explain: true });
-	const explanation: Explanation = {};
-	if (full.ruleCosts) explanation.ruleCosts = full.ruleCosts;
-	if (full.conflicts) explanation.conflicts = full.conflicts;
-	if (full.sensitivity) explanation.sensitivity = full.sensitivity;
-	return explanation;
-}
-
 /** Whether a result has anything to explain: rule costs and sensitivity of an allocation, or conflicts. */
 const explainable = (result: AwardResult) => ['optimal', 'feasible', 'infeasible'].includes(result.status);
 
@@ -231,7 +204,7 @@ export async function explainRun(runId: string): Promise<void> {
 		let fields: Parameters<typeof finishOwnedExplanation>[3];
 		let detail: Record<string, unknown>;
 		try {
-			const explanation = await explainStoredRun(run.problem, run.result!, poolSolver(signal));
+			const explanation = await explainAward(run.problem, run.result!, poolSolver(signal), RUN_OPTIONS);
 			if (lost()) return;
 			const hash = sha256(canonicalJson(explanation));
 			fields = {

@@ -2,9 +2,9 @@
 // the CLI and tests. The web process never calls this on its main thread; it uses the pool.
 import { createRequire } from 'node:module';
 import highsLoader, { type Highs } from 'highs';
-import type { Solver } from './engine';
-import type { AwardModel } from './model';
-import { solveModel, type SolveOptions, type SolveOutcome } from './solve';
+import type { AwardModel } from '../core/model-builder';
+import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
+import { solveModel } from './solve-model';
 
 const require = createRequire(import.meta.url);
 

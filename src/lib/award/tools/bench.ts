@@ -10,10 +10,10 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
-import { solveAward } from './engine';
+import { solveAward } from '../core/engine';
+import { buildModel, type AwardModel } from '../core/model';
+import { SolverPool } from '../runtime/pool';
 import { benchmarkRules, generateProblem } from './generate';
-import { buildModel, type AwardModel } from './model';
-import { SolverPool } from './pool';
 
 interface Measure {
 	size: string;
@@ -214,7 +214,7 @@ async function measureOne(size: string, mode: 'lp' | 'rules'): Promise<Measure> 
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
 
 function childMeasure(size: string, mode: string): Measure {
-	const args = ['--import', 'tsx', 'src/lib/award/bench.ts', '--one', '--size', size, '--mode', mode];
+	const args = ['--import', 'tsx', 'src/lib/award/tools/bench.ts', '--one', '--size', size, '--mode', mode];
 	if (values['skip-references']) args.push('--skip-references');
 	if (values['skip-glpk']) args.push('--skip-glpk');
 	const child = spawnSync(process.execPath, args, { encoding: 'utf8', maxBuffer: 16 * 1024 * 1024 });

@@ -1,8 +1,8 @@
 // One worker thread of the pool: its own HiGHS instance, one solve at a time.
 import { parentPort } from 'node:worker_threads';
-import type { AwardModel } from './model';
+import type { AwardModel } from '../core/model-builder';
+import type { SolveOptions } from '../core/solver';
 import { InProcessSolver } from './highs-instance';
-import type { SolveOptions } from './solve';
 
 const solver = new InProcessSolver();
 

@@ -1,5 +1,5 @@
 // Seeded, invented award problems for tests and benchmarks (never for the demo, never real data).
-import type { AwardProblem, AwardRule } from './problem';
+import type { AwardProblem, AwardRule } from '../core/problem';
 
 /** mulberry32: a small, well-known seeded generator, so every run sees the same problems. */
 export function seededRandom(seed: number): () => number {
@@ -100,3 +100,64 @@ export const benchmarkRules: AwardRule[] = [
 	},
 	{ type: 'supplier_count', scope: 'each_item', max: 3, label: 'At most 3 suppliers per item' }
 ];
+
+/** A random pick from a menu that holds every kind of rule (the cross-check's and the model's pinned cases). */
+export function ruleMenu(random: () => number, problem: AwardProblem): AwardRule[] {
+	const pick = <T>(list: T[]) => list[Math.floor(random() * list.length)]!;
+	const supplier = pick(problem.suppliers).ref;
+	const item = pick(problem.items).ref;
+	const all: AwardRule[] = [
+		{
+			type: 'max_share',
+			scope: 'each_item',
+			who: 'each_supplier',
+			percent: pick([60, 70, 80]),
+			label: 'share cap'
+		},
+		{ type: 'max_share', scope: { lot: 'L1' }, who: { supplier }, percent: 50, label: 'lot spend cap' },
+		{
+			type: 'min_share',
+			scope: 'event',
+			who: { tag: 'small_business' },
+			percent: pick([10, 15]),
+			label: 'small-business floor'
+		},
+		{
+			type: 'min_award',
+			scope: 'each_item',
+			who: 'each_supplier',
+			percentOfItem: pick([10, 20]),
+			label: 'minimum award'
+		},
+		{ type: 'supplier_count', scope: 'each_item', max: pick([2, 3]), label: 'at most n per item' },
+		{ type: 'supplier_count', scope: { item }, min: 2, label: 'dual source one item' },
+		{ type: 'supplier_count', scope: 'event', max: problem.suppliers.length - 1, label: 'fewer suppliers' },
+		{ type: 'max_spend', scope: 'event', who: { supplier }, amount: 20_000, label: 'spend cap' },
+		{ type: 'exclude', scope: { item }, who: { supplier }, label: 'exclusion' },
+		{
+			type: 'award_fixed_cost',
+			amount: pick([200, 500]),
+			per: pick(['supplier', 'supplier_item'] as const),
+			label: 'award cost'
+		}
+	];
+	return all.filter(() => random() < 0.45);
+}
+
+/** The 24 seeded problems solved by the engine and by glpk.js in cross-check.spec.ts. */
+export function crossCheckCases(): { seed: number; problem: AwardProblem }[] {
+	return Array.from({ length: 24 }, (_, k) => {
+		const seed = 1000 + k;
+		const problem = generateProblem({
+			items: 5 + (k % 4),
+			suppliers: 3 + (k % 3),
+			seed,
+			lots: 2,
+			priceBreaks: true,
+			bundles: k % 3 === 0 ? 1 : 0,
+			capacity: k % 2 === 0
+		});
+		problem.rules = ruleMenu(seededRandom(seed * 7), problem);
+		return { seed, problem };
+	});
+}

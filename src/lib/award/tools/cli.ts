@@ -3,9 +3,9 @@
 // which), 1 when the solver failed, 2 on invalid input (one message per problem on stderr).
 import { readFileSync } from 'node:fs';
 import { parseArgs } from 'node:util';
-import { solveAward } from './engine';
-import { SolverPool } from './pool';
-import { parseProblem } from './problem';
+import { solveAward } from '../core/engine';
+import { parseProblem } from '../core/problem';
+import { SolverPool } from '../runtime/pool';
 
 function fail(problems: string[]): never {
 	for (const problem of problems) console.error(problem);

@@ -1,33 +1,7 @@
 // One solve of an award model by a HiGHS instance given to it (the runner owns the instances).
 import type { Highs } from 'highs';
-import type { AwardModel } from './model';
-
-export interface SolveOptions {
-	/** Seconds; covers the solve (HiGHS does not count the load). */
-	timeLimit?: number;
-	/** Relative MIP gap at which to stop. */
-	gap?: number;
-	/** Solve the LP relaxation even when the model has integers. */
-	relax?: boolean;
-}
-
-export type SolveStatus =
-	'optimal' | 'feasible' | 'infeasible' | 'unbounded' | 'no_solution_in_time' | 'solver_error';
-
-export interface SolveOutcome {
-	status: SolveStatus;
-	objective: number | null;
-	/** Best proven lower bound (MIP dual bound, or the objective of an optimal LP). */
-	bound: number | null;
-	gap: number | null;
-	columns: Float64Array | null;
-	/** Row duals (d objective / d row bound) and reduced costs; only for a solved LP. */
-	rowDuals: Float64Array | null;
-	reducedCosts: Float64Array | null;
-	isMip: boolean;
-	seconds: number;
-	message?: string;
-}
+import type { AwardModel } from '../core/model-builder';
+import type { SolveOptions, SolveOutcome } from '../core/solver';
 
 export function solveModel(highs: Highs, model: AwardModel, options: SolveOptions = {}): SolveOutcome {
 	const isMip = model.integers > 0 && !options.relax;

@@ -3,12 +3,11 @@
 // its choices are rounded; re-solve the other items in small batches as MIPs, each within its LP
 // amounts plus the capacity the LP left unused. The LP optimum is a lower bound on the MIP optimum, so
 // the gap reported against it is proven.
-import { allocationCost } from './check';
-import type { Solver } from './engine';
-import { buildModel, type AwardModel } from './model';
-import type { AwardProblem, Scope, Who } from './problem';
-import { awardLines, type AwardLine } from './result';
-import type { SolveOptions, SolveOutcome, SolveStatus } from './solve';
+import { allocationCost } from '../check';
+import { buildModel, type AwardModel } from '../model';
+import type { AwardProblem, Scope, Who } from '../problem';
+import { awardLines, type AwardLine } from '../result';
+import type { SolveOptions, SolveOutcome, SolveStatus, Solver } from '../solver';
 
 const BATCH_ITEMS = 20;
 const TOLERANCE = 1e-6;

@@ -63,3 +63,8 @@ export function describeRule(rule: AwardRule, currency = ''): string {
 				: `Each item awarded to a supplier adds ${money(rule.amount)} for that award`;
 	}
 }
+
+/** A rule's own label, else "rule 3 (max share)": how explanations name it. */
+export function ruleLabel(rule: AwardRule, index: number): string {
+	return rule.label ?? `rule ${index + 1} (${rule.type.replace('_', ' ')})`;
+}

@@ -1,5 +1,6 @@
 // Reading a solved model back into the trade's words: who gets how much of what, at what price.
-import { bundleShares, type AwardModel } from './model';
+import type { AwardModel } from './model-builder';
+import { bundleShares } from './prices';
 import type { AwardProblem } from './problem';
 
 export interface AwardLine {

@@ -5,9 +5,8 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import type { Solver } from './engine';
-import type { AwardModel } from './model';
-import type { SolveOptions, SolveOutcome } from './solve';
+import type { AwardModel } from '../core/model-builder';
+import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
 
 export interface PoolOptions {
 	size?: number;

@@ -1,7 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { FULL_MIP_MAX_INTEGERS, solveAward } from './engine';
-import { benchmarkRules, generateProblem } from './generate';
-import { SolverPool } from './pool';
+import { benchmarkRules, generateProblem } from '../tools/generate';
+import { SolverPool } from '../runtime/pool';
 import { parseProblem, type AwardProblem } from './problem';
 
 const pool = new SolverPool({ size: 2 });

@@ -4,8 +4,8 @@
 import GLPK, { type LP } from 'glpk.js/node';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { solveAward } from './engine';
-import { generateProblem, seededRandom } from './generate';
-import { SolverPool } from './pool';
+import { crossCheckCases } from '../tools/generate';
+import { SolverPool } from '../runtime/pool';
 import type { AwardProblem, AwardRule } from './problem';
 
 type Glpk = Awaited<ReturnType<typeof GLPK>>;
@@ -265,62 +265,7 @@ function glpkFormulation(problem: AwardProblem, g: Glpk): LP {
 	};
 }
 
-const ruleMenu = (random: () => number, problem: AwardProblem): AwardRule[] => {
-	const pick = <T>(list: T[]) => list[Math.floor(random() * list.length)]!;
-	const supplier = pick(problem.suppliers).ref;
-	const item = pick(problem.items).ref;
-	const all: AwardRule[] = [
-		{
-			type: 'max_share',
-			scope: 'each_item',
-			who: 'each_supplier',
-			percent: pick([60, 70, 80]),
-			label: 'share cap'
-		},
-		{ type: 'max_share', scope: { lot: 'L1' }, who: { supplier }, percent: 50, label: 'lot spend cap' },
-		{
-			type: 'min_share',
-			scope: 'event',
-			who: { tag: 'small_business' },
-			percent: pick([10, 15]),
-			label: 'small-business floor'
-		},
-		{
-			type: 'min_award',
-			scope: 'each_item',
-			who: 'each_supplier',
-			percentOfItem: pick([10, 20]),
-			label: 'minimum award'
-		},
-		{ type: 'supplier_count', scope: 'each_item', max: pick([2, 3]), label: 'at most n per item' },
-		{ type: 'supplier_count', scope: { item }, min: 2, label: 'dual source one item' },
-		{ type: 'supplier_count', scope: 'event', max: problem.suppliers.length - 1, label: 'fewer suppliers' },
-		{ type: 'max_spend', scope: 'event', who: { supplier }, amount: 20_000, label: 'spend cap' },
-		{ type: 'exclude', scope: { item }, who: { supplier }, label: 'exclusion' },
-		{
-			type: 'award_fixed_cost',
-			amount: pick([200, 500]),
-			per: pick(['supplier', 'supplier_item'] as const),
-			label: 'award cost'
-		}
-	];
-	return all.filter(() => random() < 0.45);
-};
-
-const cases = Array.from({ length: 24 }, (_, k) => {
-	const seed = 1000 + k;
-	const problem = generateProblem({
-		items: 5 + (k % 4),
-		suppliers: 3 + (k % 3),
-		seed,
-		lots: 2,
-		priceBreaks: true,
-		bundles: k % 3 === 0 ? 1 : 0,
-		capacity: k % 2 === 0
-	});
-	problem.rules = ruleMenu(seededRandom(seed * 7), problem);
-	return { seed, problem };
-});
+const cases = crossCheckCases();
 
 describe('the engine against glpk.js on seeded random problems', () => {
 	it.each(cases)('reaches the same optimum as glpk.js (seed $seed)', async ({ problem }) => {

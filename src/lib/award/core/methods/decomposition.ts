@@ -1,0 +1,90 @@
+// Decomposition: items that share no row (no capacity, spend cap, lot or event rule, bundle) are
+// independent, so each group of linked items is solved as a model of its own, side by side.
+import { buildModel, type AwardModel } from '../model';
+import { restrictToItems, type AwardProblem } from '../problem';
+import { awardLines } from '../result';
+import type { SolveOptions, Solver } from '../solver';
+import { modelSize, type Solved } from '../types';
+
+/** The groups of items linked by a row or a column of the model, in the problem's order. */
+export function independentItemGroups(model: AwardModel, problem: AwardProblem): string[][] {
+	const parent = new Map<string, string>();
+	const find = (a: string): string => {
+		let root = a;
+		while (parent.get(root)! !== root) root = parent.get(root)!;
+		parent.set(a, root);
+		return root;
+	};
+	const union = (a: string, b: string) => parent.set(find(a), find(b));
+	for (const item of problem.items) parent.set(item.ref, item.ref);
+	const itemOfColumn = model.columns.map((c) => {
+		if (c.kind === 'tier' || c.kind === 'tier_used') return [problem.bids[c.bid]!.item];
+		if (c.kind === 'bundle') return problem.bundles[c.bundle]!.items.map((l) => l.item);
+		if (c.kind === 'wins') return [c.item];
+		return [];
+	});
+	// Group columns by row: walk the column-major matrix once.
+	const firstItemOfRow: (string | undefined)[] = new Array(model.numRows);
+	for (let j = 0; j < model.numCols; j++) {
+		const items = itemOfColumn[j]!;
+		for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
+			const row = model.indices[k]!;
+			for (const item of items) {
+				const first = firstItemOfRow[row];
+				if (first === undefined) firstItemOfRow[row] = item;
+				else union(first, item);
+			}
+		}
+	}
+	for (const items of itemOfColumn) for (let k = 1; k < items.length; k++) union(items[0]!, items[k]!);
+	const groups = new Map<string, string[]>();
+	for (const item of problem.items) {
+		const root = find(item.ref);
+		groups.set(root, [...(groups.get(root) ?? []), item.ref]);
+	}
+	return [...groups.values()];
+}
+
+/**
+ * Solves each group apart; the status is the worst of the parts', the objective and bound their sums.
+ * `whole` is the model of the whole problem, for its size and uncovered items.
+ */
+export async function solveDecomposed(
+	problem: AwardProblem,
+	whole: AwardModel,
+	groups: string[][],
+	solver: Solver,
+	options: SolveOptions,
+	withoutRules?: ReadonlySet<number>
+): Promise<Solved> {
+	const parts = await Promise.all(
+		groups.map(async (items) => {
+			const part = restrictToItems(problem, items);
+			const partModel = buildModel(part, { withoutRules });
+			const outcome = await solver.solve(partModel, options);
+			return { part, partModel, outcome };
+		})
+	);
+	const worst = (
+		['infeasible', 'unbounded', 'solver_error', 'no_solution_in_time', 'feasible', 'optimal'] as const
+	).find((s) => parts.some((p) => p.outcome.status === s))!;
+	const usable = worst === 'optimal' || worst === 'feasible';
+	const objective = usable ? parts.reduce((a, p) => a + p.outcome.objective!, 0) : null;
+	const bound = parts.every((p) => p.outcome.bound !== null)
+		? parts.reduce((a, p) => a + p.outcome.bound!, 0)
+		: null;
+	return {
+		status: worst,
+		method: 'decomposed',
+		objective,
+		bound,
+		gap:
+			objective !== null && bound !== null
+				? Math.abs(objective - bound) / Math.max(1e-9, Math.abs(objective))
+				: null,
+		lines: usable ? parts.flatMap((p) => awardLines(p.part, p.partModel, p.outcome.columns!)) : [],
+		seconds: parts.reduce((a, p) => Math.max(a, p.outcome.seconds), 0),
+		uncovered: whole.uncovered,
+		modelSize: modelSize(whole)
+	};
+}
