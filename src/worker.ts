@@ -5,8 +5,17 @@ import { closeDb } from '$lib/server/db/knex';
 import { stopJobs } from '$lib/server/jobs';
 import { closeSolverPool } from '$lib/server/jobs/award-runs';
 import { startWorkers } from '$lib/server/jobs/workers';
+import { sweepUploadOrphans } from '$lib/server/services/upload-sweep';
 
 await startWorkers({ awardRuns: true });
+// Files and rows a dead upload request left behind (services/upload-sweep.ts), every minute.
+setInterval(
+	() =>
+		void sweepUploadOrphans().catch((error: Error) =>
+			console.error(JSON.stringify({ level: 'error', source: 'upload-sweep', message: error.message }))
+		),
+	60_000
+).unref();
 console.log(JSON.stringify({ level: 'info', source: 'worker', message: 'taking jobs', pid: process.pid }));
 
 let stopping = false;
