@@ -1,5 +1,6 @@
 import bcrypt from 'bcryptjs';
 import type { Knex } from 'knex';
+import { findOrganisationByName, insertOrganisation } from '../src/lib/server/db/organisations';
 import { BUYING_ORGANISATION, DEMO_PASSWORD, demoAccounts } from './data/demo-accounts';
 
 // Idempotent: organisations and users are matched by name and e-mail, and brought back to the demo state.
@@ -10,14 +11,12 @@ export async function seed(knex: Knex): Promise<void> {
 		const organisations = [...new Set(demoAccounts.map((a) => a.organisation))];
 		for (const name of organisations) {
 			const kind = name === BUYING_ORGANISATION ? 'buyer' : 'supplier';
-			const found = await trx('organisations')
-				.whereRaw('kind = ? and lower(name) = lower(?)', [kind, name])
-				.first('id');
-			const id =
-				(found?.id as string | undefined) ??
-				((await trx('organisations').insert({ name, kind }).returning('id'))[0] as { id: string }).id;
-			organisationIds.set(name, id);
+			const found =
+				(await findOrganisationByName(trx, kind, name)) ?? (await insertOrganisation(trx, name, kind));
+			organisationIds.set(name, found.id);
 		}
+		// Users are upserted by e-mail (name, role, organisation and password brought back to the demo's):
+		// db/users.ts has no upsert, so this stays a query of its own.
 		for (const account of demoAccounts) {
 			const organisationKind = account.role === 'supplier' ? 'supplier' : 'buyer';
 			await trx('users')

@@ -1,4 +1,15 @@
 import type { Knex } from 'knex';
+import { insertRevision } from '../src/lib/server/db/bids';
+import {
+	insertEvent,
+	insertInvitation,
+	listItems,
+	replaceItems,
+	setEventState,
+	setInvitationTags,
+	type EventFields
+} from '../src/lib/server/db/events';
+import { findOrganisationByName } from '../src/lib/server/db/organisations';
 import { appendTrail } from '../src/lib/server/trail';
 import { BUYING_ORGANISATION } from './data/demo-accounts';
 import { packagingBids, packagingItems, uniformItems, type DemoBid, type DemoItem } from './data/demo-events';
@@ -10,11 +21,9 @@ const OPEN = 'FP-2027-PPE';
 const DAY = 24 * 3600_000;
 
 async function organisationId(trx: Knex.Transaction, name: string, kind: 'buyer' | 'supplier') {
-	const row = await trx('organisations')
-		.whereRaw('kind = ? and lower(name) = lower(?)', [kind, name])
-		.first('id');
+	const row = await findOrganisationByName(trx, kind, name);
 	if (!row) throw new Error(`the demo organisation ${name} is missing: run the seeds in order`);
-	return row.id as string;
+	return row.id;
 }
 
 async function userOf(trx: Knex.Transaction, organisation: string) {
@@ -22,37 +31,44 @@ async function userOf(trx: Knex.Transaction, organisation: string) {
 		.id as number;
 }
 
+/** The event as a buyer would make it (db/events.ts), then moved to its demo state. */
 async function makeEvent(
 	trx: Knex.Transaction,
-	fields: Record<string, unknown>,
+	organisation: string,
+	fields: Omit<EventFields, 'bidValidityDays' | 'allowPriceBreaks' | 'allowCapacity' | 'allowBundles'> &
+		Partial<EventFields>,
+	state: Parameters<typeof setEventState>[3] & { state: 'open' | 'closed' },
 	items: DemoItem[],
 	createdBy: number
 ): Promise<{ id: string; itemIds: Map<string, string> }> {
-	const [event] = await trx('events')
-		.insert({ ...fields, created_by: createdBy })
-		.returning('id');
-	const lots = [...new Set(items.map((i) => i.lot))];
-	const lotRows = await trx('lots')
-		.insert(lots.map((ref) => ({ event_id: event.id, ref, title: ref })))
-		.returning(['id', 'ref']);
-	const lotId = new Map(lotRows.map((l: { id: string; ref: string }) => [l.ref, l.id]));
-	const rows = await trx('items')
-		.insert(
-			items.map((i, position) => ({
-				event_id: event.id,
-				lot_id: lotId.get(i.lot),
-				ref: i.ref,
-				description: i.description,
-				quantity: i.quantity,
-				unit: i.unit,
-				baseline_unit_price: i.baseline,
-				position
-			}))
-		)
-		.returning(['id', 'ref']);
-	return { id: event.id, itemIds: new Map(rows.map((r: { id: string; ref: string }) => [r.ref, r.id])) };
+	const event = await insertEvent(trx, organisation, createdBy, {
+		bidValidityDays: 90,
+		allowPriceBreaks: false,
+		allowCapacity: false,
+		allowBundles: false,
+		...fields
+	});
+	const { state: to, ...extra } = state;
+	await setEventState(trx, event.id, to, extra);
+	await replaceItems(
+		trx,
+		event.id,
+		items.map((i) => ({
+			ref: i.ref,
+			description: i.description,
+			lot: i.lot,
+			quantity: i.quantity,
+			unit: i.unit,
+			baselineUnitPrice: i.baseline,
+			freightPerUnit: null,
+			dutyPerUnit: null
+		}))
+	);
+	const rows = await listItems(trx, event.id);
+	return { id: event.id, itemIds: new Map(rows.map((r) => [r.ref, r.id])) };
 }
 
+/** Revision 1 of a supplier's bid, typed on screen, through db/bids.ts as a supplier's would be. */
 async function placeBid(
 	trx: Knex.Transaction,
 	eventId: string,
@@ -61,48 +77,25 @@ async function placeBid(
 	at: Date
 ) {
 	const supplier = await organisationId(trx, bid.supplier, 'supplier');
-	const [revision] = await trx('bid_revisions')
-		.insert({
-			event_id: eventId,
-			supplier_organisation_id: supplier,
-			number: 1,
-			source: 'screen',
+	await insertRevision(trx, {
+		eventId,
+		supplierOrganisationId: supplier,
+		source: 'screen',
+		uploadId: null,
+		submittedBy: await userOf(trx, supplier),
+		submittedAt: at,
+		bid: {
 			capacity: bid.capacity,
-			submitted_by: await userOf(trx, supplier),
-			submitted_at: at
-		})
-		.returning('id');
-	const lines = await trx('bid_lines')
-		.insert(
-			bid.lines.map((l) => ({
-				revision_id: revision.id,
-				item_id: itemIds.get(l.item),
-				unit_price: l.unitPrice,
-				max_quantity: l.maxQuantity
-			}))
-		)
-		.returning(['id', 'item_id']);
-	const lineOf = new Map(lines.map((l: { id: string; item_id: string }) => [l.item_id, l.id]));
-	const breaks = bid.lines.flatMap((l) =>
-		l.breaks.map((b) => ({
-			bid_line_id: lineOf.get(itemIds.get(l.item)!),
-			from_quantity: b.from,
-			unit_price: b.unitPrice
-		}))
-	);
-	if (breaks.length) await trx('price_breaks').insert(breaks);
-	for (const bundle of bid.bundles) {
-		const [offer] = await trx('bundle_offers')
-			.insert({ revision_id: revision.id, ref: bundle.ref, price: bundle.price })
-			.returning('id');
-		await trx('bundle_offer_items').insert(
-			bundle.items.map((i) => ({
-				bundle_offer_id: offer.id,
-				item_id: itemIds.get(i.item),
-				quantity: i.quantity
-			}))
-		);
-	}
+			lines: bid.lines.map((l) => ({
+				item: l.item,
+				unitPrice: l.unitPrice,
+				maxQuantity: l.maxQuantity,
+				priceBreaks: l.breaks.map((b) => ({ fromQuantity: b.from, unitPrice: b.unitPrice }))
+			})),
+			bundles: bid.bundles
+		},
+		itemIds
+	});
 	return supplier;
 }
 
@@ -121,28 +114,30 @@ export async function seed(knex: Knex): Promise<void> {
 			const deadline = new Date(now - 2 * DAY);
 			const { id, itemIds } = await makeEvent(
 				trx,
+				buying,
 				{
-					organisation_id: buying,
 					reference: CLOSED,
 					title: 'Packaging and consumables 2027',
 					description: 'Annual forecast quantities for the North, Harbour and Uplands depots.',
 					currency: 'EUR',
 					incoterm: 'DAP',
-					delivery_place: 'North, Harbour and Uplands depots',
+					deliveryPlace: 'North, Harbour and Uplands depots',
 					deadline,
-					time_zone: 'Europe/Berlin',
-					allow_price_breaks: true,
-					allow_capacity: true,
-					allow_bundles: true,
+					timeZone: 'Europe/Berlin',
+					allowPriceBreaks: true,
+					allowCapacity: true,
+					allowBundles: true
+				},
+				{
 					state: 'closed',
 					published_at: new Date(now - 30 * DAY),
 					opened_at: deadline,
-					opening_record: JSON.stringify({
+					opening_record: {
 						at: deadline.toISOString(),
 						by: 'demo data',
 						suppliers: bids.length,
 						revisions: bids.length
-					})
+					}
 				},
 				items,
 				actor.id
@@ -155,12 +150,8 @@ export async function seed(knex: Knex): Promise<void> {
 			};
 			for (const [k, bid] of bids.entries()) {
 				const supplier = await placeBid(trx, id, itemIds, bid, new Date(now - (20 - k) * DAY));
-				await trx('invitations').insert({
-					event_id: id,
-					supplier_organisation_id: supplier,
-					invited_by: actor.id,
-					tags: tags[bid.supplier] ?? []
-				});
+				await insertInvitation(trx, id, supplier, actor.id);
+				if (tags[bid.supplier]) await setInvitationTags(trx, id, supplier, tags[bid.supplier]!);
 			}
 			await trx('award_plans').insert([
 				{ event_id: id, name: 'Lowest cost (no rules)', rules: JSON.stringify([]), lowest_cost: true },
@@ -203,19 +194,18 @@ export async function seed(knex: Knex): Promise<void> {
 			const items = uniformItems();
 			const { id, itemIds } = await makeEvent(
 				trx,
+				buying,
 				{
-					organisation_id: buying,
 					reference: OPEN,
 					title: 'Depot uniforms and PPE 2027',
 					description: 'Uniforms and personal protective equipment for depot staff.',
 					currency: 'EUR',
 					incoterm: 'DDP',
-					delivery_place: 'Harbour depot',
+					deliveryPlace: 'Harbour depot',
 					deadline: new Date(now + 21 * DAY),
-					time_zone: 'Europe/Berlin',
-					state: 'open',
-					published_at: new Date(now - 5 * DAY)
+					timeZone: 'Europe/Berlin'
 				},
+				{ state: 'open', published_at: new Date(now - 5 * DAY) },
 				items,
 				actor.id
 			);
@@ -227,11 +217,7 @@ export async function seed(knex: Knex): Promise<void> {
 				'Corrow Packaging'
 			];
 			for (const name of invited)
-				await trx('invitations').insert({
-					event_id: id,
-					supplier_organisation_id: await organisationId(trx, name, 'supplier'),
-					invited_by: actor.id
-				});
+				await insertInvitation(trx, id, await organisationId(trx, name, 'supplier'), actor.id);
 			for (const [k, name] of ['Osk & Vale Supply', 'Sallow Point Industries'].entries()) {
 				const bid: DemoBid = {
 					supplier: name,

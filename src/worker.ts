@@ -7,6 +7,7 @@ import { closeDb, isDatabaseUnavailable } from '$lib/server/db/knex';
 import { stopJobs } from '$lib/server/jobs';
 import { closeSolverPool } from '$lib/server/services/run-execution';
 import { startWorkers } from '$lib/server/jobs/workers';
+import { sweepUploadOrphans } from '$lib/server/services/upload-sweep';
 
 const log = (level: 'info' | 'warn' | 'error', message: string, more: Record<string, unknown> = {}) =>
 	console[level](JSON.stringify({ level, source: 'worker', message, pid: process.pid, ...more }));
@@ -48,4 +49,12 @@ if (process.env.EXIT_WITH_PARENT === '1') {
 }
 
 await startWorkers({ awardRuns: true });
+// Files and rows a dead upload request left behind (services/upload-sweep.ts), every minute.
+setInterval(
+	() =>
+		void sweepUploadOrphans().catch((error: Error) =>
+			console.error(JSON.stringify({ level: 'error', source: 'upload-sweep', message: error.message }))
+		),
+	60_000
+).unref();
 console.log(JSON.stringify({ level: 'info', source: 'worker', message: 'taking jobs', pid: process.pid }));

@@ -1,7 +1,7 @@
 import { readFileSync, rmSync, writeFileSync } from 'node:fs';
 import ExcelJS from 'exceljs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { accessibilityViolations, openBrowser, type OpenBrowser } from '../support/browser';
+import { browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
 import { appUrl } from '../support/env';
 import { aUser, closeTestDb } from '../support/factories';
 import {
@@ -11,9 +11,10 @@ import {
 	signedIn,
 	uploadSheet
 } from '../support/events';
-import { latestMailTo, linkIn } from '../support/mail';
+import { latestMailTo } from '../support/mail';
 
 let browser: OpenBrowser;
+const { expectAccessible, signInAsStaff, signInBySupplierLink } = browserHelpers(() => browser);
 const clockFile = () => process.env.CLOCK_OFFSET_FILE;
 
 beforeAll(async () => {
@@ -24,51 +25,6 @@ afterAll(async () => {
 	await browser?.close();
 	await closeTestDb();
 });
-
-/**
- * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
- * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
- */
-async function leavePage() {
-	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
-	await browser.page.goto('about:blank');
-}
-
-async function expectAccessible(what: string) {
-	expect(await accessibilityViolations(browser.page), what).toEqual([]);
-}
-
-async function signInAsStaff(email: string, password: string, home: string) {
-	const { page } = browser;
-	await leavePage();
-	await browser.context.clearCookies();
-	await page.goto(`${appUrl()}/signin`);
-	const field = page.locator('#password-email');
-	try {
-		await field.waitFor({ timeout: 10_000 });
-	} catch {
-		throw new Error(
-			`no sign-in form at ${page.url()}: ${(await page.locator('body').innerText()).slice(0, 300)}`
-		);
-	}
-	await field.fill(email);
-	await page.getByLabel('Password', { exact: true }).fill(password);
-	await page.getByRole('button', { name: 'Sign in', exact: true }).click();
-	await page.waitForURL(`**${home}`);
-}
-
-async function signInBySupplierLink(email: string) {
-	const { page } = browser;
-	await leavePage();
-	await browser.context.clearCookies();
-	await page.goto(`${appUrl()}/signin`);
-	const sentAfter = new Date();
-	await page.getByLabel('E-mail address').first().fill(email);
-	await page.getByRole('button', { name: 'Send the link' }).click();
-	await page.waitForURL(/\/signin\/check-email/);
-	await page.goto(linkIn((await latestMailTo(email, { after: sentAfter })).text));
-	await page.waitForURL('**/supplier');
-}
 
 describe('the four journeys, in a browser', () => {
 	it('a supplier bids, a buyer optimises with a rule, an approver signs off, the supplier hears its award', async () => {

@@ -1,13 +1,14 @@
 import { readFileSync, rmSync, writeFileSync } from 'node:fs';
 import ExcelJS from 'exceljs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { accessibilityViolations, openBrowser, type OpenBrowser } from '../support/browser';
+import { browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
 import { appUrl } from '../support/env';
 import { aUser, closeTestDb, unique } from '../support/factories';
 import { aSupplierOrganisationWithUser } from '../support/events';
-import { latestMailTo, linkIn } from '../support/mail';
+import { latestMailTo } from '../support/mail';
 
 let browser: OpenBrowser;
+const { expectAccessible, signInAsStaff, signInBySupplierLink } = browserHelpers(() => browser);
 const clockFile = () => process.env.CLOCK_OFFSET_FILE;
 
 beforeAll(async () => {
@@ -18,44 +19,6 @@ afterAll(async () => {
 	await browser?.close();
 	await closeTestDb();
 });
-
-/**
- * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
- * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
- */
-async function leavePage() {
-	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
-	await browser.page.goto('about:blank');
-}
-
-async function expectAccessible(what: string) {
-	expect(await accessibilityViolations(browser.page), what).toEqual([]);
-}
-
-async function signInAsStaff(email: string, password: string) {
-	const { page } = browser;
-	await leavePage();
-	await browser.context.clearCookies();
-	await page.goto(`${appUrl()}/signin`);
-	await page.locator('#password-email').fill(email);
-	await page.getByLabel('Password', { exact: true }).fill(password);
-	await page.getByRole('button', { name: 'Sign in', exact: true }).click();
-	await page.waitForURL(/\/(buyer|admin|approver|audit)$/);
-}
-
-async function signInBySupplierLink(email: string) {
-	const { page } = browser;
-	await leavePage();
-	await browser.context.clearCookies();
-	await page.goto(`${appUrl()}/signin`);
-	const sentAfter = new Date();
-	await page.getByLabel('E-mail address').first().fill(email);
-	await page.getByRole('button', { name: 'Send the link' }).click();
-	await page.waitForURL(/\/signin\/check-email/);
-	const mail = await latestMailTo(email, { after: sentAfter });
-	await page.goto(linkIn(mail.text));
-	await page.waitForURL('**/supplier');
-}
 
 /** Twenty items in three lots, as a buyer would prepare them in a spreadsheet and save as CSV. */
 function itemCsv(): string {

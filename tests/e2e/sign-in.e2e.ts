@@ -1,11 +1,12 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { accessibilityViolations, openBrowser, type OpenBrowser } from '../support/browser';
+import { browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
 import { appUrl } from '../support/env';
 import { aUser, closeTestDb } from '../support/factories';
 
 let browser: OpenBrowser;
+const { leavePage, expectAccessible, submitPassword } = browserHelpers(() => browser);
 
 beforeAll(async () => {
 	browser = await openBrowser();
@@ -14,26 +15,6 @@ afterAll(async () => {
 	await browser?.close();
 	await closeTestDb();
 });
-
-/** Fills and sends the staff password form of the sign-in page in view. */
-async function submitPassword(email: string, password: string) {
-	await browser.page.locator('#password-email').fill(email);
-	await browser.page.getByLabel('Password', { exact: true }).fill(password);
-	await browser.page.getByRole('button', { name: 'Sign in', exact: true }).click();
-}
-
-/**
- * Leaves the page before cookies are cleared: Auth.js renews the session cookie on every response, so a
- * request still in flight (such as a page refreshing its data) would otherwise bring the old session back.
- */
-async function leavePage() {
-	await browser.page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
-	await browser.page.goto('about:blank');
-}
-
-async function expectAccessible(what: string) {
-	expect(await accessibilityViolations(browser.page), what).toEqual([]);
-}
 
 describe('signing in with a browser', () => {
 	it('signs a supplier in by a link read from the local mailbox and shows the role on its home page', async () => {

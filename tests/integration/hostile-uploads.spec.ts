@@ -1,8 +1,17 @@
 // Hostile bid files (tests/fixtures/hostile/generate.ts) sent by an invited supplier through the
 // upload API of the built server, while the health check is polled: each file is refused, or answered,
 // with the message a supplier needs, the supplier's previous bid stays as it was, and the server keeps
-// answering. Then the limits on how much one supplier may upload.
+// answering. Then the limits on how much one supplier may upload; then uploads that die half-way or
+// come too late, with real faults (a process killed, a request aborted, the deadline passing while the
+// upload waits): in the end, no object in the store for this file's events without an upload keeping it.
+import { spawn } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { closeDb } from '../../src/lib/server/db/knex';
+import { sweepUploadOrphans } from '../../src/lib/server/services/upload-sweep';
 import { hostileCorpus, type HostileFile } from '../fixtures/hostile/generate';
 import { appUrl } from '../support/env';
 import {
@@ -10,12 +19,44 @@ import {
 	aSupplierOrganisationWithUser,
 	anOpenEvent,
 	signedIn,
+	untilPast,
 	uploadSheet
 } from '../support/events';
 import { closeTestDb, testDb, type TestUser } from '../support/factories';
 import type { Browserless } from '../support/http';
 
-afterAll(closeTestDb);
+afterAll(async () => {
+	await closeTestDb();
+	await closeDb();
+});
+
+/** Every event this file makes: at its end, each object stored under them must belong to an upload. */
+const eventsMade: string[] = [];
+
+const s3 = new S3Client({
+	region: process.env.S3_REGION,
+	endpoint: process.env.S3_ENDPOINT,
+	forcePathStyle: true,
+	credentials: {
+		accessKeyId: process.env.S3_ACCESS_KEY_ID ?? '',
+		secretAccessKey: process.env.S3_SECRET_ACCESS_KEY ?? ''
+	}
+});
+
+/** The keys of the objects stored under a prefix, straight from the S3 fake. */
+async function storedKeys(prefix: string): Promise<string[]> {
+	const page = await s3.send(new ListObjectsV2Command({ Bucket: process.env.S3_BUCKET, Prefix: prefix }));
+	return (page.Contents ?? []).map((o) => o.Key!);
+}
+
+async function until<T>(what: string, check: () => Promise<T | undefined>, seconds = 20): Promise<T> {
+	for (let k = 0; k < seconds * 10; k++) {
+		const found = await check();
+		if (found !== undefined) return found;
+		await new Promise((r) => setTimeout(r, 100));
+	}
+	throw new Error(`${what}: not within ${seconds} s`);
+}
 
 const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
 type Problem = { sheet: string; row: number | null; column: string | null; message: string };
@@ -63,6 +104,7 @@ interface Supplier {
 async function aSupplierInvitedTo(buyerId: number): Promise<Supplier & { eventId: string }> {
 	const { organisation, user } = await aSupplierOrganisationWithUser();
 	const event = await anOpenEvent({ createdBy: buyerId, invite: [organisation.id] });
+	eventsMade.push(event.id);
 	return { user, client: await signedIn(user), organisationId: organisation.id, eventId: event.id };
 }
 
@@ -282,5 +324,165 @@ describe('upload limits of one supplier organisation', () => {
 		expect(Number(stored[0]!.count)).toBe(1);
 		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
 		expect(bids.bids).toEqual([]);
+	});
+});
+
+describe('an upload that dies half-way or comes too late', () => {
+	/** A signed-in supplier, and an event it is invited to whose deadline is `seconds` ahead. */
+	async function aSupplierBefore(seconds: number) {
+		const { organisation, user } = await aSupplierOrganisationWithUser();
+		const client = await signedIn(user);
+		const deadline = new Date(Date.now() + seconds * 1000);
+		const event = await anOpenEvent({ createdBy: buyerId, invite: [organisation.id], deadline });
+		eventsMade.push(event.id);
+		return {
+			user,
+			client,
+			organisationId: organisation.id,
+			eventId: event.id,
+			deadline,
+			name: organisation.name
+		};
+	}
+
+	/**
+	 * Holds a lock on the event's row that keeps bids from being recorded (they lock it for update), as a
+	 * long transaction of the buying side would, until released; rows that merely refer to the event (an
+	 * upload's) can still be written.
+	 */
+	async function holdEvent(eventId: string) {
+		const trx = await testDb().transaction();
+		await trx('events').where({ id: eventId }).forNoKeyUpdate().first('id');
+		return () => trx.rollback();
+	}
+
+	it('refused at the deadline: answered 409, its file deleted, and no row or trail entry claims a bid', async () => {
+		const own = await aSupplierBefore(8);
+		const release = await holdEvent(own.eventId);
+		const answer = uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv');
+		// The file is stored, and the upload waits for the event to record it as a bid ...
+		const prefix = `uploads/${own.eventId}/${own.organisationId}/`;
+		await until('the file stored', async () => ((await storedKeys(prefix)).length ? true : undefined));
+		// ... while the deadline passes.
+		await untilPast(own.deadline);
+		await release();
+		const refused = await answer;
+		expect(refused.status).toBe(409);
+		expect((await json(refused)).message).toMatch(/^The bid deadline passed at /);
+		expect(await storedKeys(prefix)).toEqual([]);
+		const rows = await testDb()('uploads').where({ event_id: own.eventId }).select('status');
+		expect(rows.map((r) => r.status)).toEqual(['refused']);
+		expect(await testDb()('bid_revisions').where({ event_id: own.eventId })).toEqual([]);
+		const actions = await testDb()('trail_entries').where({ event_id: own.eventId }).pluck('action');
+		expect(actions.filter((a: string) => a.startsWith('upload'))).toEqual([]);
+	}, 60_000);
+
+	it('killed (kill -9) after storing its file: the file has its row, and the sweep removes both', async () => {
+		const own = await aSupplierBefore(600);
+		const folder = mkdtempSync(join(tmpdir(), 'tenderloom-upload-'));
+		const file = join(folder, 'bid.csv');
+		writeFileSync(file, VALID_BID);
+		const release = await holdEvent(own.eventId);
+		const actor = {
+			id: own.user.id,
+			name: own.user.name,
+			email: own.user.email,
+			role: 'supplier',
+			organisationId: own.organisationId,
+			organisationName: own.name
+		};
+		const child = spawn(
+			process.execPath,
+			['--import', 'tsx', 'tests/support/upload-in-process.ts', JSON.stringify(actor), own.eventId, file],
+			{ stdio: ['ignore', 'pipe', 'pipe'] }
+		);
+		const exited = new Promise<string | null>((resolve) =>
+			child.once('exit', (_code, signal) => resolve(signal))
+		);
+		let output = '';
+		child.stdout.on('data', (chunk: Buffer) => (output += chunk.toString()));
+		child.stderr.on('data', (chunk: Buffer) => (output += chunk.toString()));
+		const prefix = `uploads/${own.eventId}/${own.organisationId}/`;
+		try {
+			const [key] = await until(`the file stored (${output})`, async () => {
+				const keys = await storedKeys(prefix);
+				return keys.length ? keys : undefined;
+			});
+			child.kill('SIGKILL');
+			expect(await exited).toBe('SIGKILL');
+			await release();
+			// No object without a row: the row was committed before the file was put.
+			const row = await testDb()('uploads').where({ storage_key: key }).first('id', 'status');
+			expect(row?.status).toBe('receiving');
+			expect(await testDb()('bid_revisions').where({ event_id: own.eventId })).toEqual([]);
+			// A request that died minutes ago: the sweep refuses its upload and deletes its file.
+			await testDb()('uploads')
+				.where({ id: row.id })
+				.update({ received_at: new Date(Date.now() - 10 * 60_000) });
+			const sweep = await sweepUploadOrphans();
+			expect(sweep.deleted).toContain(key);
+			expect(await storedKeys(prefix)).toEqual([]);
+			expect((await testDb()('uploads').where({ id: row.id }).first('status')).status).toBe('refused');
+			// The supplier's page lists only uploads that were answered.
+			const page = await (await own.client.get(`/supplier/events/${own.eventId}`)).text();
+			expect(page).not.toContain('data-testid="uploads"');
+		} finally {
+			child.kill('SIGKILL');
+			await release().catch(() => undefined);
+			rmSync(folder, { recursive: true, force: true });
+		}
+	}, 60_000);
+
+	it('aborted by its sender half-way through the body: nothing stored, no row, and the server answers on', async () => {
+		const own = await aSupplierBefore(600);
+		const boundary = '----tenderloom-abort';
+		const head = Buffer.from(
+			`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="bid.csv"\r\nContent-Type: text/csv\r\n\r\n`
+		);
+		const big = Buffer.concat([VALID_BID, Buffer.from('\r\n' + 'x'.repeat(400_000))]);
+		const controller = new AbortController();
+		const body = new ReadableStream<Uint8Array>({
+			async start(stream) {
+				stream.enqueue(new Uint8Array(head));
+				stream.enqueue(new Uint8Array(big.subarray(0, 200_000)));
+				await new Promise((r) => setTimeout(r, 500));
+				controller.abort();
+			}
+		});
+		await expect(
+			own.client.request(`/api/events/${own.eventId}/bids`, {
+				method: 'POST',
+				body,
+				headers: { 'content-type': `multipart/form-data; boundary=${boundary}` },
+				accept: 'application/json',
+				signal: controller.signal,
+				duplex: 'half'
+			} as RequestInit)
+		).rejects.toThrow();
+		await new Promise((r) => setTimeout(r, 1000));
+		expect(await storedKeys(`uploads/${own.eventId}/`)).toEqual([]);
+		expect(await testDb()('uploads').where({ event_id: own.eventId })).toEqual([]);
+		expect((await fetch(`${appUrl()}/healthz`)).ok).toBe(true);
+		expect((await uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv')).status).toBe(201);
+	}, 60_000);
+});
+
+describe('the object store after this file', () => {
+	it('holds no file of these events that no answered upload keeps (zero orphans)', async () => {
+		const orphans: string[] = [];
+		let stored = 0;
+		for (const eventId of eventsMade) {
+			const keys = await storedKeys(`uploads/${eventId}/`);
+			stored += keys.length;
+			const kept = new Set(
+				await testDb()('uploads')
+					.where({ event_id: eventId })
+					.whereIn('status', ['accepted', 'rejected'])
+					.pluck('storage_key')
+			);
+			orphans.push(...keys.filter((k) => !kept.has(k)));
+		}
+		expect(stored).toBeGreaterThan(0);
+		expect(orphans).toEqual([]);
 	});
 });

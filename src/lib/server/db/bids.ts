@@ -18,7 +18,11 @@ export interface UploadRow {
 	commitment_salt: string | null;
 	file_name: string;
 	kind: 'xlsx' | 'csv' | null;
-	status: 'accepted' | 'rejected';
+	/**
+	 * "receiving" from before its file is stored until it is read; then "accepted" (a revision holds it),
+	 * "rejected" (kept with its report) or "refused" (never a bid: its file is deleted, or being deleted).
+	 */
+	status: 'receiving' | 'accepted' | 'rejected' | 'refused';
 	/** At most the first problems found (MAX_PROBLEMS_KEPT); problem_count is how many there were. */
 	report: SheetProblem[];
 	problem_count: number;
@@ -59,6 +63,9 @@ const uploadColumns = (db: Db) => [
 	'received_at'
 ];
 
+/** What an upload ended as: only these were answered, are shown, and reach the trail. */
+const ANSWERED: UploadRow['status'][] = ['accepted', 'rejected'];
+
 export async function insertUpload(
 	db: Db,
 	upload: Omit<UploadRow, 'id' | 'received_at' | 'size_bytes'> & { size_bytes: number; received_at: Date }
@@ -73,27 +80,101 @@ export async function insertUpload(
 	return row!;
 }
 
-/** Every upload's commitment and salt: only for the opening, which reveals them in the trail. */
+/**
+ * Takes the lock on one organisation's uploads to one event, until the caller's transaction ends: the
+ * uploads it counts against the quota cannot change meanwhile.
+ */
+export async function lockSupplierUploads(
+	trx: Db,
+	eventId: string,
+	supplierOrganisationId: string
+): Promise<void> {
+	await trx.raw('select pg_advisory_xact_lock(hashtextextended(?, 0))', [
+		`uploads:${eventId}:${supplierOrganisationId}`
+	]);
+}
+
+/**
+ * Moves a "receiving" upload to what it ended as; undefined when it is no longer receiving (the sweep
+ * refused it as abandoned), so the caller must not go on as if it held the upload.
+ */
+export async function finishUpload(
+	db: Db,
+	id: string,
+	outcome:
+		| { status: 'accepted'; kind: UploadRow['kind']; received_at: Date }
+		| {
+				status: 'rejected';
+				kind: UploadRow['kind'];
+				report: SheetProblem[];
+				problem_count: number;
+				received_at: Date;
+		  }
+		| { status: 'refused' }
+): Promise<UploadRow | undefined> {
+	const changes =
+		outcome.status === 'rejected'
+			? {
+					...outcome,
+					report: JSON.stringify(outcome.report.slice(0, MAX_PROBLEMS_KEPT)),
+					problem_count: Math.max(outcome.problem_count, outcome.report.length)
+				}
+			: outcome;
+	const [row] = await db('uploads')
+		.where({ id, status: 'receiving' })
+		.update(changes)
+		.returning(uploadColumns(db));
+	return row as UploadRow | undefined;
+}
+
+/**
+ * Uploads left "receiving" since before `before` (their request died): marked refused, with the keys
+ * whose objects must go. One statement, so an upload finishing at the same moment either wins or loses.
+ */
+export async function refuseAbandonedUploads(db: Db, before: Date): Promise<string[]> {
+	const rows: { storage_key: string }[] = await db('uploads')
+		.where({ status: 'receiving' })
+		.andWhere('received_at', '<', before)
+		.update({ status: 'refused' })
+		.returning('storage_key');
+	return rows.map((r) => r.storage_key);
+}
+
+/** Which of these object keys an upload row holds, and that row's status. */
+export async function uploadStatusByKey(db: Db, keys: string[]): Promise<Map<string, UploadRow['status']>> {
+	const found = new Map<string, UploadRow['status']>();
+	for (let k = 0; k < keys.length; k += 1000) {
+		const rows: { storage_key: string; status: UploadRow['status'] }[] = await db('uploads')
+			.whereIn('storage_key', keys.slice(k, k + 1000))
+			.select('storage_key', 'status');
+		for (const row of rows) found.set(row.storage_key, row.status);
+	}
+	return found;
+}
+
+/** Every answered upload's commitment and salt: only for the opening, which reveals them in the trail. */
 export function listUploadCommitments(
 	db: Db,
 	eventId: string
 ): Promise<Pick<UploadRow, 'id' | 'commitment' | 'commitment_salt'>[]> {
 	return db<UploadRow>('uploads')
 		.where({ event_id: eventId })
+		.whereIn('status', ANSWERED)
 		.whereNotNull('commitment')
 		.orderBy('received_at')
 		.select('id', 'commitment', 'commitment_salt');
 }
 
-/** Where every stored bid file is (of one event, or all): for re-wrapping their keys. */
+/** Where every kept bid file is (of one event, or all): for re-wrapping their keys. */
 export async function listUploadStorageKeys(db: Db, eventId?: string): Promise<string[]> {
 	const rows = await (eventId ? db('uploads').where({ event_id: eventId }) : db('uploads'))
+		.whereIn('status', ANSWERED)
 		.orderBy('received_at')
 		.select('storage_key');
 	return rows.map((r: { storage_key: string }) => r.storage_key);
 }
 
-/** The latest uploads first, at most `limit`, each with how many uploads there are in all. */
+/** The latest answered uploads first, at most `limit`, each with how many there are in all. */
 export function listUploads(
 	db: Db,
 	eventId: string,
@@ -102,12 +183,16 @@ export function listUploads(
 ): Promise<(UploadRow & { uploads_in_all: number })[]> {
 	return db('uploads')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.whereIn('status', ANSWERED)
 		.select([...uploadColumns(db), db.raw('count(*) over ()::int as uploads_in_all')])
 		.orderBy('received_at', 'desc')
 		.limit(limit) as unknown as Promise<(UploadRow & { uploads_in_all: number })[]>;
 }
 
-/** Bytes of every file the organisation uploaded to the event, accepted or not (the storage quota). */
+/**
+ * Bytes of every file the organisation uploaded to the event and that is kept or still arriving, accepted
+ * or not (the storage quota); refused files are deleted. Under lockSupplierUploads, it stays so.
+ */
 export async function storedUploadBytes(
 	db: Db,
 	eventId: string,
@@ -115,6 +200,7 @@ export async function storedUploadBytes(
 ): Promise<number> {
 	const [{ total }] = await db('uploads')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
+		.whereNot({ status: 'refused' })
 		.select(db.raw('coalesce(sum(size_bytes), 0)::bigint as total'));
 	return Number(total);
 }

@@ -6,8 +6,10 @@ import { createHash, randomUUID } from 'node:crypto';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import {
+	finishUpload,
 	insertRevision,
 	insertUpload,
+	lockSupplierUploads,
 	listOwnRevisions,
 	listSubmissions,
 	listUploads,
@@ -22,15 +24,10 @@ import { listItems, lockEvent, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
-import {
-	buildBidCsv,
-	buildBidSheet,
-	parseScreenPrices,
-	type ParsedBid,
-	type SheetProblem
-} from '../sheets/bid-sheet';
+import { buildBidCsv, buildBidSheet, parseScreenPrices, type SheetProblem } from '../sheets/bid-sheet';
 import { readBidFile } from '../sheets/read-bid-file';
 import { checkUploadQuota, countSupplierUpload } from '../sheets/upload-limits';
+import { deleteObject } from '../storage';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
@@ -83,12 +80,24 @@ export type SubmitOutcome =
 	| { ok: false; problems: SheetProblem[]; problemCount: number; upload: UploadRow | null };
 
 /**
- * An uploaded bid sheet. The organisation's upload count and storage quota for the event are checked
- * first (nothing is stored past them); then the file is read on a worker thread (type, size, entries
- * and sheet shape before any parsing, then every cell) and stored under a generated key with its
- * SHA-256. A rejected upload is kept with its report (the first MAX_PROBLEMS_KEPT problems and their
- * total) and changes nothing else; an accepted one becomes the next numbered revision, in one
- * transaction that holds the event's lock and checks the deadline again by the server's clock.
+ * An uploaded bid sheet, as a small state machine whose every step is committed before the next, so no
+ * file is ever stored under a key the database does not know and no answer contradicts what was kept:
+ *
+ * 1. receiving: the organisation's upload count is taken, then, in one transaction under the lock on the
+ *    organisation's uploads to the event, the storage quota is checked and the row is written with its
+ *    generated object key, SHA-256 and salted commitment (nothing is stored past the limits);
+ * 2. the file is stored, sealed, under that key, while it is read on a worker thread (type, size,
+ *    entries and sheet shape before any parsing, then every cell);
+ * 3. rejected: the row gets its report (the first MAX_PROBLEMS_KEPT problems and their total) and the
+ *    trail an entry; nothing else changes, and the file is kept with it;
+ *    accepted: in one transaction holding the event's lock, with the deadline checked again by the
+ *    server's clock, the row is marked, the bid becomes the next numbered revision, the trail gets its
+ *    entry and the receipt is queued;
+ *    refused: anything else (the deadline passed meanwhile, the store or the database failed): the row is
+ *    marked refused and its object deleted before the error is answered.
+ *
+ * A request that dies between 1 and 3 leaves a "receiving" row: services/upload-sweep.ts refuses it after
+ * a few minutes and deletes its object. Once step 3 commits, only the answer is built (nothing can fail).
  */
 export async function submitUpload(
 	actor: SessionUser,
@@ -99,92 +108,134 @@ export async function submitUpload(
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
 	await countSupplierUpload(event.id, actor.organisationId);
-	await checkUploadQuota(event.id, actor.organisationId, file.bytes.length);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	// Before the opening the buying side sees only this commitment: a plain hash lets prices be guessed.
 	const { commitment, salt } = commitToFile(file.bytes);
 	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
-	const items = await listItems(db(), id);
-	const reading = await readBidFile(sheetEvent(event, items), file);
-	await putBidFile(key, file.bytes);
-	let problems: SheetProblem[] = [];
-	let bid: ParsedBid | null = null;
-	if (reading.outcome.ok) bid = reading.outcome.bid;
-	else problems = reading.outcome.problems;
-	const record = {
-		event_id: event.id,
-		supplier_organisation_id: actor.organisationId,
-		uploaded_by: actor.id,
-		storage_key: key,
-		sha256,
-		size_bytes: file.bytes.length,
-		commitment,
-		commitment_salt: salt,
-		file_name: file.name.slice(0, 255) || 'upload',
-		kind: reading.kind
-	};
-	if (!bid) {
-		const upload = await db().transaction(async (trx) => {
-			const stored = await insertUpload(trx, {
-				...record,
-				status: 'rejected',
-				report: problems.slice(0, MAX_PROBLEMS_KEPT),
-				problem_count: problems.length,
-				received_at: now()
+	const receiving = await db().transaction(async (trx) => {
+		await lockSupplierUploads(trx, event.id, actor.organisationId);
+		await checkUploadQuota(trx, event.id, actor.organisationId, file.bytes.length);
+		return insertUpload(trx, {
+			event_id: event.id,
+			supplier_organisation_id: actor.organisationId,
+			uploaded_by: actor.id,
+			storage_key: key,
+			sha256,
+			size_bytes: file.bytes.length,
+			commitment,
+			commitment_salt: salt,
+			file_name: file.name.slice(0, 255) || 'upload',
+			kind: null,
+			status: 'receiving',
+			report: [],
+			problem_count: 0,
+			received_at: now()
+		});
+	});
+	try {
+		const items = await listItems(db(), id);
+		const [reading] = await Promise.all([
+			readBidFile(sheetEvent(event, items), file),
+			putBidFile(key, file.bytes)
+		]);
+		if (!reading.outcome.ok) {
+			const problems = reading.outcome.problems;
+			const upload = await db().transaction(async (trx) => {
+				const stored = await finishUpload(trx, receiving.id, {
+					status: 'rejected',
+					kind: reading.kind,
+					report: problems,
+					problem_count: problems.length,
+					received_at: now()
+				});
+				if (!stored) throw abandoned();
+				await appendTrail(trx, {
+					eventId: id,
+					actor,
+					action: 'upload rejected',
+					detail: { supplier: actor.organisationName, upload: stored.id, commitment },
+					at: stored.received_at
+				});
+				return stored;
+			});
+			return {
+				ok: false,
+				problems: problems.slice(0, MAX_PROBLEMS_KEPT),
+				problemCount: problems.length,
+				upload
+			};
+		}
+		const bid = reading.outcome.bid;
+		const { revision, upload } = await db().transaction(async (trx) => {
+			const locked = (await lockEvent(trx, id))!;
+			const at = now();
+			refuseUnlessOpen(locked, at);
+			const upload = await finishUpload(trx, receiving.id, {
+				status: 'accepted',
+				kind: reading.kind,
+				received_at: at
+			});
+			if (!upload) throw abandoned();
+			const revision = await insertRevision(trx, {
+				eventId: id,
+				supplierOrganisationId: actor.organisationId,
+				source: 'upload',
+				uploadId: upload.id,
+				submittedBy: actor.id,
+				submittedAt: at,
+				bid,
+				itemIds: new Map(items.map((i) => [i.ref, i.id]))
 			});
 			await appendTrail(trx, {
 				eventId: id,
 				actor,
-				action: 'upload rejected',
-				detail: { supplier: actor.organisationName, upload: stored.id, commitment },
-				at: stored.received_at
+				action: 'upload accepted',
+				detail: {
+					supplier: actor.organisationName,
+					revision: revision.number,
+					upload: upload.id,
+					commitment
+				},
+				at
 			});
-			return stored;
+			await mailReceipt(trx, actor, locked, revision, context, {
+				fileName: upload.file_name,
+				sha256,
+				lines: bid.lines.length
+			});
+			return { revision, upload };
 		});
-		return {
-			ok: false,
-			problems: problems.slice(0, MAX_PROBLEMS_KEPT),
-			problemCount: problems.length,
-			upload
-		};
+		return { ok: true, revision, upload, sha256 };
+	} catch (error) {
+		await refuseUpload(receiving);
+		throw error;
 	}
-	const accepted = bid;
-	const { revision, upload } = await db().transaction(async (trx) => {
-		const locked = (await lockEvent(trx, id))!;
-		const at = now();
-		refuseUnlessOpen(locked, at);
-		const upload = await insertUpload(trx, {
-			...record,
-			status: 'accepted',
-			report: [],
-			problem_count: 0,
-			received_at: at
-		});
-		const revision = await insertRevision(trx, {
-			eventId: id,
-			supplierOrganisationId: actor.organisationId,
-			source: 'upload',
-			uploadId: upload.id,
-			submittedBy: actor.id,
-			submittedAt: at,
-			bid: accepted,
-			itemIds: new Map(items.map((i) => [i.ref, i.id]))
-		});
-		await appendTrail(trx, {
-			eventId: id,
-			actor,
-			action: 'upload accepted',
-			detail: { supplier: actor.organisationName, revision: revision.number, upload: upload.id, commitment },
-			at
-		});
-		await mailReceipt(trx, actor, event, revision, context, {
-			fileName: upload.file_name,
-			sha256,
-			lines: accepted.lines.length
-		});
-		return { revision, upload };
-	});
-	return { ok: true, revision, upload, sha256 };
+}
+
+const abandoned = () =>
+	new RuleViolation(
+		'The upload took too long to complete and was not kept; your current bid is unchanged. Upload the file again.',
+		'file',
+		409
+	);
+
+/**
+ * Step 3, refused: the row first (so it never claims a file that is gone), then the object, only when
+ * this request moved the row (a commit whose answer was lost leaves it accepted, with its file). Failing
+ * here is logged, not thrown: the caller answers the first error, and the sweep finishes what was left.
+ */
+async function refuseUpload(upload: UploadRow): Promise<void> {
+	try {
+		if (await finishUpload(db(), upload.id, { status: 'refused' })) await deleteObject(upload.storage_key);
+	} catch (error) {
+		console.error(
+			JSON.stringify({
+				level: 'error',
+				source: 'uploads',
+				message: `upload ${upload.id} not yet refused (the sweep will): ${(error as Error).message}`
+			})
+		);
+	}
 }
 
 /** The receipt, queued in the transaction that records the bid. */

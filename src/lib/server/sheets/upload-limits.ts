@@ -5,7 +5,7 @@
 import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { describeWait } from '../auth/rate-limit';
 import { storedUploadBytes } from '../db/bids';
-import { db } from '../db/knex';
+import { db, type Db } from '../db/knex';
 
 const positive = (value: string | undefined, fallback: number) =>
 	Number.isFinite(Number(value)) && Number(value) > 0 ? Number(value) : fallback;
@@ -64,13 +64,18 @@ export async function countSupplierUpload(eventId: string, supplierOrganisationI
 	}
 }
 
-/** Throws when storing `bytes` more would take the organisation's uploads to the event over the quota. */
+/**
+ * Throws when storing `bytes` more would take the organisation's uploads to the event over the quota.
+ * Counted in the caller's transaction, which holds db/bids.ts lockSupplierUploads and records the upload,
+ * so two uploads at once cannot both fit into the room that is left for one.
+ */
 export async function checkUploadQuota(
+	trx: Db,
 	eventId: string,
 	supplierOrganisationId: string,
 	bytes: number
 ): Promise<void> {
-	const stored = await storedUploadBytes(db(), eventId, supplierOrganisationId);
+	const stored = await storedUploadBytes(trx, eventId, supplierOrganisationId);
 	if (stored + bytes <= SUPPLIER_UPLOAD_LIMITS.quotaBytes) return;
 	throw new UploadLimitReached(
 		`Your organisation's uploads to this event take ${size(stored)} of the ${size(SUPPLIER_UPLOAD_LIMITS.quotaBytes)} allowed; this file (${size(bytes)}) would go over it. It was not stored; your current bid is unchanged. You can still enter prices on screen, or ask the buyer for help.`,

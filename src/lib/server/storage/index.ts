@@ -70,6 +70,21 @@ export async function listKeys(prefix: string): Promise<string[]> {
 	return keys;
 }
 
+/** Every object under a prefix with when it was last written, in the store's (lexical) order. */
+export async function listObjects(prefix: string): Promise<{ key: string; lastModified: Date | null }[]> {
+	const objects: { key: string; lastModified: Date | null }[] = [];
+	let token: string | undefined;
+	do {
+		const page = await s3().send(
+			new ListObjectsV2Command({ Bucket: bucket(), Prefix: prefix, ContinuationToken: token })
+		);
+		for (const o of page.Contents ?? [])
+			if (o.Key) objects.push({ key: o.Key, lastModified: o.LastModified ?? null });
+		token = page.IsTruncated ? page.NextContinuationToken : undefined;
+	} while (token);
+	return objects;
+}
+
 /** Whether the bucket can be reached with the configured keys. */
 export async function storageReachable(): Promise<boolean> {
 	try {
