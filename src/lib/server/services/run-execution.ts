@@ -10,7 +10,7 @@ import { solveAward, type AwardResult, type Solver } from '$lib/award/core/engin
 import { explainAward } from '$lib/award/core/explain';
 import { SolveCancelled, SolverPool } from '$lib/award/runtime/pool';
 import { solverVersion } from '$lib/award/runtime/solver-version';
-import { parseProblem, type AwardProblem } from '$lib/award/core/problem';
+import { parseProblem } from '$lib/award/core/problem';
 import { now } from '../clock';
 import {
 	beatRun,
