@@ -193,7 +193,7 @@ describe('returning a run', () => {
 });
 
 describe('answers to one question at once', () => {
-	it('publishes exactly one; the other is told it was answered already (409)', async () => {
+	it('publishes exactly one; the others are told it was answered already (409)', async () => {
 		const { organisation, user } = await aSupplierOrganisationWithUser();
 		const open = await anOpenEvent({ createdBy: buyer.user.id, invite: [organisation.id] });
 		const [question] = await testDb()('questions')
@@ -204,17 +204,17 @@ describe('answers to one question at once', () => {
 				text: 'May we deliver in two lots?'
 			})
 			.returning('id');
-		const second = await signedIn(await aUser('buyer'));
+		// Five buyers of the organisation answer at the same moment.
+		const others = await Promise.all([1, 2, 3, 4].map(async () => signedIn(await aUser('buyer'))));
 		const answer = (client: Browserless, text: string) =>
 			client.postForm(`/buyer/events/${open.id}/questions?/answer`, {
 				questionId: question.id,
 				publishedQuestion: 'May suppliers deliver in two lots?',
 				answer: text
 			});
-		const statuses = (await Promise.all([answer(buyer.client, 'Yes.'), answer(second, 'No.')])).map(
-			(r) => r.status
-		);
-		expect(statuses.sort()).toEqual([200, 409]);
+		const answers = [buyer.client, ...others].map((client, k) => answer(client, `Answer ${k + 1}.`));
+		const statuses = (await Promise.all(answers)).map((r) => r.status);
+		expect(statuses.sort()).toEqual([200, 409, 409, 409, 409]);
 		const trail = await testDb()('trail_entries').where({ event_id: open.id, action: 'answer published' });
 		expect(trail).toHaveLength(1);
 	});
