@@ -120,6 +120,38 @@ describe('award plans, runs, sign-off and notices', () => {
 		expect(again.resultSha256).toBe(run.resultSha256);
 	});
 
+	it('sends the run page its summary first and the allocation a page at a time, filtered and sorted on the server', async () => {
+		const summary = await json(
+			await buyer.client.get(`/api/runs/${lowestRun}?summary=1`, 'application/json')
+		);
+		expect(summary.allocationLines).toBe(3);
+		expect((summary.result as { awards: unknown[]; totalCost: number }).awards).toEqual([]);
+		expect((summary.result as { totalCost: number }).totalCost).toBeCloseTo(
+			100 * 4.5 + 200 * 4.9 + 300 * 6,
+			6
+		);
+
+		type Page = { total: number; offset: number; limit: number; lines: { item: string; cost: number }[] };
+		const page = async (query: string) =>
+			(await json(
+				await buyer.client.get(`/api/runs/${lowestRun}/lines?${query}`, 'application/json')
+			)) as Page;
+		// Costs from the first test: IT-3 300 x 6 = 1,800; IT-2 200 x 4.9 = 980; IT-1 100 x 4.5 = 450.
+		const byCost = await page('sort=cost&limit=2');
+		expect(byCost.total).toBe(3);
+		expect(byCost.lines.map((l) => l.item)).toEqual(['IT-3', 'IT-2']);
+		expect((await page('sort=cost&limit=2&offset=2')).lines.map((l) => l.item)).toEqual(['IT-1']);
+		expect((await page('filter=it-2')).lines.map((l) => l.item)).toEqual(['IT-2']);
+		expect((await page('filter=nothing-like-this')).total).toBe(0);
+		// A hostile page size is bounded, a nonsense offset starts at the first line.
+		const bounded = await page('limit=100000&offset=-5');
+		expect([bounded.limit, bounded.offset, bounded.lines.length]).toEqual([500, 0, 3]);
+
+		// A supplier never reads the buyer's allocation, not even a page of it.
+		const refused = await a.client.get(`/api/runs/${lowestRun}/lines`, 'application/json');
+		expect([403, 404]).toContain(refused.status);
+	});
+
 	it('refuses a plan with a bad rule, naming it, and runs a plan with a share cap', async () => {
 		const bad = await post(buyer.client, `/api/events/${event.id}/plans`, {
 			name: 'Broken',

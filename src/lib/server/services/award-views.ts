@@ -9,11 +9,9 @@ import { db } from '../db/knex';
 import type { PlanRow, RunRow } from '../db/tables';
 import { RuleViolation } from './errors';
 import { eventFor } from './events';
+import { STALE_SECONDS } from './run-execution';
 
 type AwardLine = AwardResult['awards'][number];
-
-/** A heartbeat older than this means the worker running the solve has died. */
-export const HEARTBEAT_STALE_MS = 20_000;
 
 export function planJson(plan: PlanRow, currency: string) {
 	return {
@@ -55,10 +53,12 @@ export function runJson(run: RunRow, options: { withProblem?: boolean } = {}) {
 		error: run.error,
 		result,
 		explanationStatus: run.explanation_status ?? 'done',
+		// The worker died: its heartbeat stopped, or the sweep has put the run back in the queue.
 		workerLost:
-			run.status === 'running' &&
-			run.heartbeat_at != null &&
-			at.getTime() - run.heartbeat_at.getTime() > HEARTBEAT_STALE_MS,
+			(run.status === 'running' &&
+				run.heartbeat_at != null &&
+				at.getTime() - run.heartbeat_at.getTime() > STALE_SECONDS * 1000) ||
+			(run.status === 'queued' && (run.restarts ?? 0) > 0),
 		rules: run.problem.rules.map((r, k) => ({
 			index: k,
 			text: r.label ?? describeRule(r, run.problem.currency)
@@ -80,6 +80,86 @@ export function runSummary(run: RunRow) {
 	};
 }
 export type RunSummary = ReturnType<typeof runSummary>;
+
+/** Lines of the allocation the run page asks for at a time, and the most one request may take. */
+export const ALLOCATION_PAGE = 100;
+export const ALLOCATION_PAGE_MAX = 500;
+/** The page lists only the first of these; the API's full answer keeps them all. */
+const SHOWN_LOSING_BIDS = 50;
+const SHOWN_CAPACITY_PRICES = 20;
+
+export type AllocationSort = 'item' | 'supplier' | 'cost';
+
+export interface AllocationQuery {
+	/** Matches item or supplier, case-insensitive. */
+	filter?: string;
+	sort?: AllocationSort;
+	offset?: number;
+	limit?: number;
+}
+
+/** One page of a result's allocation, filtered and sorted on the server (items keep the problem's order). */
+export function allocationPage(result: Pick<AwardResult, 'awards'> | null, query: AllocationQuery = {}) {
+	const needle = (query.filter ?? '').trim().toLowerCase();
+	const matching = (result?.awards ?? []).filter(
+		(l) => !needle || l.item.toLowerCase().includes(needle) || l.supplier.toLowerCase().includes(needle)
+	);
+	const sorted =
+		query.sort === 'cost'
+			? [...matching].sort((a, b) => b.cost - a.cost)
+			: query.sort === 'supplier'
+				? [...matching].sort((a, b) => a.supplier.localeCompare(b.supplier))
+				: matching;
+	const limit = Math.min(ALLOCATION_PAGE_MAX, Math.max(1, Math.trunc(query.limit ?? ALLOCATION_PAGE)));
+	const offset = Math.max(0, Math.trunc(query.offset ?? 0));
+	return { total: sorted.length, offset, limit, lines: sorted.slice(offset, offset + limit) };
+}
+export type AllocationPage = ReturnType<typeof allocationPage>;
+
+/**
+ * What the run page needs first: the run without its allocation lines (those come a page at a time, see
+ * allocationPage) and with the sensitivity lists cut to what the page shows. A 300-item run page was
+ * 144 kB with every line in it.
+ */
+export function runPageJson(run: RunRow) {
+	const json = runJson(run);
+	const result = json.result;
+	if (!result) return { ...json, allocationLines: 0 };
+	return {
+		...json,
+		allocationLines: result.awards.length,
+		result: {
+			...result,
+			awards: [],
+			...(result.sensitivity
+				? {
+						sensitivity: {
+							...result.sensitivity,
+							losingBids: result.sensitivity.losingBids.slice(0, SHOWN_LOSING_BIDS),
+							capacityPrices: result.sensitivity.capacityPrices.slice(0, SHOWN_CAPACITY_PRICES),
+							coverPrices: []
+						}
+					}
+				: {})
+		}
+	};
+}
+export type RunPageJson = ReturnType<typeof runPageJson>;
+
+/** The allocation query of a request's search parameters (`filter`, `sort`, `offset`, `limit`). */
+export function allocationQuery(params: URLSearchParams): AllocationQuery {
+	const sort = params.get('sort');
+	const number = (name: string) => {
+		const value = Number(params.get(name));
+		return Number.isFinite(value) ? value : undefined;
+	};
+	return {
+		filter: (params.get('filter') ?? '').slice(0, 200),
+		sort: sort === 'supplier' || sort === 'cost' ? sort : 'item',
+		offset: number('offset'),
+		limit: number('limit')
+	};
+}
 
 /** A supplier's own award lines of a result (quantity above zero), never another's. */
 export function ownLines(

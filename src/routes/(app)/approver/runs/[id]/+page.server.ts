@@ -3,7 +3,7 @@ import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { findRun } from '$lib/server/services/award-runs';
-import { runJson } from '$lib/server/services/award-views';
+import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { decide, pendingSignoff } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -16,7 +16,8 @@ export const load: PageServerLoad = async (event) => {
 		return {
 			title: `Sign-off of ${row.reference}`,
 			cautions,
-			run: runJson(run),
+			run: runPageJson(run),
+			firstPage: run.status === 'done' ? allocationPage(run.result) : null,
 			event: { reference: row.reference, title: row.title, state: row.state },
 			awaiting: pending?.run_id === run.id,
 			ownRun: pending?.submitted_by === user.id || run.created_by === user.id

@@ -2,7 +2,7 @@ import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { findRun } from '$lib/server/services/award-runs';
-import { runJson } from '$lib/server/services/award-views';
+import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -10,7 +10,11 @@ export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
 	const { run } = await orErrorPage(event, () => findRun(user, event.params.runId, event.params.id));
 	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
-	return { run: runJson(run), cautions };
+	return {
+		run: runPageJson(run),
+		firstPage: run.status === 'done' ? allocationPage(run.result) : null,
+		cautions
+	};
 };
 
 export const actions: Actions = {
