@@ -6,7 +6,8 @@ import { LIMITS, ModelTooLarge, SolveCancelled, SolverPool } from './pool';
 const pool = new SolverPool({ size: 2 });
 afterAll(() => pool.close());
 
-describe('the solver pool', () => {
+// The first solves start worker threads that load tsx and HiGHS: seconds on a loaded machine.
+describe('the solver pool', { timeout: 30_000 }, () => {
 	it('runs solves side by side on its workers', async () => {
 		const models = [1, 2, 3, 4].map((seed) => buildModel(generateProblem({ items: 30, suppliers: 6, seed })));
 		const outcomes = await Promise.all(models.map((m) => pool.solve(m, {})));

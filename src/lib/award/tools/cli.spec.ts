@@ -6,7 +6,8 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { generateProblem } from './generate';
 
-describe('the award CLI', () => {
+// Each case starts a Node process under tsx: seconds on a loaded 2-core machine, so a longer timeout.
+describe('the award CLI', { timeout: 30_000 }, () => {
 	const folder = mkdtempSync(join(tmpdir(), 'award-cli-'));
 	const run = (problem: unknown, ...flags: string[]) => {
 		const file = join(folder, `${Math.random()}.json`);
