@@ -21,6 +21,7 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 let boss: PgBoss;
 /** The run that was solving when PostgreSQL stopped. */
 let inProgress: string | undefined;
+let postgresStoppedAt = 0;
 beforeAll(async () => {
 	boss = new PgBoss({ connectionString: databaseUrl(), max: 2, supervise: false, schedule: false });
 	// This test's own queue client sees the outage too.
@@ -89,6 +90,7 @@ describe('PostgreSQL stopped for 5 s and started again', () => {
 
 		const postgres = await stopPostgres(postgresPort());
 		const stoppedAt = Date.now();
+		postgresStoppedAt = stoppedAt;
 		let outage: { page: Response; pageText: string; api: Response };
 		try {
 			const page = await client.get('/account');
@@ -131,7 +133,11 @@ describe('PostgreSQL stopped for 5 s and started again', () => {
 			'the run in progress during the blip to end',
 			90_000
 		);
-		const run = await testDb()('award_runs').where({ id: inProgress }).first('status', 'error');
+		const run = await testDb()('award_runs')
+			.where({ id: inProgress })
+			.first('status', 'error', 'finished_at');
 		expect(run).toMatchObject({ status: 'done' });
+		// It was solving while the database was away: it ended after the stop.
+		expect((run.finished_at as Date).getTime()).toBeGreaterThan(postgresStoppedAt);
 	}, 120_000);
 });
