@@ -26,7 +26,7 @@ import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
 import { buildBidCsv, buildBidSheet, parseScreenPrices, type SheetProblem } from '../sheets/bid-sheet';
 import { readBidFile } from '../sheets/read-bid-file';
-import { checkUploadQuota, countSupplierUpload } from '../sheets/upload-limits';
+import { checkUploadQuota, countSupplierUpload } from './upload-limits';
 import { deleteObject } from '../storage';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail } from '../trail';

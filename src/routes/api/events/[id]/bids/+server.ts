@@ -7,7 +7,7 @@ import { RuleViolation } from '$lib/server/services/errors';
 import { openedBids, ownBid, submitUpload, type SubmitOutcome } from '$lib/server/services/bids';
 import { bidJson } from '$lib/server/services/event-views';
 import { UPLOAD_LIMITS } from '$lib/server/sheets/inspect';
-import { UploadLimitReached } from '$lib/server/sheets/upload-limits';
+import { UploadLimitReached } from '$lib/server/services/upload-limits';
 
 /** Staff: every current bid, only after the deadline (403 before). A supplier: its own current bid. */
 export const GET = api(async (user, event) => {
