@@ -1,5 +1,8 @@
 // Award plans, runs, sign-offs and notices: the SQL. The rules (who may, when, in which transaction) are
-// in services/award-plans, award-runs, signoff and award-views.
+// in services/award-plans, award-runs, signoff and award-views; the worker side (claiming and finishing
+// runs and their explanations, one owner at a time by a token; the sweep for runs whose worker stopped;
+// sending notices) in services/run-execution and notice-sending. Times that workers compare (heartbeats)
+// are the database's own clock, so workers on several machines agree.
 import type { AwardRule } from '$lib/award/core/problem';
 import type { Db } from './knex';
 import type { NoticeRow, PlanRow, RunRow, SignoffRow } from './tables';
@@ -242,4 +245,198 @@ export function invitedOrganisations(db: Db, eventId: string): Promise<{ id: str
 		.join('organisations as o', 'o.id', 'v.supplier_organisation_id')
 		.where('v.event_id', eventId)
 		.select('o.id', 'o.name');
+}
+
+// Runs: execution by workers
+
+/** A heartbeat missing or older than the bound number of seconds. */
+const STALE = `(heartbeat_at is null or heartbeat_at < now() - make_interval(secs => ?))`;
+
+/**
+ * Takes a run for `owner`: a queued run, or a running one whose heartbeat is older than `staleSeconds`
+ * (its worker died). One statement, so two workers never both get it. Counts the attempt.
+ */
+export async function claimRun(
+	db: Db,
+	runId: string,
+	owner: string,
+	staleSeconds: number
+): Promise<RunRow | undefined> {
+	const [row] = await db<RunRow>('award_runs')
+		.where({ id: runId })
+		.whereRaw(`(status = 'queued' or (status = 'running' and ${STALE}))`, [staleSeconds])
+		.update({
+			status: 'running',
+			owner,
+			heartbeat_at: db.fn.now(),
+			started_at: db.raw('coalesce(started_at, ?)', [new Date()]),
+			attempts: db.raw('attempts + 1')
+		})
+		.returning('*');
+	return row as RunRow | undefined;
+}
+
+/** The owner's heartbeat; undefined when the run is no longer this owner's (taken over or ended). */
+export async function beatRun(
+	db: Db,
+	runId: string,
+	owner: string,
+	phase: 'solve' | 'explain'
+): Promise<{ cancel_requested: boolean } | undefined> {
+	const [row] = await db('award_runs')
+		.where({ id: runId, owner })
+		.where(phase === 'solve' ? { status: 'running' } : { status: 'done', explanation_status: 'running' })
+		.update({ heartbeat_at: db.fn.now() })
+		.returning(['cancel_requested']);
+	return row as { cancel_requested: boolean } | undefined;
+}
+
+export async function isCancelRequested(db: Db, runId: string): Promise<boolean> {
+	const row = await db('award_runs').where({ id: runId }).first('cancel_requested');
+	return Boolean(row?.cancel_requested);
+}
+
+/** Ends a running run, only if `owner` still holds it: the result is written once. */
+export async function finishOwnedRun(
+	db: Db,
+	runId: string,
+	owner: string,
+	fields: Record<string, unknown>
+): Promise<RunRow | undefined> {
+	const [row] = await db<RunRow>('award_runs')
+		.where({ id: runId, owner, status: 'running' })
+		.update({ ...fields, heartbeat_at: null } as never)
+		.returning('*');
+	return row as RunRow | undefined;
+}
+
+/** Takes a finished run's explanation for `owner`: pending, or running with a stale heartbeat. */
+export async function claimExplanation(
+	db: Db,
+	runId: string,
+	owner: string,
+	staleSeconds: number
+): Promise<RunRow | undefined> {
+	const [row] = await db<RunRow>('award_runs')
+		.where({ id: runId, status: 'done' })
+		.whereRaw(`(explanation_status = 'pending' or (explanation_status = 'running' and ${STALE}))`, [
+			staleSeconds
+		])
+		.update({ explanation_status: 'running', owner, heartbeat_at: db.fn.now() })
+		.returning('*');
+	return row as RunRow | undefined;
+}
+
+export async function finishOwnedExplanation(
+	db: Db,
+	runId: string,
+	owner: string,
+	fields: {
+		explanation_status: 'done' | 'failed';
+		explanation?: string | null;
+		explanation_sha256?: string | null;
+		explanation_error?: string | null;
+	}
+): Promise<RunRow | undefined> {
+	const [row] = await db<RunRow>('award_runs')
+		.where({ id: runId, owner, status: 'done', explanation_status: 'running' })
+		.update({ ...fields, heartbeat_at: null } as never)
+		.returning('*');
+	return row as RunRow | undefined;
+}
+
+export type StaleWork = Pick<RunRow, 'id' | 'event_id' | 'number' | 'restarts' | 'status' | 'attempts'> & {
+	phase: 'solve' | 'explain';
+};
+
+/**
+ * Runs (solving) and explanations (being worked out) whose owner's heartbeat is older than
+ * `staleSeconds`, locked for this transaction; rows another sweep holds are skipped.
+ */
+export async function lockStaleWork(db: Db, staleSeconds: number, limit = 20): Promise<StaleWork[]> {
+	const rows = await db('award_runs')
+		.whereRaw(`(status = 'running' or (status = 'done' and explanation_status = 'running')) and ${STALE}`, [
+			staleSeconds
+		])
+		.orderBy('heartbeat_at')
+		.limit(limit)
+		.forUpdate()
+		.skipLocked()
+		.select('id', 'event_id', 'number', 'restarts', 'status', 'attempts');
+	return rows.map((r: Omit<StaleWork, 'phase'>) => ({
+		...r,
+		phase: r.status === 'running' ? 'solve' : 'explain'
+	}));
+}
+
+/** Puts a run whose worker stopped back in the queue (its job is sent by the caller, in the same transaction). */
+export async function requeueRun(db: Db, runId: string): Promise<void> {
+	await db('award_runs')
+		.where({ id: runId, status: 'running' })
+		.update({ status: 'queued', owner: null, heartbeat_at: null, restarts: db.raw('restarts + 1') });
+}
+
+export async function requeueExplanation(db: Db, runId: string): Promise<void> {
+	await db('award_runs')
+		.where({ id: runId, status: 'done', explanation_status: 'running' })
+		.update({
+			explanation_status: 'pending',
+			owner: null,
+			heartbeat_at: null,
+			restarts: db.raw('restarts + 1')
+		});
+}
+
+export async function failStaleRun(db: Db, runId: string, error: string, at: Date): Promise<void> {
+	await db('award_runs').where({ id: runId, status: 'running' }).update({
+		status: 'failed',
+		error,
+		finished_at: at,
+		owner: null,
+		heartbeat_at: null,
+		explanation_status: 'not_needed'
+	});
+}
+
+export async function failStaleExplanation(db: Db, runId: string, error: string): Promise<void> {
+	await db('award_runs')
+		.where({ id: runId, status: 'done', explanation_status: 'running' })
+		.update({ explanation_status: 'failed', explanation_error: error, owner: null, heartbeat_at: null });
+}
+
+// Notices: their sending by workers
+
+export function findNotice(db: Db, noticeId: string): Promise<NoticeRow | undefined> {
+	return db<NoticeRow>('notices').where({ id: noticeId }).first();
+}
+
+/** The active supplier users of an organisation: a notice goes to each of them. */
+export async function noticeRecipients(db: Db, organisationId: string): Promise<string[]> {
+	const rows: { email: string }[] = await db('users')
+		.where({ organisation_id: organisationId, role: 'supplier' })
+		.whereNull('deactivated_at')
+		.orderBy('id')
+		.select('email');
+	return rows.map((r) => r.email);
+}
+
+/** The dispatch time (which starts the standstill) is the first successful send, and never moves later. */
+export async function recordNoticeDispatch(db: Db, noticeId: string, at: Date): Promise<void> {
+	await db('notices')
+		.where({ id: noticeId })
+		.update({ sent_at: db.raw('coalesce(sent_at, ?)', [at]) });
+}
+
+export async function recordNoticeFailure(db: Db, noticeId: string, error: string): Promise<void> {
+	await db('notices').where({ id: noticeId }).increment('attempts', 1).update({ last_error: error });
+}
+
+/** Marks the notice sent once every recipient has it; false when it was marked already. */
+export async function completeNotice(db: Db, noticeId: string, at: Date): Promise<boolean> {
+	const updated = await db('notices')
+		.where({ id: noticeId })
+		.whereNot({ status: 'sent' })
+		.increment('attempts', 1)
+		.update({ status: 'sent', sent_at: db.raw('coalesce(sent_at, ?)', [at]), last_error: null });
+	return updated > 0;
 }

@@ -9,7 +9,7 @@
 // trail entry), rather than a second award notice.
 import { createHash } from 'node:crypto';
 import { now } from '../clock';
-import { claimDelivery, releaseAmbiguousDelivery, settleDelivery } from '../db/award-execution';
+import { claimDelivery, releaseAmbiguousDelivery, settleDelivery } from '../db/mail-deliveries';
 import { db, type Db } from '../db/knex';
 import {
 	refusedBeforeData,

@@ -10,14 +10,14 @@ import { publicOrigin } from '../config';
 import {
 	completeNotice,
 	findNotice,
-	findOrganisation,
-	findRunRow,
+	findRun,
 	noticeRecipients,
 	recordNoticeDispatch,
 	recordNoticeFailure
-} from '../db/award-execution';
+} from '../db/awards';
 import { findEvent } from '../db/events';
 import { db } from '../db/knex';
+import { findOrganisation } from '../db/organisations';
 import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/templates';
 import { neutralise } from '../sheets/bid-sheet';
 import { appendTrail, trailHead } from '../trail';
@@ -52,7 +52,7 @@ export async function sendNotice(noticeId: string): Promise<void> {
 	const notice = await findNotice(db(), noticeId);
 	if (!notice || notice.status === 'sent') return;
 	const [run, event, supplier, recipients] = await Promise.all([
-		findRunRow(db(), notice.run_id),
+		findRun(db(), notice.run_id),
 		findEvent(db(), notice.event_id),
 		findOrganisation(db(), notice.supplier_organisation_id),
 		noticeRecipients(db(), notice.supplier_organisation_id)

@@ -24,7 +24,7 @@ import {
 	lockStaleWork,
 	requeueExplanation,
 	requeueRun
-} from '../db/award-execution';
+} from '../db/awards';
 import { db, type Db } from '../db/knex';
 import type { RunRow } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
