@@ -8,9 +8,8 @@ import PgBoss from 'pg-boss';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { generateProblem } from '../../src/lib/award/tools/generate';
-import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { databaseUrl } from '../support/env';
-import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
+import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent, aStoredRun } from '../support/events';
 import { aUser, closeTestDb, testDb } from '../support/factories';
 import { isRunning, readStackPids, stopPostgres, until } from '../support/stack';
 
@@ -51,22 +50,12 @@ async function aQueuedRun(slow: boolean) {
 				bundles: [],
 				rules: []
 			};
-	const [plan] = await testDb()('award_plans')
-		.insert({ event_id: event.id, name: 'Lowest cost (no rules)', rules: '[]', lowest_cost: true })
-		.returning('id');
-	const [run] = await testDb()('award_runs')
-		.insert({
-			event_id: event.id,
-			plan_id: plan.id,
-			number: 1,
-			plan_name: 'Lowest cost (no rules)',
-			status: 'queued',
-			problem: JSON.stringify(problem),
-			problem_sha256: sha256(canonicalJson(problem)),
-			attempts: 0,
-			created_by: buyer.id
-		})
-		.returning('id');
+	const run = await aStoredRun({
+		eventId: event.id,
+		createdBy: buyer.id,
+		problem,
+		fields: { status: 'queued', attempts: 0 }
+	});
 	await boss.send('award-run', { runId: run.id });
 	return run.id as string;
 }

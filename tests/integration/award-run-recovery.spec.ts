@@ -1,9 +1,14 @@
 import PgBoss from 'pg-boss';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MAX_RESTARTS } from '../../src/lib/server/services/run-execution';
-import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { aUser, closeTestDb, testDb } from '../support/factories';
-import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent, signedIn } from '../support/events';
+import {
+	aSignedInUser,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	aStoredRun,
+	signedIn
+} from '../support/events';
 import { databaseUrl } from '../support/env';
 
 let boss: PgBoss;
@@ -33,23 +38,16 @@ async function aRunLeftRunning(startedMinutesAgo: number, status = 'running') {
 	const buyer = await aUser('buyer');
 	const { organisation } = await aSupplierOrganisationWithUser();
 	const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
-	const [plan] = await testDb()('award_plans')
-		.insert({ event_id: event.id, name: 'Lowest cost (no rules)', rules: '[]', lowest_cost: true })
-		.returning('id');
-	const [run] = await testDb()('award_runs')
-		.insert({
-			event_id: event.id,
-			plan_id: plan.id,
-			number: 1,
-			plan_name: 'Lowest cost (no rules)',
+	const run = await aStoredRun({
+		eventId: event.id,
+		createdBy: buyer.id,
+		problem,
+		fields: {
 			status,
-			problem: JSON.stringify(problem),
-			problem_sha256: sha256(canonicalJson(problem)),
 			attempts: 1,
-			created_by: buyer.id,
 			started_at: status === 'running' ? new Date(Date.now() - startedMinutesAgo * 60_000) : null
-		})
-		.returning('id');
+		}
+	});
 	return { runId: run.id as string, buyer };
 }
 

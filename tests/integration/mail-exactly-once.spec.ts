@@ -3,7 +3,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { mailApi } from '../support/env';
-import { anOpenEvent } from '../support/events';
+import { anOpenEvent, aStoredRun } from '../support/events';
 import { anOrganisation, aUser, closeTestDb, testDb, type TestUser } from '../support/factories';
 import { mailTo } from '../support/mail';
 import { privateQueues, sendTo, startWorker, until, type TestWorker } from '../support/workers';
@@ -41,23 +41,16 @@ async function aNotice(users: number) {
 		totalCost: 300,
 		awards: [{ supplier: supplier.name, item: 'IT-1', quantity: 100, unitPrice: 3, cost: 300 }]
 	};
-	const [plan] = await testDb()('award_plans')
-		.insert({ event_id: event.id, name: 'Lowest cost (no rules)', rules: '[]', lowest_cost: true })
-		.returning('id');
-	const [run] = await testDb()('award_runs')
-		.insert({
-			event_id: event.id,
-			plan_id: plan.id,
-			number: 1,
-			plan_name: 'Lowest cost (no rules)',
+	const run = await aStoredRun({
+		eventId: event.id,
+		createdBy: buyer.id,
+		problem,
+		fields: {
 			status: 'done',
-			problem: JSON.stringify(problem),
-			problem_sha256: sha256(canonicalJson(problem)),
 			result: JSON.stringify(result),
-			result_sha256: sha256(canonicalJson(result)),
-			created_by: buyer.id
-		})
-		.returning('id');
+			result_sha256: sha256(canonicalJson(result))
+		}
+	});
 	const [notice] = await testDb()('notices')
 		.insert({
 			event_id: event.id,

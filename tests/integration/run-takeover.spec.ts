@@ -3,7 +3,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { benchmarkRules, generateProblem } from '../../src/lib/award/tools/generate';
 import { canonicalJson, sha256 } from '../../src/lib/server/trail';
-import { aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
+import { aSupplierOrganisationWithUser, anOpenEvent, aStoredRun } from '../support/events';
 import { aUser, closeTestDb, testDb } from '../support/factories';
 import { privateQueues, sendTo, startWorker, until, type TestWorker } from '../support/workers';
 
@@ -27,21 +27,11 @@ async function aQueuedRun() {
 	const buyer = await aUser('buyer');
 	const { organisation } = await aSupplierOrganisationWithUser();
 	const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
-	const [plan] = await testDb()('award_plans')
-		.insert({ event_id: event.id, name: 'Rules', rules: JSON.stringify(problem.rules) })
-		.returning('id');
-	const [run] = await testDb()('award_runs')
-		.insert({
-			event_id: event.id,
-			plan_id: plan.id,
-			number: 1,
-			plan_name: 'Rules',
-			status: 'queued',
-			problem: JSON.stringify(problem),
-			problem_sha256: sha256(canonicalJson(problem)),
-			created_by: buyer.id
-		})
-		.returning('id');
+	const run = await aStoredRun({
+		eventId: event.id,
+		createdBy: buyer.id,
+		problem
+	});
 	return run.id as string;
 }
 

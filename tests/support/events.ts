@@ -1,6 +1,7 @@
 // Events for tests, made directly in the database, and signed-in clients for each role.
 import ExcelJS from 'exceljs';
 import type { Role } from '../../src/lib/roles';
+import { canonicalJson, sha256 } from '../../src/lib/server/trail';
 import { Browserless } from './http';
 import { aUser, anOrganisation, testDb, theBuyingOrganisation, unique, type TestUser } from './factories';
 
@@ -131,4 +132,36 @@ export async function uploadSheet(
 export async function untilPast(moment: Date, marginMs = 300): Promise<void> {
 	const wait = moment.getTime() - Date.now() + marginMs;
 	if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+}
+
+/**
+ * A run stored as startRun stores it, with its plan (the lowest-cost plan when the problem has no rules),
+ * for tests that drive the workers directly. `fields` sets or overrides columns of the run (status,
+ * result, attempts, started_at…). Returns the run's id.
+ */
+export async function aStoredRun(options: {
+	eventId: string;
+	createdBy: number;
+	problem: { rules?: unknown[] };
+	fields?: Record<string, unknown>;
+}): Promise<{ id: string }> {
+	const rules = options.problem.rules ?? [];
+	const name = rules.length ? 'Rules' : 'Lowest cost (no rules)';
+	const [plan] = await testDb()('award_plans')
+		.insert({ event_id: options.eventId, name, rules: JSON.stringify(rules), lowest_cost: !rules.length })
+		.returning('id');
+	const [run] = await testDb()('award_runs')
+		.insert({
+			event_id: options.eventId,
+			plan_id: plan.id,
+			number: 1,
+			plan_name: name,
+			status: 'queued',
+			problem: JSON.stringify(options.problem),
+			problem_sha256: sha256(canonicalJson(options.problem)),
+			created_by: options.createdBy,
+			...options.fields
+		})
+		.returning('id');
+	return { id: run.id as string };
 }
