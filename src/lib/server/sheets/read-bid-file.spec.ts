@@ -81,7 +81,7 @@ describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
 		);
 	});
 
-	it('reads one file after another on the kept threads, and never reuses one that timed out', async () => {
+	it('reads one file after another on the kept threads; a file under another time limit gets its own', async () => {
 		const ok = (reading: Awaited<ReturnType<typeof readBidFile>>) => reading.outcome.ok;
 		expect(ok(await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }))).toBe(true);
 		const started = parseThreadCount.started;
@@ -91,7 +91,7 @@ describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
 		expect(parseThreadCount.started).toBe(started);
 		const late = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }, { timeoutMs: 1 });
 		expect(late.outcome.ok).toBe(false);
-		// The next file is read whole, by a thread that has no late answer of the stopped one to give.
+		// That file's thread was stopped; the next file is read whole on a kept thread.
 		const next = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() });
 		expect(next.outcome.ok && next.outcome.bid.lines.map((l) => l.item)).toEqual(['IT-1', 'IT-2']);
 	});

@@ -87,9 +87,17 @@ function prepareIdle(entryUrl: string, task: string): void {
 	while (idle.length < Math.max(1, PARSE_LIMITS.concurrent - running)) idle.push(startPooled(entryUrl, task));
 }
 
-/** A thread for one file: an idle one with the usual memory cap, or a fresh one for another cap. */
-function takeThread(entryUrl: string, task: string, heapMb: number): PooledThread | Worker {
-	if (heapMb !== PARSE_LIMITS.heapMb) return startThread(entryUrl, task, heapMb);
+/**
+ * A thread for one file: an idle one under the usual limits, or a fresh one (stopped afterwards) when a
+ * caller asks for another memory cap or time limit (the tests of those limits).
+ */
+function takeThread(
+	entryUrl: string,
+	task: string,
+	limits: { heapMb: number; timeoutMs: number }
+): PooledThread | Worker {
+	if (limits.heapMb !== PARSE_LIMITS.heapMb || limits.timeoutMs !== PARSE_LIMITS.timeoutMs)
+		return startThread(entryUrl, task, limits.heapMb);
 	const pooled = idle.pop() ?? startPooled(entryUrl, task);
 	pooled.worker.ref();
 	return pooled;
@@ -122,7 +130,7 @@ export async function readBidFile(
 	const release = await slot(concurrent);
 	try {
 		return await new Promise<BidFileReading>((resolve) => {
-			const taken = takeThread(entryUrl, PARSE_TASK, heapMb);
+			const taken = takeThread(entryUrl, PARSE_TASK, { heapMb, timeoutMs });
 			const thread = taken instanceof Worker ? taken : taken.worker;
 			const job: ParseJob = { event, fileName: file.name, bytes: new Uint8Array(file.bytes) };
 			let settled = false;
