@@ -290,12 +290,15 @@ try {
 		['run page', `/buyer/events/${demo.id}/award/runs/${runId}`],
 		['GET /api/events', '/api/events', 'application/json']
 	];
+	// BENCH_ONLY: a comma-separated list of words; only the pages (and "uploads") whose name holds one run.
+	const only = process.env.BENCH_ONLY?.split(',').map((w) => w.trim().toLowerCase());
+	const chosen = (name: string) => !only || only.some((w) => name.toLowerCase().includes(w));
 	const results: Figures[] = [];
-	for (const [name, path, accept] of pages) {
+	for (const [name, path, accept] of pages.filter(([name]) => chosen(name))) {
 		results.push(await load(name, path, cookie, accept));
 		console.log(`measured ${name}`);
 	}
-	results.push(await uploadsAtOnce(owner));
+	if (chosen('uploads')) results.push(await uploadsAtOnce(owner));
 	const report = {
 		at: new Date().toISOString(),
 		machine: {

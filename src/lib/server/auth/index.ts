@@ -13,7 +13,7 @@ import { isStaff } from '$lib/roles';
 import { emailAddress } from '$lib/schemas/sign-in';
 import { config, publicOrigin } from '../config';
 import { db, isDatabaseUnavailable, logPoolError } from '../db/knex';
-import { findOpenSession, insertSession, touchSession } from '../db/sessions';
+import { findOpenSessionUser, insertSession, touchSession } from '../db/sessions';
 import { findUserById, findUserByEmail, type UserWithOrganisation } from '../db/users';
 import { sessionCookiePolicy } from './cookies';
 import { verifyPassword } from './passwords';
@@ -90,12 +90,11 @@ const sessionUserOf = (row: UserWithOrganisation): SessionUser => ({
  */
 async function openSessionUser(userId: number, sid: unknown): Promise<UserWithOrganisation | null> {
 	if (!Number.isInteger(userId) || typeof sid !== 'string' || !SESSION_ID.test(sid)) return null;
-	const [row, session] = await Promise.all([
-		findUserById(db(), userId),
-		findOpenSession(db(), sid, userId, SESSION_HOURS)
-	]);
-	if (!row || row.deactivated_at || !session) return null;
-	if (Date.now() - session.last_seen.getTime() > LAST_SEEN_EVERY_MS) await touchSession(db(), sid);
+	// One query for both (it was two in parallel, each on a pooled connection, on every request).
+	const found = await findOpenSessionUser(db(), sid, userId, SESSION_HOURS);
+	if (!found || found.deactivated_at) return null;
+	const { session_last_seen: lastSeen, ...row } = found;
+	if (Date.now() - lastSeen.getTime() > LAST_SEEN_EVERY_MS) await touchSession(db(), sid);
 	return row;
 }
 

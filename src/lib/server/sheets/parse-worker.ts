@@ -1,4 +1,4 @@
-// The entry of the thread that reads one uploaded bid file: the content checks of inspect.ts (size,
+// The entry of a thread that reads uploaded bid files, one at a time: the content checks of inspect.ts (size,
 // zip entries, sheet shape, CSV lines) and then the parse, so that a hostile file costs a thread with a
 // memory cap, never the web server's event loop. Started by read-bid-file.ts; the module also runs on
 // the main thread when read-bid-file.ts imports it for its URL, and then does nothing.
@@ -41,9 +41,10 @@ export async function readBidFileHere(
 	};
 }
 
-// A thread is started ahead of need and waits for its one job; it never reads a second file.
+// A thread is started ahead of need and reads one file at a time (read-bid-file.ts sends the next only
+// after the answer); a file that fails to read ends the thread (an unhandled rejection).
 if (!isMainThread && (workerData as { task?: string } | null)?.task === PARSE_TASK) {
-	parentPort!.once('message', (job: ParseJob) => {
+	parentPort!.on('message', (job: ParseJob) => {
 		const bytes = Buffer.from(job.bytes.buffer, job.bytes.byteOffset, job.bytes.byteLength);
 		void readBidFileHere(job.event, job.fileName, bytes).then((reading) => parentPort!.postMessage(reading));
 	});

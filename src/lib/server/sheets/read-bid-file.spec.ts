@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { buildBidCsv, buildBidSheet, type SheetEvent } from './bid-sheet';
-import { readBidFile } from './read-bid-file';
+import { parseThreadCount, readBidFile } from './read-bid-file';
 
 const event: SheetEvent = {
 	reference: 'EV-1',
@@ -79,5 +79,20 @@ describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
 		expect(reading.outcome.ok ? '' : reading.outcome.problems[0]!.message).toMatch(
 			/^The file needs more memory to read than a bid sheet may use \(8 MB\)/
 		);
+	});
+
+	it('reads one file after another on the kept threads; a file under another time limit gets its own', async () => {
+		const ok = (reading: Awaited<ReturnType<typeof readBidFile>>) => reading.outcome.ok;
+		expect(ok(await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }))).toBe(true);
+		const started = parseThreadCount.started;
+		for (let k = 0; k < 4; k++)
+			expect(ok(await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }))).toBe(true);
+		// Before the pool, every file started a thread of its own.
+		expect(parseThreadCount.started).toBe(started);
+		const late = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() }, { timeoutMs: 1 });
+		expect(late.outcome.ok).toBe(false);
+		// That file's thread was stopped; the next file is read whole on a kept thread.
+		const next = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() });
+		expect(next.outcome.ok && next.outcome.bid.lines.map((l) => l.item)).toEqual(['IT-1', 'IT-2']);
 	});
 });

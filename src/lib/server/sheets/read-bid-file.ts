@@ -36,7 +36,11 @@ async function slot(concurrent: number): Promise<() => void> {
 	};
 }
 
+/** How many threads this process has started for bid files (read by the tests of the pool). */
+export const parseThreadCount = { started: 0 };
+
 function startThread(entryUrl: string, task: string, heapMb: number): Worker {
+	parseThreadCount.started++;
 	const options = {
 		workerData: { task },
 		resourceLimits: { maxOldGenerationSizeMb: heapMb, maxYoungGenerationSizeMb: Math.min(64, heapMb / 4) }
@@ -53,32 +57,63 @@ function startThread(entryUrl: string, task: string, heapMb: number): Worker {
 	);
 }
 
-// One thread is kept started and idle, so an upload does not wait for a thread to load the spreadsheet
-// library (about a second on a busy machine); it is replaced after each file.
-let spare: Worker | null = null;
+// A few threads are kept started and idle, so an upload does not wait for a thread to load the
+// spreadsheet library (about a second on a busy machine; with 40 uploads at once, starting a thread per
+// file was most of an upload's time). A thread that read a file and answered goes back to the idle ones
+// and reads the next file with the same memory cap and its own time limit; a thread that timed out, ran
+// out of memory or failed is stopped. After REUSES files a thread is replaced anyway, so nothing one
+// file left behind in a thread lives long.
+const REUSES = 200;
+interface PooledThread {
+	worker: Worker;
+	files: number;
+}
+const idle: PooledThread[] = [];
 
-function prepareSpare(entryUrl: string, task: string): void {
-	if (spare) return;
-	const thread = startThread(entryUrl, task, PARSE_LIMITS.heapMb);
-	thread.unref();
+function startPooled(entryUrl: string, task: string): PooledThread {
+	const worker = startThread(entryUrl, task, PARSE_LIMITS.heapMb);
+	worker.unref();
+	const pooled = { worker, files: 0 };
 	const forget = () => {
-		if (spare === thread) spare = null;
+		const at = idle.indexOf(pooled);
+		if (at >= 0) idle.splice(at, 1);
 	};
-	thread.once('error', forget);
-	thread.once('exit', forget);
-	spare = thread;
+	worker.on('error', forget);
+	worker.on('exit', forget);
+	return pooled;
 }
 
-function takeThread(entryUrl: string, task: string, heapMb: number): Worker {
-	const thread = spare && heapMb === PARSE_LIMITS.heapMb ? spare : startThread(entryUrl, task, heapMb);
-	if (thread === spare) spare = null;
-	thread.ref();
-	return thread;
+function prepareIdle(entryUrl: string, task: string): void {
+	while (idle.length < Math.max(1, PARSE_LIMITS.concurrent - running)) idle.push(startPooled(entryUrl, task));
 }
 
-// In the built server, start the first spare thread as soon as the upload code is loaded.
+/**
+ * A thread for one file: an idle one under the usual limits, or a fresh one (stopped afterwards) when a
+ * caller asks for another memory cap or time limit (the tests of those limits).
+ */
+function takeThread(
+	entryUrl: string,
+	task: string,
+	limits: { heapMb: number; timeoutMs: number }
+): PooledThread | Worker {
+	if (limits.heapMb !== PARSE_LIMITS.heapMb || limits.timeoutMs !== PARSE_LIMITS.timeoutMs)
+		return startThread(entryUrl, task, limits.heapMb);
+	const pooled = idle.pop() ?? startPooled(entryUrl, task);
+	pooled.worker.ref();
+	return pooled;
+}
+
+/** Back to the idle threads after a file it read and answered, unless it has read enough files. */
+function giveBack(pooled: PooledThread): void {
+	pooled.files++;
+	pooled.worker.unref();
+	if (pooled.files >= REUSES || idle.length >= PARSE_LIMITS.concurrent) void pooled.worker.terminate();
+	else idle.push(pooled);
+}
+
+// In the built server, start the idle threads as soon as the upload code is loaded.
 if (!import.meta.url.endsWith('.ts'))
-	void import('./parse-worker').then(({ entryUrl, PARSE_TASK }) => prepareSpare(entryUrl, PARSE_TASK));
+	void import('./parse-worker').then(({ entryUrl, PARSE_TASK }) => prepareIdle(entryUrl, PARSE_TASK));
 
 const refused = (message: string): BidFileReading => ({
 	kind: null,
@@ -95,15 +130,19 @@ export async function readBidFile(
 	const release = await slot(concurrent);
 	try {
 		return await new Promise<BidFileReading>((resolve) => {
-			const thread = takeThread(entryUrl, PARSE_TASK, heapMb);
+			const taken = takeThread(entryUrl, PARSE_TASK, { heapMb, timeoutMs });
+			const thread = taken instanceof Worker ? taken : taken.worker;
 			const job: ParseJob = { event, fileName: file.name, bytes: new Uint8Array(file.bytes) };
-			thread.postMessage(job);
 			let settled = false;
-			const settle = (reading: BidFileReading) => {
+			const settle = (reading: BidFileReading, answered = false) => {
 				if (settled) return;
 				settled = true;
 				clearTimeout(timer);
-				void thread.terminate();
+				thread.off('message', onMessage);
+				thread.off('error', onError);
+				thread.off('exit', onExit);
+				if (answered && !(taken instanceof Worker)) giveBack(taken);
+				else void thread.terminate();
 				resolve(reading);
 			};
 			const timer = setTimeout(
@@ -115,8 +154,8 @@ export async function readBidFile(
 					),
 				timeoutMs
 			);
-			thread.once('message', (reading: BidFileReading) => settle(reading));
-			thread.once('error', (error: Error & { code?: string }) => {
+			const onMessage = (reading: BidFileReading) => settle(reading, true);
+			const onError = (error: Error & { code?: string }) => {
 				if (error.code !== 'ERR_WORKER_OUT_OF_MEMORY')
 					console.error(
 						JSON.stringify({ level: 'error', message: 'bid file thread failed', error: String(error) })
@@ -128,16 +167,19 @@ export async function readBidFile(
 							: 'The file could not be read. Save the bid sheet as .xlsx or as CSV UTF-8 (comma delimited) and upload it again.'
 					)
 				);
-			});
+			};
 			// A message posted just before the thread ends is delivered before 'exit'; wait a turn anyway.
-			thread.once('exit', () =>
+			const onExit = () =>
 				setImmediate(() =>
 					settle(refused('The file could not be read. Save the bid sheet as .xlsx again and upload it.'))
-				)
-			);
+				);
+			thread.once('message', onMessage);
+			thread.once('error', onError);
+			thread.once('exit', onExit);
+			thread.postMessage(job);
 		});
 	} finally {
 		release();
-		prepareSpare(entryUrl, PARSE_TASK);
+		prepareIdle(entryUrl, PARSE_TASK);
 	}
 }
