@@ -9,7 +9,13 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { generateProblem } from '../../src/lib/award/tools/generate';
 import { databaseUrl } from '../support/env';
-import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent, aStoredRun } from '../support/events';
+import {
+	aSignedInUser,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	aStoredRun,
+	TWO_BID_PROBLEM
+} from '../support/events';
 import { aUser, closeTestDb, testDb } from '../support/factories';
 import { isRunning, readStackPids, stopPostgres, until } from '../support/stack';
 
@@ -39,17 +45,7 @@ async function aQueuedRun(slow: boolean) {
 	const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
 	const problem = slow
 		? generateProblem({ items: 400, suppliers: 16, seed: 7, priceBreaks: true, bundles: 20, capacity: true })
-		: {
-				currency: 'EUR',
-				items: [{ ref: 'IT-1', quantity: 10 }],
-				suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
-				bids: [
-					{ supplier: 'S1', item: 'IT-1', unitPrice: 3 },
-					{ supplier: 'S2', item: 'IT-1', unitPrice: 2.5 }
-				],
-				bundles: [],
-				rules: []
-			};
+		: TWO_BID_PROBLEM;
 	const run = await aStoredRun({
 		eventId: event.id,
 		createdBy: buyer.id,

@@ -7,6 +7,7 @@ import {
 	aSupplierOrganisationWithUser,
 	anOpenEvent,
 	aStoredRun,
+	TWO_BID_PROBLEM,
 	signedIn
 } from '../support/events';
 import { databaseUrl } from '../support/env';
@@ -21,18 +22,7 @@ afterAll(async () => {
 	await closeTestDb();
 });
 
-// A small stored problem, as a run snapshots it (docs/award-engine.md): two bids on one item.
-const problem = {
-	currency: 'EUR',
-	items: [{ ref: 'IT-1', quantity: 10 }],
-	suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
-	bids: [
-		{ supplier: 'S1', item: 'IT-1', unitPrice: 3 },
-		{ supplier: 'S2', item: 'IT-1', unitPrice: 2.5 }
-	],
-	bundles: [],
-	rules: []
-};
+const problem = TWO_BID_PROBLEM;
 
 async function aRunLeftRunning(startedMinutesAgo: number, status = 'running') {
 	const buyer = await aUser('buyer');

@@ -165,3 +165,16 @@ export async function aStoredRun(options: {
 		.returning('id');
 	return { id: run.id as string };
 }
+
+/** A small stored problem, as a run snapshots it (docs/award-engine.md): two bids on one item; optimum 25. */
+export const TWO_BID_PROBLEM = {
+	currency: 'EUR',
+	items: [{ ref: 'IT-1', quantity: 10 }],
+	suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+	bids: [
+		{ supplier: 'S1', item: 'IT-1', unitPrice: 3 },
+		{ supplier: 'S2', item: 'IT-1', unitPrice: 2.5 }
+	],
+	bundles: [],
+	rules: []
+};
