@@ -133,7 +133,7 @@ async function startWeb(
 	await supervisor.start({
 		name: 'web',
 		command: process.execPath,
-		args: [join(root, 'build', 'index.js')],
+		args: [join(root, 'serve.js')],
 		// adapter-node refuses request bodies over 512 kB by default; bid sheets may be up to 5 MB.
 		env: {
 			...process.env,
