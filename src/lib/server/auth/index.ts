@@ -20,6 +20,7 @@ import { verifyPassword } from './passwords';
 import { clearPasswordFailures, countPasswordFailure, passwordSignInBlocked } from './rate-limit';
 import type { SessionUser } from './session-user';
 import { endUserSessions } from './sessions';
+import { sessionTokenCodec, type TokenSeen } from './session-token';
 import { requestSignInLink, returnPath, SIGN_IN_LINK_MINUTES } from './sign-in-links';
 
 export const SESSION_HOURS = 8;
@@ -41,6 +42,8 @@ interface AuthRequest {
 	sessionId?: string;
 	/** The session could not be checked because the database did not answer (the cookie is kept). */
 	databaseUnavailable?: boolean;
+	/** The session token the request came with, once read (auth/session-token.ts). */
+	token?: TokenSeen;
 }
 const currentRequest = new AsyncLocalStorage<AuthRequest>();
 
@@ -115,6 +118,7 @@ function authConfig(): SvelteKitAuthConfig {
 		trustHost: true,
 		useSecureCookies: sessionCookiePolicy(settings.ORIGIN).secure,
 		session: { strategy: 'jwt', maxAge: SESSION_HOURS * 3600 },
+		jwt: sessionTokenCodec(() => currentRequest.getStore()),
 		pages: { signIn: '/signin', error: '/signin/error', verifyRequest: '/signin/check-email' },
 		logger: {
 			error: (error) =>
