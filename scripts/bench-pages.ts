@@ -125,12 +125,25 @@ async function signInBuyer() {
 	return client;
 }
 
+/**
+ * Waits until the run's explanations (rule costs, sensitivity: a background job after the solve) are
+ * finished too, so the worker is idle while the pages are measured and the run page is its final self.
+ */
+async function explained(owner: Knex, runId: string): Promise<string> {
+	for (let k = 0; k < 1200; k++) {
+		const run = await owner('award_runs').where({ id: runId }).first('explanation_status');
+		if (!['pending', 'running'].includes(run?.explanation_status)) return runId;
+		await new Promise((r) => setTimeout(r, 500));
+	}
+	throw new Error('the demo run was not explained in 10 minutes');
+}
+
 async function finishedRun(owner: Knex, buyer: InstanceType<typeof Browserless>, eventId: string) {
 	const done = await owner('award_runs')
 		.where({ event_id: eventId, status: 'done' })
 		.orderBy('number', 'desc')
 		.first('id');
-	if (done) return done.id as string;
+	if (done) return explained(owner, done.id as string);
 	const plans = (await (await buyer.get(`/api/events/${eventId}/plans`, 'application/json')).json()) as {
 		plans: { id: string; lowestCost: boolean }[];
 	};
@@ -144,7 +157,7 @@ async function finishedRun(owner: Knex, buyer: InstanceType<typeof Browserless>,
 		const run = (await (await buyer.get(`/api/runs/${runId}`, 'application/json')).json()) as {
 			status: string;
 		};
-		if (run.status === 'done') return runId;
+		if (run.status === 'done') return explained(owner, runId);
 		if (['failed', 'cancelled'].includes(run.status)) throw new Error(`the demo run ${runId} ${run.status}`);
 		await new Promise((r) => setTimeout(r, 500));
 	}
