@@ -346,6 +346,29 @@ export interface VisibleBid {
 	bundles: { ref: string; price: string; items: { item: string; quantity: string }[] }[];
 }
 
+interface PricedLineRow {
+	id: string;
+	revision_id: string;
+	item: string;
+	unit_price: string;
+	max_quantity: string | null;
+}
+
+interface BreakRow {
+	bid_line_id: string;
+	from_quantity: string;
+	unit_price: string;
+}
+
+interface BundleItemRow {
+	id: string;
+	revision_id: string;
+	ref: string;
+	price: string;
+	item: string;
+	quantity: string;
+}
+
 /**
  * The current bid (latest revision) of every supplier the viewer may see, with prices. A withdrawn bid
  * is its withdrawal revision with no lines. `revision` picks one revision number of a single supplier.
@@ -355,7 +378,12 @@ export async function visibleBids(
 	eventId: string,
 	viewerOrganisationId: string,
 	now: Date,
-	options: { supplierOrganisationId?: string; revision?: number } = {}
+	options: {
+		supplierOrganisationId?: string;
+		revision?: number;
+		/** Only the lines of these items (ids), and no bundle offers: one page of a tabulation. */
+		itemIds?: string[];
+	} = {}
 ): Promise<VisibleBid[]> {
 	let revisions = db
 		.select('r.*', 'o.name as supplier_name')
@@ -371,23 +399,32 @@ export async function visibleBids(
 	const rows = (await revisions.orderBy('o.name')) as (RevisionRow & { supplier_name: string })[];
 	if (!rows.length) return [];
 	const ids = rows.map((r) => r.id);
+	const { itemIds } = options;
 	const [lines, breaks, bundles] = await Promise.all([
 		db('bid_lines as l')
 			.join('items as i', 'i.id', 'l.item_id')
 			.whereIn('l.revision_id', ids)
+			.modify((q) => {
+				if (itemIds) void q.whereIn('l.item_id', itemIds);
+			})
 			.select('l.id', 'l.revision_id', 'i.ref as item', 'l.unit_price', 'l.max_quantity')
-			.orderBy('i.position'),
+			.orderBy('i.position') as Promise<PricedLineRow[]>,
 		db('price_breaks as b')
 			.join('bid_lines as l', 'l.id', 'b.bid_line_id')
 			.whereIn('l.revision_id', ids)
+			.modify((q) => {
+				if (itemIds) void q.whereIn('l.item_id', itemIds);
+			})
 			.select('b.bid_line_id', 'b.from_quantity', 'b.unit_price')
-			.orderBy('b.from_quantity'),
-		db('bundle_offers as b')
-			.join('bundle_offer_items as bi', 'bi.bundle_offer_id', 'b.id')
-			.join('items as i', 'i.id', 'bi.item_id')
-			.whereIn('b.revision_id', ids)
-			.select('b.id', 'b.revision_id', 'b.ref', 'b.price', 'i.ref as item', 'bi.quantity')
-			.orderBy(['b.ref', 'i.position'])
+			.orderBy('b.from_quantity') as Promise<BreakRow[]>,
+		itemIds
+			? Promise.resolve([] as BundleItemRow[])
+			: (db('bundle_offers as b')
+					.join('bundle_offer_items as bi', 'bi.bundle_offer_id', 'b.id')
+					.join('items as i', 'i.id', 'bi.item_id')
+					.whereIn('b.revision_id', ids)
+					.select('b.id', 'b.revision_id', 'b.ref', 'b.price', 'i.ref as item', 'bi.quantity')
+					.orderBy(['b.ref', 'i.position']) as Promise<BundleItemRow[]>)
 	]);
 	const breaksOf = new Map<string, { fromQuantity: string; unitPrice: string }[]>();
 	for (const b of breaks) {

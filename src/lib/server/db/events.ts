@@ -155,12 +155,28 @@ export function listInvitedEvents(db: Db, supplierOrganisationId: string): Promi
 		.orderBy('e.deadline', 'asc') as unknown as Promise<EventSummary[]>;
 }
 
-export function listItems(db: Db, eventId: string): Promise<ItemRow[]> {
-	return db('items as i')
+const listItemsQuery = (db: Db, eventId: string) =>
+	db('items as i')
 		.leftJoin('lots as l', 'l.id', 'i.lot_id')
 		.where('i.event_id', eventId)
 		.select('i.*', 'l.ref as lot_ref')
-		.orderBy('i.position') as unknown as Promise<ItemRow[]>;
+		.orderBy('i.position');
+
+export function listItems(db: Db, eventId: string): Promise<ItemRow[]> {
+	return listItemsQuery(db, eventId) as unknown as Promise<ItemRow[]>;
+}
+
+/** One page of the event's items in their order, with the count of all of them. */
+export async function listItemsPage(
+	db: Db,
+	eventId: string,
+	page: { offset: number; limit: number }
+): Promise<{ items: ItemRow[]; total: number }> {
+	const [items, count] = await Promise.all([
+		listItemsQuery(db, eventId).offset(page.offset).limit(page.limit),
+		db('items').where('event_id', eventId).count<{ count: string }[]>('* as count')
+	]);
+	return { items: items as unknown as ItemRow[], total: Number(count[0]?.count ?? 0) };
 }
 
 /** Replaces the event's lots and items in one go (only while the event is a draft). */

@@ -20,7 +20,7 @@ import {
 	type UploadRow,
 	type VisibleBid
 } from '../db/bids';
-import { listItems, lockEvent, type EventRow } from '../db/events';
+import { listItems, listItemsPage, lockEvent, type EventRow, type ItemRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
@@ -377,6 +377,42 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 	const access = await eventFor(actor, id);
 	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bidders.', undefined, 403);
 	return listSubmissions(db(), id);
+}
+
+/** Items in one page of the opened-bids tabulation. */
+export const TABULATION_PAGE_ITEMS = 100;
+
+export interface Tabulation {
+	sealed: boolean;
+	submissions: Submission[];
+	/** The current bids with the lines of this page's items only (no bundle offers). */
+	bids: VisibleBid[];
+	items: ItemRow[];
+	page: number;
+	pages: number;
+}
+
+/**
+ * The Bids tab for staff: who has submitted, and once the deadline has passed one page of items with
+ * each current bid's prices for them (one access check; only the page's lines are read).
+ */
+export async function tabulation(actor: SessionUser, id: string, askedPage: number): Promise<Tabulation> {
+	const access = await eventFor(actor, id);
+	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bids.', undefined, 403);
+	const sealed = ['draft', 'open'].includes(effectiveState(access.event));
+	if (sealed) {
+		return { sealed, submissions: await listSubmissions(db(), id), bids: [], items: [], page: 1, pages: 1 };
+	}
+	const wanted = Number.isInteger(askedPage) && askedPage > 1 ? askedPage : 1;
+	const pageOf = (n: number) =>
+		listItemsPage(db(), id, { offset: (n - 1) * TABULATION_PAGE_ITEMS, limit: TABULATION_PAGE_ITEMS });
+	const [received, asked] = await Promise.all([listSubmissions(db(), id), pageOf(wanted)]);
+	const pages = Math.max(1, Math.ceil(asked.total / TABULATION_PAGE_ITEMS));
+	const page = Math.min(wanted, pages);
+	// A page past the end (a stale link after items were removed) shows the last one.
+	const { items } = page === wanted ? asked : await pageOf(page);
+	const bids = await visibleBids(db(), id, actor.organisationId, now(), { itemIds: items.map((i) => i.id) });
+	return { sealed, submissions: received, bids, items, page, pages };
 }
 
 /** Every current bid with prices, for staff, once the deadline has passed; 403 before. */

@@ -185,3 +185,36 @@ export function bidJson(bid: VisibleBid) {
 		}))
 	};
 }
+
+const tabulationPrice = new Intl.NumberFormat('en', { minimumFractionDigits: 2, maximumFractionDigits: 6 });
+
+/**
+ * One page of the opened-bids tabulation as the page shows it: a column per current bid, a row per item
+ * with each bid's unit price and price breaks as text ("—" where the bid has no price). Made here, not in
+ * the page, so the page's data is the text it shows and not the bids behind it (the page is rendered on
+ * the server for every request, and its size is most of that time).
+ */
+export function tabulationJson(bids: VisibleBid[], items: ItemRow[]) {
+	const money = (value: string) => tabulationPrice.format(Number(value));
+	const priceOf = new Map(
+		bids.flatMap((b, column) => b.lines.map((l) => [`${column}|${l.item}`, l] as const))
+	);
+	return {
+		suppliers: bids.map((b) => ({
+			id: b.supplierOrganisationId,
+			name: b.source === 'withdrawal' ? `${b.supplierName} (withdrawn)` : b.supplierName
+		})),
+		rows: items.map((item) => ({
+			ref: item.ref,
+			item: `${item.ref} ${item.description}`,
+			quantity: `${Number(item.quantity)} ${item.unit}`,
+			/** Per bid: the unit price, and its price breaks after a " · " (or ""). */
+			cells: bids.map((_, column): [string, string] => {
+				const line = priceOf.get(`${column}|${item.ref}`);
+				if (!line) return ['—', ''];
+				const breaks = line.priceBreaks.map((b) => `${money(b.unitPrice)} from ${Number(b.fromQuantity)}`);
+				return [money(line.unitPrice), breaks.length ? ` · ${breaks.join(' · ')}` : ''];
+			})
+		}))
+	};
+}
