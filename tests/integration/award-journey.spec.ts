@@ -126,6 +126,15 @@ describe('award plans, runs, sign-off and notices', () => {
 		);
 		expect(summary.allocationLines).toBe(3);
 		expect((summary.result as { awards: unknown[]; totalCost: number }).awards).toEqual([]);
+		// The problem's items and bids stay on the server unless asked for (?problem=1).
+		expect(summary).not.toHaveProperty('problem');
+		expect(summary.currency).toBe('EUR');
+		const withProblem = await json(
+			await buyer.client.get(`/api/runs/${lowestRun}?problem=1`, 'application/json')
+		);
+		const problem = withProblem.problem as { items: { ref: string }[]; bids: unknown[] };
+		expect(problem.items.map((i) => i.ref)).toEqual(['IT-1', 'IT-2', 'IT-3']);
+		expect(problem.bids.length).toBeGreaterThan(0);
 		expect((summary.result as { totalCost: number }).totalCost).toBeCloseTo(
 			100 * 4.5 + 200 * 4.9 + 300 * 6,
 			6

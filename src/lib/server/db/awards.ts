@@ -5,7 +5,7 @@
 // are the database's own clock, so workers on several machines agree.
 import type { AwardRule } from '$lib/award/core/problem';
 import type { Db } from './knex';
-import type { NoticeRow, PlanRow, RunRow, SignoffRow } from './tables';
+import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow } from './tables';
 
 export const LOWEST_COST = 'Lowest cost (no rules)';
 
@@ -70,13 +70,55 @@ export function findRun(db: Db, id: string): Promise<RunRow | undefined> {
 	return db<RunRow>('award_runs').where({ id }).first();
 }
 
-export function listRuns(db: Db, eventId: string): Promise<RunRow[]> {
-	return db<RunRow>('award_runs').where({ event_id: eventId }).orderBy('number', 'desc');
+/** Every column of a run but its problem, which comes as { currency, rules } (RunView). */
+const RUN_VIEW_COLUMNS: (keyof RunView)[] = [
+	'id',
+	'event_id',
+	'plan_id',
+	'number',
+	'plan_name',
+	'status',
+	'cancel_requested',
+	'problem_sha256',
+	'result',
+	'result_sha256',
+	'solver_version',
+	'options',
+	'error',
+	'attempts',
+	'created_by',
+	'queued_at',
+	'started_at',
+	'finished_at',
+	'heartbeat_at',
+	'owner',
+	'restarts',
+	'explanation',
+	'explanation_status',
+	'explanation_error',
+	'explanation_sha256'
+];
+
+const runViews = (db: Db) =>
+	db('award_runs').select(
+		...RUN_VIEW_COLUMNS,
+		db.raw(`jsonb_build_object('currency', problem->'currency', 'rules', problem->'rules') as problem`)
+	);
+
+export async function findRunView(db: Db, id: string): Promise<RunView | undefined> {
+	return (await runViews(db).where({ id }).first()) as RunView | undefined;
+}
+
+export async function listRuns(db: Db, eventId: string): Promise<RunView[]> {
+	return (await runViews(db).where({ event_id: eventId }).orderBy('number', 'desc')) as RunView[];
 }
 
 /** Some runs of an event, by id (ids of other events are left out). */
-export function listRunsById(db: Db, eventId: string, ids: string[]): Promise<RunRow[]> {
-	return db<RunRow>('award_runs').where({ event_id: eventId }).whereIn('id', ids).orderBy('number', 'desc');
+export async function listRunsById(db: Db, eventId: string, ids: string[]): Promise<RunView[]> {
+	return (await runViews(db)
+		.where({ event_id: eventId })
+		.whereIn('id', ids)
+		.orderBy('number', 'desc')) as RunView[];
 }
 
 export async function nextRunNumber(db: Db, eventId: string): Promise<number> {

@@ -84,6 +84,13 @@ export interface RunRow {
 	explanation_sha256: string | null;
 }
 
+/**
+ * A run as the pages and the API read it: its problem cut to the currency and the rules. The snapshot of
+ * every item and bid (about 100 kB of JSON for the 300-item demo) is read only where it is used: by the
+ * worker, the export, the sign-off's notices and `GET /api/runs/:id?problem=1`.
+ */
+export type RunView = Omit<RunRow, 'problem'> & { problem: Pick<AwardProblem, 'currency' | 'rules'> };
+
 export interface MailDeliveryRow {
 	id: string;
 	key: string;

@@ -16,7 +16,7 @@ import {
 	type ItemRow
 } from '../db/events';
 import { db } from '../db/knex';
-import type { RunRow } from '../db/tables';
+import type { RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { buyerOnly, staffEvent } from './award-plans';
@@ -177,13 +177,27 @@ export async function findRun(
 	return { run, event };
 }
 
-export async function listRuns(user: SessionUser, eventId: string): Promise<RunRow[]> {
+/** The same, as the pages and the API show it: without the problem's items and bids (RunView). */
+export async function findRunView(
+	user: SessionUser,
+	runId: string,
+	eventId?: string
+): Promise<{ run: RunView; event: EventRow }> {
+	if (!UUID.test(runId)) throw new RuleViolation('There is no such run.', undefined, 404);
+	const run = await awards.findRunView(db(), runId);
+	if (!run || (eventId !== undefined && run.event_id !== eventId))
+		throw new RuleViolation('There is no such run.', undefined, 404);
+	const event = await staffEvent(user, run.event_id);
+	return { run, event };
+}
+
+export async function listRuns(user: SessionUser, eventId: string): Promise<RunView[]> {
 	await staffEvent(user, eventId);
 	return awards.listRuns(db(), eventId);
 }
 
 /** Some runs of an event, by id: what the award page polls while they are queued or running. */
-export async function runsById(user: SessionUser, eventId: string, ids: string[]): Promise<RunRow[]> {
+export async function runsById(user: SessionUser, eventId: string, ids: string[]): Promise<RunView[]> {
 	const wanted = ids.filter((id) => UUID.test(id)).slice(0, 50);
 	await staffEvent(user, eventId);
 	return wanted.length ? awards.listRunsById(db(), eventId, wanted) : [];

@@ -6,7 +6,8 @@ import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';
 import { db } from '../db/knex';
-import type { PlanRow, RunRow } from '../db/tables';
+import type { AwardProblem } from '$lib/award/core/problem';
+import type { PlanRow, RunView } from '../db/tables';
 import { RuleViolation } from './errors';
 import { eventFor } from './events';
 import { STALE_SECONDS } from './run-execution';
@@ -24,7 +25,8 @@ export function planJson(plan: PlanRow, currency: string) {
 	};
 }
 
-export function runJson(run: RunRow, options: { withProblem?: boolean } = {}) {
+/** `problem`: the run's whole problem, to include (the API's `?problem=1`). */
+export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) {
 	const at = now();
 	const end = run.finished_at ?? at;
 	// Rule costs, conflicts and sensitivity come in their own column once their job is done.
@@ -64,13 +66,13 @@ export function runJson(run: RunRow, options: { withProblem?: boolean } = {}) {
 			text: r.label ?? describeRule(r, run.problem.currency)
 		})),
 		currency: run.problem.currency,
-		...(options.withProblem ? { problem: run.problem } : {})
+		...(options.problem ? { problem: options.problem } : {})
 	};
 }
 export type RunJson = ReturnType<typeof runJson>;
 
 /** A run's line in the award page's list: its progress and outcome, without the allocation. */
-export function runSummary(run: RunRow) {
+export function runSummary(run: RunView) {
 	const json = runJson(run);
 	return {
 		...json,
@@ -121,7 +123,7 @@ export type AllocationPage = ReturnType<typeof allocationPage>;
  * allocationPage) and with the sensitivity lists cut to what the page shows. A 300-item run page was
  * 144 kB with every line in it.
  */
-export function runPageJson(run: RunRow) {
+export function runPageJson(run: RunView) {
 	const json = runJson(run);
 	const result = json.result;
 	if (!result) return { ...json, allocationLines: 0 };

@@ -2,7 +2,7 @@ import { fail, redirect } from '@sveltejs/kit';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
-import { findRun } from '$lib/server/services/award-runs';
+import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { decide, pendingSignoff } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
@@ -10,7 +10,7 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'approver');
 	return orErrorPage(event, async () => {
-		const { run, event: row } = await findRun(user, event.params.id);
+		const { run, event: row } = await findRunView(user, event.params.id);
 		const pending = await pendingSignoff(user, row.id);
 		const cautions: CautionKey[] = ['decisionSupport', 'standstill', 'lateRuleChange'];
 		return {

@@ -3,7 +3,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { httpError } from '$lib/server/http';
 import { compareRuns } from '$lib/server/run-export';
 import { orErrorPage } from '$lib/server/route-errors';
-import { findRun } from '$lib/server/services/award-runs';
+import { findRunView } from '$lib/server/services/award-runs';
 import { runJson } from '$lib/server/services/award-views';
 import type { PageServerLoad } from './$types';
 
@@ -13,7 +13,7 @@ export const load: PageServerLoad = async (event) => {
 	if (ids.length < 2) httpError(400, 'Choose two to four runs to compare.', { path: event.url.pathname });
 	const runs = [];
 	for (const id of ids) {
-		const { run } = await orErrorPage(event, () => findRun(user, id, event.params.id));
+		const { run } = await orErrorPage(event, () => findRunView(user, id, event.params.id));
 		runs.push(runJson(run));
 	}
 	const cautions: CautionKey[] = ['decisionSupport'];

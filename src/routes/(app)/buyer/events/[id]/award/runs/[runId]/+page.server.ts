@@ -1,14 +1,14 @@
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
-import { findRun } from '$lib/server/services/award-runs';
+import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
-	const { run } = await orErrorPage(event, () => findRun(user, event.params.runId, event.params.id));
+	const { run } = await orErrorPage(event, () => findRunView(user, event.params.runId, event.params.id));
 	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
 	return {
 		run: runPageJson(run),
