@@ -96,6 +96,16 @@ export async function planRefs(user: SessionUser, id: string) {
 	};
 }
 
+/**
+ * What every tab of an event shows at its top: the event and what the user may do with it. The tabs that
+ * show invitations, questions, amendments or the opening record load eventDetail themselves, so the
+ * others (bids, award, runs) neither read nor ship them.
+ */
+export async function eventHeader(user: SessionUser, id: string) {
+	const { event, view, canEdit } = await eventFor(user, id);
+	return { view, canEdit, event: eventJson(event) };
+}
+
 export async function eventDetail(user: SessionUser, id: string) {
 	const { event, view, canEdit } = await eventFor(user, id);
 	const amendments = (await listAmendments(db(), id)).map((a) => ({

@@ -6,6 +6,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { currencies, eventSchema, fieldsFromForm, formFromEvent, timeZones } from '$lib/server/event-form';
 import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail, orFieldError } from '$lib/server/route-errors';
+import { eventDetail } from '$lib/server/services/event-views';
 import { amend, buyerEvent, publish, updateDraft } from '$lib/server/services/events';
 import { fromLocalInput, toLocalInput } from '$lib/time';
 import type { Actions, PageServerLoad } from './$types';
@@ -13,8 +14,12 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
 	// An unknown id, or another organisation's event, is the 404 page (not a 500).
-	const row = await orErrorPage(event, () => buyerEvent(user, event.params.id));
+	const [row, detail] = await orErrorPage(event, () =>
+		Promise.all([buyerEvent(user, event.params.id), eventDetail(user, event.params.id)])
+	);
 	return {
+		// The amendments and the opening record, beside the layout's header.
+		detail,
 		form: await superValidate(formFromEvent(row), zod4(eventSchema), { id: 'event', errors: false }),
 		amendForm: await superValidate(
 			{

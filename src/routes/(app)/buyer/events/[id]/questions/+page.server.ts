@@ -2,9 +2,16 @@ import { fail } from '@sveltejs/kit';
 import { answerSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
 import { requestContext } from '$lib/server/request-context';
-import { orFail } from '$lib/server/route-errors';
+import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { eventDetail } from '$lib/server/services/event-views';
 import { answer } from '$lib/server/services/events';
-import type { Actions } from './$types';
+import type { Actions, PageServerLoad } from './$types';
+
+/** The questions, beside the layout's header. */
+export const load: PageServerLoad = async (event) => {
+	const user = requireRole(event, 'buyer');
+	return { detail: await orErrorPage(event, () => eventDetail(user, event.params.id)) };
+};
 
 export const actions: Actions = {
 	answer: async (event) => {

@@ -4,15 +4,20 @@ import { zod4 } from 'sveltekit-superforms/adapters';
 import { inviteSupplierSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
 import { requestContext } from '$lib/server/request-context';
-import { orFail, orFieldError } from '$lib/server/route-errors';
+import { orErrorPage, orFail, orFieldError } from '$lib/server/route-errors';
+import { eventDetail } from '$lib/server/services/event-views';
 import { inviteSupplier, removeInvitation, tagSupplier } from '$lib/server/services/events';
 import { supplierDirectory } from '$lib/server/services/organisations';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
-	const suppliers = await supplierDirectory(user);
+	const [suppliers, detail] = await orErrorPage(event, () =>
+		Promise.all([supplierDirectory(user), eventDetail(user, event.params.id)])
+	);
 	return {
+		// The invitations, beside the layout's header.
+		detail,
 		suppliers: suppliers.map((s) => ({ id: s.id, name: s.name })),
 		form: await superValidate(zod4(inviteSupplierSchema), { id: 'invite-supplier' })
 	};
