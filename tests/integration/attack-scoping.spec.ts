@@ -203,3 +203,54 @@ describe('objects under another object’s address', () => {
 		expect(response.status).toBe(404);
 	});
 });
+
+// Last: the shared supplier it adds is one of the second organisation's suppliers from then on.
+describe('a supplier that works with both buying organisations', () => {
+	// Before: either organisation's admin could deactivate the shared supplier's user, which locked it out
+	// of the other organisation's events too.
+	it('cannot be deactivated or have its users changed by either admin', async () => {
+		const shared = await aSupplierOrganisationWithUser();
+		await anOpenEvent({ createdBy: firstBuyer.user.id, invite: [shared.organisation.id] });
+		const [secondEvent] = await testDb()('events')
+			.insert({
+				organisation_id: secondOrganisation.id,
+				reference: `SHARED-${Date.now()}`,
+				title: 'An event of the second organisation',
+				currency: 'EUR',
+				incoterm: 'DAP',
+				delivery_place: 'Test town',
+				deadline: new Date(Date.now() + 7 * 24 * 3600_000),
+				time_zone: 'Europe/Berlin',
+				state: 'open',
+				published_at: new Date(),
+				allow_price_breaks: false,
+				allow_capacity: false,
+				allow_bundles: false,
+				created_by: secondStaff.id
+			})
+			.returning('id');
+		await testDb()('invitations').insert({
+			event_id: secondEvent.id,
+			supplier_organisation_id: shared.organisation.id,
+			invited_by: secondStaff.id
+		});
+		for (const admin of [firstAdmin, secondAdmin]) {
+			const deactivate = await admin.client.postForm(
+				'/admin/users?/setActive',
+				{ userId: String(shared.user.id), active: 'false' },
+				'application/json'
+			);
+			const refused = await actionResult(deactivate);
+			expect(refused).toMatchObject({ type: 'failure', status: 403 });
+			expect(refused.data).toContain('also works with another buying organisation');
+			const role = await admin.client.postForm(
+				'/admin/users?/setRole',
+				{ userId: String(shared.user.id), role: 'buyer' },
+				'application/json'
+			);
+			expect(await actionResult(role)).toMatchObject({ type: 'failure', status: 403 });
+		}
+		const row = await testDb()('users').where({ id: shared.user.id }).first('deactivated_at', 'role');
+		expect(row).toEqual({ deactivated_at: null, role: 'supplier' });
+	});
+});

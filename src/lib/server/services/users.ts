@@ -187,6 +187,18 @@ async function targetOf(actor: SessionUser, userId: number): Promise<UserWithOrg
 	// Users of another buying organisation (and of suppliers it alone works with) do not exist for this admin.
 	const user = await findManagedUser(db(), actor.organisationId, userId);
 	if (!user) throw new RuleViolation('There is no such user.', undefined, 404);
+	// A supplier that also works with another buying organisation is not this one's to run: deactivating
+	// its user would lock it out of the other organisation's events too.
+	if (user.organisation_kind === 'supplier') {
+		const buyers = await buyersOfSupplier(db(), user.organisation_id);
+		if (buyers.some((id) => id !== actor.organisationId)) {
+			throw new RuleViolation(
+				`${user.organisation_name} also works with another buying organisation, so its users cannot be deactivated or changed here. To stop it bidding on your events, remove its invitations.`,
+				undefined,
+				403
+			);
+		}
+	}
 	return user;
 }
 
