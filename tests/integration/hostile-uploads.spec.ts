@@ -296,6 +296,15 @@ describe('upload limits of one supplier organisation', () => {
 		expect(Number(stored[0]!.count)).toBe(perWindow);
 		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
 		expect(bids.bids).toEqual([]);
+		// The refusal is on the trail once per window, however often the supplier tries again.
+		expect((await uploadSheet(own.client, own.eventId, VALID_BID, 'bid.csv')).status).toBe(429);
+		const refusals = await testDb()('trail_entries')
+			.where({ event_id: own.eventId, action: 'upload refused' })
+			.select('detail');
+		const { name } = await testDb()('organisations').where({ id: own.organisationId }).first('name');
+		expect(refusals.map((r: { detail: unknown }) => r.detail)).toEqual([
+			{ supplier: name, reason: `more than ${perWindow} uploads within 10 minutes` }
+		]);
 	}, 120_000);
 
 	it('refuses a file that would take the stored uploads past the quota with 413, before storing it', async () => {
@@ -324,6 +333,14 @@ describe('upload limits of one supplier organisation', () => {
 		expect(Number(stored[0]!.count)).toBe(1);
 		const bids = await json(await own.client.get(`/api/events/${own.eventId}/bids`, 'application/json'));
 		expect(bids.bids).toEqual([]);
+		// On the trail, without the file's size (sizes are never shown before the opening).
+		const refusals = await testDb()('trail_entries')
+			.where({ event_id: own.eventId, action: 'upload refused' })
+			.select('detail');
+		const { name } = await testDb()('organisations').where({ id: own.organisationId }).first('name');
+		expect(refusals.map((r: { detail: unknown }) => r.detail)).toEqual([
+			{ supplier: name, reason: 'the storage quota for its uploads to this event was reached' }
+		]);
 	});
 });
 

@@ -26,7 +26,7 @@ import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
 import { buildBidCsv, buildBidSheet, parseScreenPrices, type SheetProblem } from '../sheets/bid-sheet';
 import { readBidFile } from '../sheets/read-bid-file';
-import { checkUploadQuota, countSupplierUpload } from './upload-limits';
+import { checkUploadQuota, countSupplierUpload, UploadLimitReached } from './upload-limits';
 import { deleteObject } from '../storage';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail } from '../trail';
@@ -75,6 +75,27 @@ export async function bidSheet(
 			};
 }
 
+/**
+ * Runs a limit check; an upload it refuses goes on the event's trail ("upload refused", with the supplier
+ * and the reason) before the refusal is answered, so a supplier's "I tried before the deadline" can be
+ * checked. The trail entry is its own transaction: the refused one rolled back.
+ */
+async function trailingLimits<T>(actor: SessionUser, eventId: string, check: () => Promise<T>): Promise<T> {
+	try {
+		return await check();
+	} catch (error) {
+		if (error instanceof UploadLimitReached && error.onTrail) {
+			await appendTrail(null, {
+				eventId,
+				actor,
+				action: 'upload refused',
+				detail: { supplier: actor.organisationName, reason: error.reason }
+			});
+		}
+		throw error;
+	}
+}
+
 export type SubmitOutcome =
 	| { ok: true; revision: RevisionRow; upload: UploadRow | null; sha256: string | null }
 	| { ok: false; problems: SheetProblem[]; problemCount: number; upload: UploadRow | null };
@@ -107,31 +128,33 @@ export async function submitUpload(
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
-	await countSupplierUpload(event.id, actor.organisationId);
+	await trailingLimits(actor, event.id, () => countSupplierUpload(event.id, actor.organisationId));
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	// Before the opening the buying side sees only this commitment: a plain hash lets prices be guessed.
 	const { commitment, salt } = commitToFile(file.bytes);
 	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
-	const receiving = await db().transaction(async (trx) => {
-		await lockSupplierUploads(trx, event.id, actor.organisationId);
-		await checkUploadQuota(trx, event.id, actor.organisationId, file.bytes.length);
-		return insertUpload(trx, {
-			event_id: event.id,
-			supplier_organisation_id: actor.organisationId,
-			uploaded_by: actor.id,
-			storage_key: key,
-			sha256,
-			size_bytes: file.bytes.length,
-			commitment,
-			commitment_salt: salt,
-			file_name: file.name.slice(0, 255) || 'upload',
-			kind: null,
-			status: 'receiving',
-			report: [],
-			problem_count: 0,
-			received_at: now()
-		});
-	});
+	const receiving = await trailingLimits(actor, event.id, () =>
+		db().transaction(async (trx) => {
+			await lockSupplierUploads(trx, event.id, actor.organisationId);
+			await checkUploadQuota(trx, event.id, actor.organisationId, file.bytes.length);
+			return insertUpload(trx, {
+				event_id: event.id,
+				supplier_organisation_id: actor.organisationId,
+				uploaded_by: actor.id,
+				storage_key: key,
+				sha256,
+				size_bytes: file.bytes.length,
+				commitment,
+				commitment_salt: salt,
+				file_name: file.name.slice(0, 255) || 'upload',
+				kind: null,
+				status: 'receiving',
+				report: [],
+				problem_count: 0,
+				received_at: now()
+			});
+		})
+	);
 	try {
 		const items = await listItems(db(), id);
 		const [reading] = await Promise.all([

@@ -16,15 +16,27 @@ export const SUPPLIER_UPLOAD_LIMITS = {
 	quotaBytes: positive(process.env.UPLOAD_QUOTA_MB, 100) * 1024 * 1024
 };
 
-/** An upload refused by a limit: 429 (try again later, after `retryAfterSeconds`) or 413 (quota). */
+/**
+ * An upload refused by a limit: 429 (try again later, after `retryAfterSeconds`) or 413 (quota).
+ * `onTrail`: whether the refusal goes on the event's trail. Every quota refusal does; of the rate limit's,
+ * only the first in a window, so a client that keeps trying cannot fill the trail.
+ */
 export class UploadLimitReached extends Error {
 	constructor(
 		message: string,
 		readonly status: 413 | 429,
-		readonly retryAfterSeconds: number | null = null
+		readonly retryAfterSeconds: number | null = null,
+		readonly onTrail = true
 	) {
 		super(message);
 		this.name = 'UploadLimitReached';
+	}
+
+	/** What the trail says of the refusal (never the file's size, which would hint at the bid). */
+	get reason(): string {
+		return this.status === 429
+			? `more than ${SUPPLIER_UPLOAD_LIMITS.uploads} uploads within ${describeWait(SUPPLIER_UPLOAD_LIMITS.windowSeconds)}`
+			: 'the storage quota for its uploads to this event was reached';
 	}
 }
 
@@ -59,7 +71,9 @@ export async function countSupplierUpload(eventId: string, supplierOrganisationI
 		throw new UploadLimitReached(
 			`Your organisation has uploaded ${SUPPLIER_UPLOAD_LIMITS.uploads} files to this event within ${describeWait(SUPPLIER_UPLOAD_LIMITS.windowSeconds)}, the most allowed. Try again in ${describeWait(seconds)}. This file was not stored; your current bid is unchanged.`,
 			429,
-			seconds
+			seconds,
+			// consumedPoints counts this attempt: one over the limit is the window's first refusal.
+			rejection.consumedPoints === SUPPLIER_UPLOAD_LIMITS.uploads + 1
 		);
 	}
 }
