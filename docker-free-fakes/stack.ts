@@ -140,6 +140,10 @@ async function startWeb(
 			BODY_SIZE_LIMIT: '6M',
 			// In-flight requests get this long to finish once the server stops taking new ones.
 			SHUTDOWN_TIMEOUT: '5',
+			// Tests watch the health check while a large or hostile file is read: with one web process, the
+			// process reading the file is the one that must keep answering (web-processes.spec.ts starts
+			// its own server with two). `npm start` runs one per core (serve.js).
+			...(plan.throwaway && !process.env.WEB_PROCESSES ? { WEB_PROCESSES: '1' } : {}),
 			...env,
 			NODE_ENV: localNodeEnv(plan),
 			EXIT_WITH_PARENT: '1'

@@ -9,6 +9,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3';
+import ExcelJS from 'exceljs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb } from '../../src/lib/server/db/knex';
 import { sweepUploadOrphans } from '../../src/lib/server/services/upload-sweep';
@@ -273,6 +274,41 @@ describe("the supplier's page after many or large reports", () => {
 		expect(page).toContain('try-54.csv');
 		expect(page).not.toMatch(/try-4\.csv/);
 	});
+});
+
+describe('a large item list', () => {
+	// The import at its largest (MAX_ITEMS), end to end through the parse thread, with the server answering
+	// throughout. (It was read on the event loop before; exceljs yields while loading, so this alone did not
+	// show that: read-bid-file.spec.ts checks the thread's memory cap for item lists.)
+	it('is read on a worker thread: the server keeps answering while 20,000 items are imported', async () => {
+		const buyer = await aSignedInUser('buyer');
+		const draft = await anOpenEvent({ createdBy: buyer.user.id, invite: [], items: 1, state: 'draft' });
+		eventsMade.push(draft.id);
+		const workbook = new ExcelJS.Workbook();
+		const sheet = workbook.addWorksheet('Items');
+		sheet.addRow(['Ref', 'Description', 'Lot', 'Quantity', 'Unit', 'Baseline unit price']);
+		for (let k = 1; k <= 20_000; k++)
+			sheet.addRow([`R-${k}`, `Item ${k}`, `L${(k % 4) + 1}`, 100 + k, 'C62', 2.5]);
+		const form = new FormData();
+		form.append('file', new Blob([new Uint8Array(await workbook.xlsx.writeBuffer())]), 'items.xlsx');
+		const { result, latencies } = await whileWatchingHealth(() =>
+			buyer.client.request(`/buyer/events/${draft.id}/items?/import`, {
+				method: 'POST',
+				body: form,
+				accept: 'application/json'
+			})
+		);
+		const answer = (await result.json()) as { type: string; data: string };
+		expect(answer.type).toBe('success');
+		expect(answer.data).toContain('Saved 20000 items.');
+		expect(latencies.length).toBeGreaterThan(0);
+		expect(
+			Math.max(...latencies),
+			`health check answers (ms): ${latencies.map(Math.round).join(', ')}`
+		).toBeLessThan(1000);
+		const stored = await testDb()('items').where({ event_id: draft.id }).count<{ count: string }[]>('id');
+		expect(Number(stored[0]!.count)).toBe(20_000);
+	}, 180_000);
 });
 
 describe('upload limits of one supplier organisation', () => {

@@ -42,7 +42,8 @@ import {
 	eventInvitationMail,
 	type EventMailContext
 } from '../mail/templates';
-import type { SheetEvent } from '../sheets/bid-sheet';
+import type { SheetEvent, SheetProblem } from '../sheets/bid-sheet';
+import { readItemFile } from '../sheets/read-bid-file';
 import { COMMITMENT_SCHEME } from '../storage/sealed-files';
 import { appendTrail, canonicalJson, sha256, trailHead } from '../trail';
 import { RuleViolation } from './errors';
@@ -181,6 +182,24 @@ async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<Eve
 		);
 	}
 	return event;
+}
+
+/**
+ * A buyer's item list file (.xlsx or .csv) for a draft event: read on a worker thread (sheets/
+ * read-bid-file.ts), as bid files are, so a large or hostile file never holds up the web server; saved
+ * only when every row is good, else every problem by sheet, row and column.
+ */
+export async function importItems(
+	actor: SessionUser,
+	id: string,
+	file: { name: string; bytes: Buffer }
+): Promise<{ ok: true; saved: number } | { ok: false; problems: SheetProblem[] }> {
+	// Who may change the event is checked before the file is read, and again when the items are saved.
+	await buyerEvent(actor, id);
+	const outcome = await readItemFile(file);
+	if (!outcome.ok) return outcome;
+	await saveItems(actor, id, outcome.items);
+	return { ok: true, saved: outcome.items.length };
 }
 
 export async function saveItems(actor: SessionUser, id: string, items: ItemFields[]): Promise<void> {

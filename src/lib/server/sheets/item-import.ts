@@ -21,6 +21,9 @@ export type ItemColumn = (typeof ITEM_COLUMNS)[number]['key'];
 export type RawItemRow = Partial<Record<ItemColumn, string>>;
 export const MAX_ITEMS = 20_000;
 
+/** What reading an item list gives: the items, or every problem by sheet, row and column. */
+export type ItemFileOutcome = { ok: true; items: ItemFields[] } | { ok: false; problems: SheetProblem[] };
+
 const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
 /**
@@ -126,7 +129,7 @@ function fromGrid(sheet: string, grid: string[][]) {
 	return validateItemRows(sheet, rows, (key) => letter(positions.get(key) ?? 0));
 }
 
-export async function parseItemWorkbook(bytes: Buffer) {
+export async function parseItemWorkbook(bytes: Buffer): Promise<ItemFileOutcome> {
 	const workbook = new ExcelJS.Workbook();
 	try {
 		await workbook.xlsx.load(bytes as unknown as ArrayBuffer);
@@ -175,7 +178,7 @@ export async function parseItemWorkbook(bytes: Buffer) {
 	return fromGrid(sheet.name, grid);
 }
 
-export function parseItemCsv(text: string) {
+export function parseItemCsv(text: string): ItemFileOutcome {
 	let grid: string[][];
 	try {
 		grid = parseCsv(text, { relax_column_count: true, skip_empty_lines: true, bom: true }) as string[][];

@@ -1,6 +1,7 @@
+import ExcelJS from 'exceljs';
 import { describe, expect, it } from 'vitest';
 import { buildBidCsv, buildBidSheet, type SheetEvent } from './bid-sheet';
-import { parseThreadCount, readBidFile } from './read-bid-file';
+import { parseThreadCount, readBidFile, readItemFile } from './read-bid-file';
 
 const event: SheetEvent = {
 	reference: 'EV-1',
@@ -94,5 +95,43 @@ describe('reading a bid file on a worker thread', { timeout: 30_000 }, () => {
 		// That file's thread was stopped; the next file is read whole on a kept thread.
 		const next = await readBidFile(event, { name: 'bid.csv', bytes: filledCsv() });
 		expect(next.outcome.ok && next.outcome.bid.lines.map((l) => l.item)).toEqual(['IT-1', 'IT-2']);
+	});
+});
+
+describe('reading an item list on a thread', () => {
+	const itemWorkbook = async (rows: number) => {
+		const workbook = new ExcelJS.Workbook();
+		const sheet = workbook.addWorksheet('Items');
+		sheet.addRow(['Ref', 'Description', 'Lot', 'Quantity', 'Unit']);
+		for (let k = 1; k <= rows; k++) sheet.addRow([`R-${k}`, `Item ${k}`, 'L1', k, 'C62']);
+		return Buffer.from(await workbook.xlsx.writeBuffer());
+	};
+
+	it('reads the items of a workbook, and names every bad row of a CSV', async () => {
+		const read = await readItemFile({ name: 'items.xlsx', bytes: await itemWorkbook(3) });
+		expect(read.ok && read.items.map((i) => [i.ref, i.quantity])).toEqual([
+			['R-1', 1],
+			['R-2', 2],
+			['R-3', 3]
+		]);
+		const bad = await readItemFile({
+			name: 'items.csv',
+			bytes: Buffer.from('Ref,Description,Lot,Quantity,Unit\r\nA-1,Bolts,L1,ten,C62\r\n')
+		});
+		expect(bad.ok ? [] : bad.problems.map((p) => `${p.row}${p.column}: ${p.message}`)).toEqual([
+			'2D: "ten" is not a number'
+		]);
+	});
+
+	it('stops a thread that runs out of its memory cap, and refuses a file by its content first', async () => {
+		const capped = await readItemFile(
+			{ name: 'items.xlsx', bytes: await itemWorkbook(5_000) },
+			{ heapMb: 8 }
+		);
+		expect(capped.ok ? '' : capped.problems[0]!.message).toMatch(
+			/^The file needs more memory to read than an item list may use \(8 MB\)\. Save the item list as \.xlsx/
+		);
+		const pdf = await readItemFile({ name: 'items.xlsx', bytes: Buffer.from('%PDF-1.7\n') });
+		expect(pdf.ok ? '' : pdf.problems[0]!.message).toMatch(/PDF/);
 	});
 });

@@ -1,6 +1,6 @@
-// Reads an uploaded bid file on a worker thread with a memory cap and a time limit, at most a few at a
-// time per process, so the web server keeps answering (the health check included) while a hostile
-// file is checked.
+// Reads an uploaded file (a supplier's bid sheet, a buyer's item list) on a worker thread with a memory
+// cap and a time limit, at most a few at a time per process, so the web server keeps answering (the
+// health check included) while a hostile or a large file is checked.
 //
 // Where the thread's code comes from: Vite bundles `new Worker(new URL('./x.ts', import.meta.url))`
 // for the browser only (its worker plugin applies to the client environment), so in the SSR build such
@@ -12,7 +12,8 @@
 import { createRequire } from 'node:module';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import type { SheetEvent } from './bid-sheet';
+import type { SheetEvent, SheetProblem } from './bid-sheet';
+import type { ItemFileOutcome } from './item-import';
 import type { BidFileReading, ParseJob } from './parse-worker';
 
 const positive = (value: string | undefined, fallback: number) =>
@@ -115,26 +116,58 @@ function giveBack(pooled: PooledThread): void {
 if (!import.meta.url.endsWith('.ts'))
 	void import('./parse-worker').then(({ entryUrl, PARSE_TASK }) => prepareIdle(entryUrl, PARSE_TASK));
 
-const refused = (message: string): BidFileReading => ({
-	kind: null,
-	outcome: { ok: false, problems: [{ sheet: '(file)', row: null, column: null, message }] }
+const fileProblem = (message: string): SheetProblem => ({
+	sheet: '(file)',
+	row: null,
+	column: null,
+	message
 });
 
-export async function readBidFile(
+/** A supplier's bid sheet for the event. */
+export function readBidFile(
 	event: SheetEvent,
 	file: { name: string; bytes: Buffer },
 	limits: Partial<typeof PARSE_LIMITS> = {}
 ): Promise<BidFileReading> {
+	return readOnThread<BidFileReading>(
+		{ kind: 'bid', event, fileName: file.name, bytes: new Uint8Array(file.bytes) },
+		(message) => ({ kind: null, outcome: { ok: false, problems: [fileProblem(message)] } }),
+		limits
+	);
+}
+
+/** A buyer's item list for an event (sheets/item-import.ts). */
+export function readItemFile(
+	file: { name: string; bytes: Buffer },
+	limits: Partial<typeof PARSE_LIMITS> = {}
+): Promise<ItemFileOutcome> {
+	return readOnThread<ItemFileOutcome>(
+		{ kind: 'items', fileName: file.name, bytes: new Uint8Array(file.bytes) },
+		(message) => ({ ok: false, problems: [fileProblem(message)] }),
+		limits
+	);
+}
+
+/** `refused`: the answer for a file the thread could not read (out of time or memory, or it failed). */
+async function readOnThread<T>(
+	job: ParseJob,
+	refused: (message: string) => T,
+	limits: Partial<typeof PARSE_LIMITS>
+): Promise<T> {
 	const { heapMb, timeoutMs, concurrent } = { ...PARSE_LIMITS, ...limits };
 	const { entryUrl, PARSE_TASK } = await import('./parse-worker');
+	const what = job.kind === 'bid' ? 'a bid sheet' : 'an item list';
+	const advice =
+		job.kind === 'bid'
+			? 'Upload the bid sheet downloaded for this event, with your prices typed in.'
+			: 'Save the item list as .xlsx or as CSV UTF-8 (comma delimited), one row per item, and import it again.';
 	const release = await slot(concurrent);
 	try {
-		return await new Promise<BidFileReading>((resolve) => {
+		return await new Promise<T>((resolve) => {
 			const taken = takeThread(entryUrl, PARSE_TASK, { heapMb, timeoutMs });
 			const thread = taken instanceof Worker ? taken : taken.worker;
-			const job: ParseJob = { event, fileName: file.name, bytes: new Uint8Array(file.bytes) };
 			let settled = false;
-			const settle = (reading: BidFileReading, answered = false) => {
+			const settle = (reading: T, answered = false) => {
 				if (settled) return;
 				settled = true;
 				clearTimeout(timer);
@@ -149,12 +182,12 @@ export async function readBidFile(
 				() =>
 					settle(
 						refused(
-							`The file could not be read in time (${Math.round(timeoutMs / 1000)} seconds); a bid sheet takes well under that. Upload the bid sheet downloaded for this event, with your prices typed in.`
+							`The file could not be read in time (${Math.round(timeoutMs / 1000)} seconds); ${what} takes well under that. ${advice}`
 						)
 					),
 				timeoutMs
 			);
-			const onMessage = (reading: BidFileReading) => settle(reading, true);
+			const onMessage = (reading: T) => settle(reading, true);
 			const onError = (error: Error & { code?: string }) => {
 				if (error.code !== 'ERR_WORKER_OUT_OF_MEMORY')
 					console.error(
@@ -163,15 +196,23 @@ export async function readBidFile(
 				settle(
 					refused(
 						error.code === 'ERR_WORKER_OUT_OF_MEMORY'
-							? `The file needs more memory to read than a bid sheet may use (${heapMb} MB). Upload the bid sheet downloaded for this event, with your prices typed in.`
-							: 'The file could not be read. Save the bid sheet as .xlsx or as CSV UTF-8 (comma delimited) and upload it again.'
+							? `The file needs more memory to read than ${what} may use (${heapMb} MB). ${advice}`
+							: job.kind === 'bid'
+								? 'The file could not be read. Save the bid sheet as .xlsx or as CSV UTF-8 (comma delimited) and upload it again.'
+								: `The file could not be read. ${advice}`
 					)
 				);
 			};
 			// A message posted just before the thread ends is delivered before 'exit'; wait a turn anyway.
 			const onExit = () =>
 				setImmediate(() =>
-					settle(refused('The file could not be read. Save the bid sheet as .xlsx again and upload it.'))
+					settle(
+						refused(
+							job.kind === 'bid'
+								? 'The file could not be read. Save the bid sheet as .xlsx again and upload it.'
+								: `The file could not be read. ${advice}`
+						)
+					)
 				);
 			thread.once('message', onMessage);
 			thread.once('error', onError);

@@ -2,15 +2,8 @@ import { fail } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { orFail } from '$lib/server/route-errors';
 import { itemsFor } from '$lib/server/services/event-views';
-import { saveItems } from '$lib/server/services/events';
-import { inspectUpload } from '$lib/server/sheets/inspect';
-import {
-	ITEM_COLUMNS,
-	parseItemCsv,
-	parseItemWorkbook,
-	validateItemRows,
-	type RawItemRow
-} from '$lib/server/sheets/item-import';
+import { importItems, saveItems } from '$lib/server/services/events';
+import { ITEM_COLUMNS, validateItemRows, type RawItemRow } from '$lib/server/sheets/item-import';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -64,14 +57,14 @@ export const actions: Actions = {
 			return fail(400, {
 				problems: [{ sheet: '', row: null, column: null, message: 'Choose an .xlsx or .csv file.' }]
 			});
-		const inspection = await inspectUpload(Buffer.from(await file.arrayBuffer()), file.name);
-		if (!inspection.ok)
-			return fail(422, {
-				problems: [{ sheet: '(file)', row: null, column: null, message: inspection.message }]
-			});
-		const parsed =
-			inspection.kind === 'xlsx' ? await parseItemWorkbook(inspection.bytes) : parseItemCsv(inspection.text);
-		if (!parsed.ok) return fail(422, { problems: parsed.problems });
-		return store(user, event.params.id, async () => parsed.items);
+		return orFail(
+			async () => {
+				const bytes = Buffer.from(await file.arrayBuffer());
+				const imported = await importItems(user, event.params.id, { name: file.name, bytes });
+				if (!imported.ok) return fail(422, { problems: imported.problems });
+				return { saved: `Saved ${imported.saved} items.` };
+			},
+			(v) => ({ problems: [{ sheet: '', row: null, column: null, message: v.message }] })
+		);
 	}
 };
