@@ -74,6 +74,39 @@ describe('award results', () => {
 		expect(result.awards).toEqual([{ supplier: 'S1', item: 'A', quantity: 600, unitPrice: 3.5, cost: 2100 }]);
 	});
 
+	it('prices a quantity that reaches a break at the break, even when a spend floor would rather pay more', async () => {
+		// Issue 11: S1 was awarded exactly its break quantity (100) at the pre-break price (10), which keeps
+		// its 55% spend floor (1,000 of 1,800), status optimal, while the checker priced it as the bid says
+		// (9: 900 of 1,700 = 52.9%) and listed the floor as broken. Worked by hand: at 9 the floor cannot
+		// hold with S1 on all of A, so S1 takes q < 100 at 10 and S2 the rest at 10.5; the cost
+		// 10q + 10.5(100 - q) + 8·100 = 1,850 - 0.5q falls as q nears 100, so the optimum is q just below the
+		// break: 1,800 plus half the margin, with the floor kept (10q / (1,850 - 0.5q) >= 55% for q >= 98.99).
+		const result = await solveAward(
+			problemOf({
+				currency: 'EUR',
+				items: [
+					{ ref: 'A', quantity: 100 },
+					{ ref: 'B', quantity: 100 }
+				],
+				suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+				bids: [
+					{ supplier: 'S1', item: 'A', unitPrice: 10, priceBreaks: [{ fromQuantity: 100, unitPrice: 9 }] },
+					{ supplier: 'S2', item: 'A', unitPrice: 10.5 },
+					{ supplier: 'S2', item: 'B', unitPrice: 8 }
+				],
+				rules: [{ type: 'min_share', scope: 'event', who: { supplier: 'S1' }, percent: 55, basis: 'spend' }]
+			}),
+			pool
+		);
+		expect(result.violations).toEqual([]);
+		expect(result.status).toBe('optimal');
+		const s1 = result.awards.find((l) => l.supplier === 'S1')!;
+		expect(s1.unitPrice).toBe(10);
+		expect(s1.quantity).toBeLessThan(100);
+		expect(s1.quantity).toBeGreaterThan(99.99);
+		expect(result.totalCost!).toBeCloseTo(1800, 3);
+	});
+
 	it('takes a bundle whole or not at all, and shows it as its items', async () => {
 		const result = await solveAward(
 			problemOf({

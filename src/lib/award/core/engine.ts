@@ -20,8 +20,11 @@ export async function solveAward(
 	const hasAllocation = usable(solved.status);
 	const baseline = baselineCost(problem, uncovered);
 	const total = hasAllocation ? allocationCost(problem, solved.lines) : null;
+	const violations = hasAllocation ? checkAllocation(problem, solved.lines, uncovered) : [];
 	const result: AwardResult = {
-		status: solved.status,
+		// Never "optimal" with a violation the independent checker found: then the award is only feasible
+		// as the model saw it, and the violations say where it and the problem disagree.
+		status: solved.status === 'optimal' && violations.length ? 'feasible' : solved.status,
 		method: solved.method,
 		currency: problem.currency,
 		totalCost: total,
@@ -34,7 +37,7 @@ export async function solveAward(
 		uncoveredItems: solved.uncovered,
 		solveSeconds: solved.seconds,
 		modelSize: solved.modelSize,
-		violations: hasAllocation ? checkAllocation(problem, solved.lines, uncovered) : []
+		violations
 	};
 	if (!options.explain) return result;
 	return Object.assign(result, await explainAward(problem, result, solver, options));

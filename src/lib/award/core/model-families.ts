@@ -24,11 +24,21 @@ const isItemScope = (scope: Scope) => scope === 'each_item' || (typeof scope ===
  * quantity) gets per tier t a column x[b,t] at that tier's price and a choice z[b,t] in {0,1}:
  *   from[t]·z[b,t] <= x[b,t] <= top[t]·z[b,t]    (a tier's price applies only to quantities in its range)
  *   Σ_t z[b,t] <= 1                               (one price tier per bid)
- * top[t] is the next tier's start, capped by the ceiling min(maxQuantity, d[i], capacity[s]): the big-M.
+ * top[t] is just below the next tier's start (by BREAK_MARGIN), capped by the ceiling min(maxQuantity,
+ * d[i], capacity[s]): the big-M. A quantity that reaches a break is priced at the break's price, as the bid
+ * says; the tier before it ends strictly below (with the closed bound a spend floor could take exactly the
+ * break quantity at the higher price, and the checker then priced it lower and found the floor broken).
  * The bid's own limit bounds the column; demand and capacity only give the linking rows a finite big-M
  * (as column bounds they would distort the duals). The relaxation lets capacity give way, so there the
  * ceiling ignores it. Tiers that start above the ceiling are left out.
  */
+/**
+ * How far below a price break the tier before it ends: more than the checker's tolerance (check.ts counts a
+ * quantity within 1e-6 of a break as reaching it) plus the solver's feasibility tolerance (1e-7), and a
+ * hundred-millionth of the break for large quantities.
+ */
+export const breakMargin = (from: number) => Math.max(1e-5, 1e-8 * from);
+
 export function bidQuantities(ctx: ModelContext): void {
 	const m = ctx.builder;
 	const tierUsedRows: Terms[] = [];
@@ -55,7 +65,8 @@ export function bidQuantities(ctx: ModelContext): void {
 		}
 		const oneTier: Terms = [];
 		tiers.forEach((tier, t) => {
-			const top = Math.min(tiers[t + 1]?.from ?? Infinity, ceiling);
+			const next = tiers[t + 1]?.from;
+			const top = Math.min(next === undefined ? Infinity : next - breakMargin(next), ceiling);
 			const x = m.column(
 				{ kind: 'tier', bid: b, tier: t, unitPrice: tier.unitPrice },
 				tier.unitPrice,
