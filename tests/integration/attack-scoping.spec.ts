@@ -211,28 +211,10 @@ describe('a supplier that works with both buying organisations', () => {
 	it('cannot be deactivated or have its users changed by either admin', async () => {
 		const shared = await aSupplierOrganisationWithUser();
 		await anOpenEvent({ createdBy: firstBuyer.user.id, invite: [shared.organisation.id] });
-		const [secondEvent] = await testDb()('events')
-			.insert({
-				organisation_id: secondOrganisation.id,
-				reference: `SHARED-${Date.now()}`,
-				title: 'An event of the second organisation',
-				currency: 'EUR',
-				incoterm: 'DAP',
-				delivery_place: 'Test town',
-				deadline: new Date(Date.now() + 7 * 24 * 3600_000),
-				time_zone: 'Europe/Berlin',
-				state: 'open',
-				published_at: new Date(),
-				allow_price_breaks: false,
-				allow_capacity: false,
-				allow_bundles: false,
-				created_by: secondStaff.id
-			})
-			.returning('id');
-		await testDb()('invitations').insert({
-			event_id: secondEvent.id,
-			supplier_organisation_id: shared.organisation.id,
-			invited_by: secondStaff.id
+		await anOpenEvent({
+			createdBy: secondStaff.id,
+			organisationId: secondOrganisation.id,
+			invite: [shared.organisation.id]
 		});
 		for (const admin of [firstAdmin, secondAdmin]) {
 			const deactivate = await admin.client.postForm(

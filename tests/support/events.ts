@@ -33,9 +33,11 @@ export async function anOpenEvent(options: {
 	allowCapacity?: boolean;
 	allowBundles?: boolean;
 	state?: 'draft' | 'open';
+	/** Another buying organisation's event (default: the one buying organisation of the tests). */
+	organisationId?: string;
 }): Promise<TestEvent> {
 	const db = testDb();
-	const buying = await theBuyingOrganisation();
+	const buying = options.organisationId ? { id: options.organisationId } : await theBuyingOrganisation();
 	const reference = unique('EV');
 	const [event] = await db('events')
 		.insert({

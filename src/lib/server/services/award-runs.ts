@@ -15,7 +15,7 @@ import {
 	type InvitationRow,
 	type ItemRow
 } from '../db/events';
-import { db } from '../db/knex';
+import { db, type Db } from '../db/knex';
 import type { RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
@@ -163,33 +163,28 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 	});
 }
 
-/** A run the user may see; given `eventId` (the address's event), a run of another event is a 404. */
-export async function findRun(
+/** A run the user may see, read by `read`; given `eventId` (the address's event), a run of another event is a 404. */
+async function visibleRun<R extends RunView>(
 	user: SessionUser,
 	runId: string,
-	eventId?: string
-): Promise<{ run: RunRow; event: EventRow }> {
+	eventId: string | undefined,
+	read: (db: Db, id: string) => Promise<R | undefined>
+): Promise<{ run: R; event: EventRow }> {
 	if (!UUID.test(runId)) throw new RuleViolation('There is no such run.', undefined, 404);
-	const run = await awards.findRun(db(), runId);
+	const run = await read(db(), runId);
 	if (!run || (eventId !== undefined && run.event_id !== eventId))
 		throw new RuleViolation('There is no such run.', undefined, 404);
 	const event = await staffEvent(user, run.event_id);
 	return { run, event };
 }
 
+/** The whole run, its problem snapshot included (the export, the sign-off's notices, `?problem=1`). */
+export const findRun = (user: SessionUser, runId: string, eventId?: string) =>
+	visibleRun(user, runId, eventId, awards.findRun);
+
 /** The same, as the pages and the API show it: without the problem's items and bids (RunView). */
-export async function findRunView(
-	user: SessionUser,
-	runId: string,
-	eventId?: string
-): Promise<{ run: RunView; event: EventRow }> {
-	if (!UUID.test(runId)) throw new RuleViolation('There is no such run.', undefined, 404);
-	const run = await awards.findRunView(db(), runId);
-	if (!run || (eventId !== undefined && run.event_id !== eventId))
-		throw new RuleViolation('There is no such run.', undefined, 404);
-	const event = await staffEvent(user, run.event_id);
-	return { run, event };
-}
+export const findRunView = (user: SessionUser, runId: string, eventId?: string) =>
+	visibleRun(user, runId, eventId, awards.findRunView);
 
 export async function listRuns(user: SessionUser, eventId: string): Promise<RunView[]> {
 	await staffEvent(user, eventId);
