@@ -7,6 +7,7 @@ import { closeDb, isDatabaseUnavailable } from '$lib/server/db/knex';
 import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import { config, publicOrigin } from '$lib/server/config';
+import { Admission } from '$lib/server/admission';
 import { fallbackCsp, hookError, jsonError, newErrorId, securityHeaders } from '$lib/server/http';
 import errorPage from './error.html?raw';
 import { stopJobs } from '$lib/server/jobs';
@@ -111,6 +112,31 @@ const secureHeaders: Handle = async ({ event, resolve }) => {
 	}
 };
 
+let admission: Admission | undefined;
+
+/**
+ * Page and API reads are served a few at a time per process, in arrival order (admission.ts); a read that
+ * finds the queue full is answered 503 with Retry-After. Writes (forms, uploads with their own limits),
+ * SvelteKit's own sub-requests (which run inside an admitted request) and the health check go straight in.
+ */
+const admitReads: Handle = async ({ event, resolve }) => {
+	if (!READS.has(event.request.method) || event.isSubRequest || event.url.pathname === '/healthz')
+		return resolve(event);
+	admission ??= new Admission(config().READS_IN_FLIGHT, config().READS_WAITING);
+	const leave = await admission.enter();
+	if (!leave) {
+		const message = 'Tenderloom is busier than it can answer just now; try again in a minute.';
+		const context = { path: event.url.pathname, cause: 'the queue of reads is full' };
+		if (event.url.pathname.startsWith('/api/')) return jsonError(503, message, context);
+		hookError(503, message, context);
+	}
+	try {
+		return await resolve(event);
+	} finally {
+		leave();
+	}
+};
+
 /**
  * Refuses every request that may change something unless it comes from our own pages: its Origin must be
  * the configured origin. Browsers send Origin on every such request, so one without it is refused as well,
@@ -182,7 +208,15 @@ const guard: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
-export const handle = sequence(secureHeaders, sameOriginWrites, throttleSignIn, authHandle, loadUser, guard);
+export const handle = sequence(
+	secureHeaders,
+	admitReads,
+	sameOriginWrites,
+	throttleSignIn,
+	authHandle,
+	loadUser,
+	guard
+);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = newErrorId();

@@ -4,6 +4,8 @@
 // sending notices) in services/run-execution and notice-sending. Times that workers compare (heartbeats)
 // are the database's own clock, so workers on several machines agree.
 import type { AwardRule } from '$lib/award/core/problem';
+import type { Knex } from 'knex';
+import { BoundedCache } from '../bounded-cache';
 import type { Db } from './knex';
 import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow } from './tables';
 
@@ -99,26 +101,80 @@ const RUN_VIEW_COLUMNS: (keyof RunView)[] = [
 	'explanation_sha256'
 ];
 
-const runViews = (db: Db) =>
-	db('award_runs').select(
-		...RUN_VIEW_COLUMNS,
-		db.raw(`jsonb_build_object('currency', problem->'currency', 'rules', problem->'rules') as problem`)
-	);
+/** The columns that change over a run's life (status, owner, explanation status…): all but its content. */
+const RUN_STATE_COLUMNS = RUN_VIEW_COLUMNS.filter((c) => c !== 'result' && c !== 'explanation');
+const PROBLEM_SUMMARY = `jsonb_build_object('currency', problem->'currency', 'rules', problem->'rules') as problem`;
+
+type RunContent = Pick<RunView, 'result' | 'explanation'>;
+
+/**
+ * A finished run's result and explanation, parsed, under the run's id and their SHA-256s: written once
+ * (the explanation later, under its own hash), they never change under that key. A 300-item result is
+ * about 100 kB of JSON that every view of the run read and parsed again; bounded by the JSON's length.
+ */
+const runContents = new BoundedCache<RunContent>(32 * 1024 * 1024);
+
+const contentKey = (run: Pick<RunView, 'id' | 'result_sha256' | 'explanation_sha256'>) =>
+	run.result_sha256 ? `${run.id}|${run.result_sha256.trim()}|${run.explanation_sha256?.trim() ?? '-'}` : null;
+
+/**
+ * Runs as RunView: their state read every time, their content from the cache when it is there. A run
+ * whose content is not (or that has none yet) is read whole in one more query, and that whole row is what
+ * comes back, so a run is never shown with the state of one moment and the content of another.
+ */
+async function runViews(db: Db, select: (q: Knex.QueryBuilder) => Knex.QueryBuilder): Promise<RunView[]> {
+	const states = (await select(
+		db('award_runs').select(...RUN_STATE_COLUMNS, db.raw(PROBLEM_SUMMARY))
+	)) as Omit<RunView, keyof RunContent>[];
+	const found = new Map<string, RunContent>();
+	for (const run of states) {
+		const key = contentKey(run);
+		const content = key ? runContents.get(key) : undefined;
+		if (content) found.set(run.id, content);
+	}
+	const missing = states.filter((r) => !found.has(r.id)).map((r) => r.id);
+	const whole = new Map<string, RunView>();
+	if (missing.length) {
+		const rows = (await db('award_runs')
+			.whereIn('id', missing)
+			.select(
+				...RUN_STATE_COLUMNS,
+				db.raw(PROBLEM_SUMMARY),
+				db.raw('result::text as result'),
+				db.raw('explanation::text as explanation')
+			)) as (Omit<RunView, keyof RunContent> & { result: string | null; explanation: string | null })[];
+		for (const row of rows) {
+			const content: RunContent = {
+				result: row.result === null ? null : JSON.parse(row.result),
+				explanation: row.explanation === null ? null : JSON.parse(row.explanation)
+			};
+			const key = contentKey(row);
+			const shared = key
+				? runContents.set(key, content, (row.result?.length ?? 0) + (row.explanation?.length ?? 0))
+				: content;
+			whole.set(row.id, { ...row, ...shared });
+		}
+	}
+	return states.flatMap((run) => {
+		const read = whole.get(run.id);
+		if (read) return [read];
+		const content = found.get(run.id);
+		// A run removed between the two reads is left out, as if the first had not seen it.
+		return content ? [{ ...run, ...content } as RunView] : [];
+	});
+}
 
 export async function findRunView(db: Db, id: string): Promise<RunView | undefined> {
-	return (await runViews(db).where({ id }).first()) as RunView | undefined;
+	return (await runViews(db, (q) => q.where({ id })))[0];
 }
 
 export async function listRuns(db: Db, eventId: string): Promise<RunView[]> {
-	return (await runViews(db).where({ event_id: eventId }).orderBy('number', 'desc')) as RunView[];
+	return runViews(db, (q) => q.where({ event_id: eventId }).orderBy('number', 'desc'));
 }
 
 /** Some runs of an event, by id (ids of other events are left out). */
 export async function listRunsById(db: Db, eventId: string, ids: string[]): Promise<RunView[]> {
-	return (await runViews(db)
-		.where({ event_id: eventId })
-		.whereIn('id', ids)
-		.orderBy('number', 'desc')) as RunView[];
+	return runViews(db, (q) => q.where({ event_id: eventId }).whereIn('id', ids).orderBy('number', 'desc'));
 }
 
 export async function nextRunNumber(db: Db, eventId: string): Promise<number> {

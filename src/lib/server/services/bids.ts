@@ -4,6 +4,7 @@
 // submitted when, and prices only after the deadline.
 import { createHash, randomUUID } from 'node:crypto';
 import type { SessionUser } from '../auth/session-user';
+import { BoundedCache } from '../bounded-cache';
 import { now } from '../clock';
 import {
 	finishUpload,
@@ -405,6 +406,13 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 /** Items in one page of the opened-bids tabulation. */
 export const TABULATION_PAGE_ITEMS = 100;
 
+/**
+ * Pages of opened events' tabulations, by event, page and every supplier's latest revision: the same page
+ * was read again (about nine queries) for every view. Bounded by cells (items x bids): a page of 100 items
+ * and 50 bids is 5,100.
+ */
+const openedPages = new BoundedCache<Tabulation>(250_000);
+
 export interface Tabulation {
 	sealed: boolean;
 	submissions: Submission[];
@@ -427,15 +435,22 @@ export async function tabulation(actor: SessionUser, id: string, askedPage: numb
 		return { sealed, submissions: await listSubmissions(db(), id), bids: [], items: [], page: 1, pages: 1 };
 	}
 	const wanted = Number.isInteger(askedPage) && askedPage > 1 ? askedPage : 1;
+	const received = await listSubmissions(db(), id);
+	// After the deadline an event's items and bids no longer change; were a bid added all the same (a
+	// server clock moved back and forth), its supplier's latest revision number would change the key.
+	const key = `${id}|${wanted}|${received.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
+	const known = openedPages.get(key);
+	if (known) return known;
 	const pageOf = (n: number) =>
 		listItemsPage(db(), id, { offset: (n - 1) * TABULATION_PAGE_ITEMS, limit: TABULATION_PAGE_ITEMS });
-	const [received, asked] = await Promise.all([listSubmissions(db(), id), pageOf(wanted)]);
+	const asked = await pageOf(wanted);
 	const pages = Math.max(1, Math.ceil(asked.total / TABULATION_PAGE_ITEMS));
 	const page = Math.min(wanted, pages);
 	// A page past the end (a stale link after items were removed) shows the last one.
 	const { items } = page === wanted ? asked : await pageOf(page);
 	const bids = await visibleBids(db(), id, actor.organisationId, now(), { itemIds: items.map((i) => i.id) });
-	return { sealed, submissions: received, bids, items, page, pages };
+	const tab = { sealed, submissions: received, bids, items, page, pages };
+	return openedPages.set(key, tab, items.length * (bids.length + 1));
 }
 
 /** Every current bid with prices, for staff, once the deadline has passed; 403 before. */

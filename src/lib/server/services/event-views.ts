@@ -17,6 +17,7 @@ import {
 import { db } from '../db/knex';
 import { now } from '../clock';
 import type { SheetEvent } from '../sheets/bid-sheet';
+import type { Tabulation } from './bids';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, sheetEvent } from './events';
 
@@ -204,7 +205,18 @@ const tabulationPrice = new Intl.NumberFormat('en', { minimumFractionDigits: 2, 
  * the page, so the page's data is the text it shows and not the bids behind it (the page is rendered on
  * the server for every request, and its size is most of that time).
  */
-export function tabulationJson(bids: VisibleBid[], items: ItemRow[]) {
+export function tabulationJson(tab: Pick<Tabulation, 'bids' | 'items'>) {
+	const known = shapedPages.get(tab);
+	if (known) return known;
+	const shaped = shapeTabulation(tab.bids, tab.items);
+	// A page from the tabulation cache is the same (frozen) object every time: shape it once.
+	if (Object.isFrozen(tab)) shapedPages.set(tab, shaped);
+	return shaped;
+}
+
+const shapedPages = new WeakMap<object, ReturnType<typeof shapeTabulation>>();
+
+function shapeTabulation(bids: VisibleBid[], items: ItemRow[]) {
 	const money = (value: string) => tabulationPrice.format(Number(value));
 	const priceOf = new Map(
 		bids.flatMap((b, column) => b.lines.map((l) => [`${column}|${l.item}`, l] as const))

@@ -18,7 +18,7 @@ export const load: PageServerLoad = async (event) => {
 			submittedAt: s.latest_at.toISOString()
 		})),
 		// Unit prices and price breaks of the page's items; bundles are on the award side.
-		...tabulationJson(tab.bids, tab.items),
+		...tabulationJson(tab),
 		page: tab.page,
 		pages: tab.pages
 	};
