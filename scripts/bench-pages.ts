@@ -11,7 +11,7 @@
 // under their own buying organisation so the demo buyer's pages do not change).
 //
 // Prints a table and writes the figures as JSON to BENCH_OUTPUT (default .data/bench-pages.json).
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { Agent, request } from 'node:http';
 import { cpus, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
@@ -71,6 +71,8 @@ interface Figures {
 	max: number;
 	bytes: number;
 	perSecond: number;
+	/** The whole machine's busy CPU time (every process: server, database, this load) per request, in ms. */
+	cpuMsPerRequest?: number;
 }
 
 function summarise(name: string, path: string, samples: Sample[], seconds: number): Figures {
@@ -117,8 +119,31 @@ async function load(name: string, path: string, cookie: string, accept = 'text/h
 	if (first.status !== 200) throw new Error(`${path} answered ${first.status}, not 200`);
 	await hammer(path, cookie, accept, WARMUP_SECONDS);
 	const began = performance.now();
+	const busyBefore = busyMs();
 	const samples = await hammer(path, cookie, accept, SECONDS);
-	return summarise(name, path, samples, (performance.now() - began) / 1000);
+	const busy = busyMs();
+	const figures = summarise(name, path, samples, (performance.now() - began) / 1000);
+	if (busy !== null && busyBefore !== null && samples.length)
+		figures.cpuMsPerRequest = Math.round(((busy - busyBefore) / samples.length) * 10) / 10;
+	return figures;
+}
+
+/**
+ * The machine's busy CPU time so far, in ms (Linux /proc/stat, in USER_HZ = 100ths of a second: user, nice, system, irq and softirq of all
+ * cores), or null elsewhere. Per request, it tells a change in the work a page costs from a change in how
+ * busy a shared machine's other tenants keep it, which moves the latencies by a third between runs.
+ */
+function busyMs(): number | null {
+	try {
+		const [, user, nice, system, , , irq, softirq] = readFileSync('/proc/stat', 'utf8')
+			.split('\n')[0]!
+			.trim()
+			.split(/\s+/)
+			.map(Number);
+		return ((user! + nice! + system! + irq! + softirq!) * 1000) / 100;
+	} catch {
+		return null;
+	}
 }
 
 async function cookieOf(client: InstanceType<typeof Browserless>): Promise<string> {
@@ -344,15 +369,16 @@ try {
 		`\n${CONNECTIONS} connections, ${SECONDS} s each, ${report.machine.cores} cores; figures in ${output}\n`
 	);
 	console.log(
-		['what', 'requests', 'errors', 'p50 ms', 'p95 ms', 'max ms', 'bytes']
-			.map((h, k) => (k ? h.padStart(9) : h.padEnd(34)))
+		['what', 'requests', 'errors', 'p50 ms', 'p95 ms', 'max ms', 'bytes', 'cpu ms/req']
+			.map((h, k) => (k ? h.padStart(k === 7 ? 11 : 9) : h.padEnd(34)))
 			.join('')
 	);
 	for (const r of results)
 		console.log(
 			[
 				r.name.padEnd(34),
-				...[r.requests, r.errors, r.p50, r.p95, r.max, r.bytes].map((v) => String(v).padStart(9))
+				...[r.requests, r.errors, r.p50, r.p95, r.max, r.bytes].map((v) => String(v).padStart(9)),
+				String(r.cpuMsPerRequest ?? '').padStart(11)
 			].join('')
 		);
 } finally {
