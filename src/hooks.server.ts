@@ -8,6 +8,7 @@ import { isPublicPath, isSignOut, rolesFor } from '$lib/server/auth/guard';
 import { countSignInRequest } from '$lib/server/auth/rate-limit';
 import { config, publicOrigin } from '$lib/server/config';
 import { Admission } from '$lib/server/admission';
+import { inReadScope } from '$lib/server/services/events';
 import { fallbackCsp, hookError, jsonError, newErrorId, securityHeaders } from '$lib/server/http';
 import errorPage from './error.html?raw';
 import { stopJobs } from '$lib/server/jobs';
@@ -131,7 +132,7 @@ const admitReads: Handle = async ({ event, resolve }) => {
 		hookError(503, message, context);
 	}
 	try {
-		return await resolve(event);
+		return await inReadScope(() => resolve(event));
 	} finally {
 		leave();
 	}

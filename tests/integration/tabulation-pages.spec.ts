@@ -12,11 +12,13 @@ import {
 	type TestEvent
 } from '../support/events';
 import type { Browserless } from '../support/http';
+import { TABULATION_PAGE_ITEMS as PAGE } from '../../src/lib/paging';
 
 let buyer: Browserless;
 let event: TestEvent;
 const deadline = new Date(Date.now() + 15_000);
-const ITEMS = 130;
+// Two pages: a full one and 30 items on the second.
+const ITEMS = PAGE + 30;
 // Item k (from 1) gets the unit price k + 0.37 from the first supplier: a price names its item.
 const priceOf = (k: number) => `${k}.37`;
 
@@ -43,25 +45,25 @@ const tab = async (query = '') => {
 const shown = (page: string, k: number) => page.includes(`IT-${k} Test item ${k}<`);
 
 describe('the opened-bids tabulation, a page at a time', () => {
-	it('shows the first 100 items with their prices and none of the rest', async () => {
+	it(`shows the first ${PAGE} items with their prices and none of the rest`, async () => {
 		const page = await tab();
 		expect(page).toContain('Page 1 of 2');
-		expect(shown(page, 1) && shown(page, 100)).toBe(true);
-		expect(shown(page, 101)).toBe(false);
-		expect(page).toContain(priceOf(100));
+		expect(shown(page, 1) && shown(page, PAGE)).toBe(true);
+		expect(shown(page, PAGE + 1)).toBe(false);
+		expect(page).toContain(priceOf(PAGE));
 		// Neither the item nor its price travels in the page's data.
-		expect(page).not.toContain(priceOf(101));
-		expect(page).not.toContain('IT-130');
+		expect(page).not.toContain(priceOf(PAGE + 1));
+		expect(page).not.toContain(`IT-${ITEMS}`);
 	});
 
 	it('shows the last items on page 2, and the last page for a page past the end', async () => {
 		for (const query of ['?page=2', '?page=99']) {
 			const page = await tab(query);
 			expect(page).toContain('Page 2 of 2');
-			expect(shown(page, 101) && shown(page, ITEMS)).toBe(true);
+			expect(shown(page, PAGE + 1) && shown(page, ITEMS)).toBe(true);
 			expect(page).toContain(priceOf(ITEMS));
-			expect(shown(page, 100)).toBe(false);
-			expect(page).not.toContain(priceOf(100));
+			expect(shown(page, PAGE)).toBe(false);
+			expect(page).not.toContain(priceOf(PAGE));
 		}
 	});
 

@@ -1,5 +1,6 @@
 // What the award pages and API show of plans, runs and results: JSON shapes, the supplier's own result
 // and the approver's queue.
+import { ALLOCATION_PAGE_LINES } from '$lib/paging';
 import { describeRule } from '$lib/award/core/describe';
 import type { AwardResult } from '$lib/award/core/engine';
 import type { SessionUser } from '../auth/session-user';
@@ -84,7 +85,7 @@ export function runSummary(run: RunView) {
 export type RunSummary = ReturnType<typeof runSummary>;
 
 /** Lines of the allocation the run page asks for at a time, and the most one request may take. */
-export const ALLOCATION_PAGE = 100;
+export const ALLOCATION_PAGE = ALLOCATION_PAGE_LINES;
 export const ALLOCATION_PAGE_MAX = 500;
 /** The page lists only the first of these; the API's full answer keeps them all. */
 const SHOWN_LOSING_BIDS = 50;

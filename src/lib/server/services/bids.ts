@@ -34,6 +34,7 @@ import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, eventMail, sheetEvent } from './events';
 import type { RequestContext } from './users';
+import { TABULATION_PAGE_ITEMS } from '$lib/paging';
 import { formatInZone } from '$lib/time';
 
 async function supplierEvent(actor: SessionUser, id: string): Promise<EventRow> {
@@ -402,9 +403,6 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bidders.', undefined, 403);
 	return listSubmissions(db(), id);
 }
-
-/** Items in one page of the opened-bids tabulation. */
-export const TABULATION_PAGE_ITEMS = 100;
 
 /**
  * Pages of opened events' tabulations, by event, page and every supplier's latest revision: the same page

@@ -1,5 +1,6 @@
 // Sourcing events from draft to opening: who may see and change what, publication, amendments,
 // invitations, clarifications and the closing at the deadline. Every deadline decision reads clock.now().
+import { AsyncLocalStorage } from 'node:async_hooks';
 import { isStaff } from '$lib/roles';
 import type { ItemFields } from '../db/events';
 import type { SessionUser } from '../auth/session-user';
@@ -68,12 +69,33 @@ const notFound = () => new RuleViolation('There is no such event, or it is not o
  * else gets the same 404 as for an event that does not exist, so not even its existence leaks.
  */
 export async function eventFor(user: SessionUser, id: string): Promise<EventAccess> {
-	let event = await findEvent(db(), id);
+	const scope = readScope.getStore();
+	let current = scope?.get(id);
+	if (!current) {
+		current = currentEvent(id);
+		scope?.set(id, current);
+	}
+	const event = await current;
 	if (!event) throw notFound();
-	if (event.state === 'open' && isPastDeadline(event))
-		event = (await closeIfDue(event.id, 'first read after the deadline')) ?? event;
 	return accessTo(db(), user, event);
 }
+
+async function currentEvent(id: string): Promise<EventRow | undefined> {
+	const event = await findEvent(db(), id);
+	if (event?.state === 'open' && isPastDeadline(event))
+		return (await closeIfDue(event.id, 'first read after the deadline')) ?? event;
+	return event;
+}
+
+/** The events read so far in the current read request, by id (see inReadScope). */
+const readScope = new AsyncLocalStorage<Map<string, Promise<EventRow | undefined>>>();
+
+/**
+ * Runs `answer` (a GET or HEAD request: nothing in it changes an event) with each event read at most
+ * once: an event tab's layout and its page both ask for the event, and the access check is made on the
+ * same row. Never around a form action, which may change the event before its page is loaded again.
+ */
+export const inReadScope = <T>(answer: () => T): T => readScope.run(new Map(), answer);
 
 /** Who may see an event, read through `from` (a transaction that holds the event, or the pool). */
 async function accessTo(from: Db, user: SessionUser, event: EventRow): Promise<EventAccess> {
