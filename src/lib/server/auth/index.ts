@@ -3,6 +3,7 @@
 // and whose server-side record (user_sessions) must still be open.
 import { AsyncLocalStorage } from 'node:async_hooks';
 import PostgresAdapter from '@auth/pg-adapter';
+import type { JWT } from '@auth/core/jwt';
 import { AuthError, CredentialsSignin, SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
 import { json, redirect, type Cookies, type Handle, type RequestEvent } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
@@ -101,6 +102,32 @@ async function openSessionUser(userId: number, sid: unknown): Promise<UserWithOr
 	return row;
 }
 
+/** The session cookie's codec, shared by Auth.js (its endpoints) and sessionUser (every other request). */
+const tokens = sessionTokenCodec(() => currentRequest.getStore());
+
+/**
+ * A session token's claims checked against the database, as the token to go on with, or null when the
+ * session is over. Re-read on every request: a deactivated user loses the session at once, a new role
+ * applies at once. When the database does not answer, the token comes back as it is and the request is
+ * marked: the cookie must not be cleared (a database down for a minute would sign everyone out), and
+ * sessionUser() answers the request with "unavailable".
+ */
+async function recheckedToken(token: JWT): Promise<JWT | null> {
+	const request = currentRequest.getStore();
+	let row: UserWithOrganisation | null;
+	try {
+		row = await openSessionUser(Number(token.sub), token.sid);
+	} catch (error) {
+		if (!request || !isDatabaseUnavailable(error)) throw error;
+		request.databaseUnavailable = true;
+		return token;
+	}
+	if (!row) return null;
+	if (request) request.sessionId = token.sid;
+	const { iat, exp, jti, sid } = token;
+	return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
+}
+
 let pool: pg.Pool | undefined;
 
 function authConfig(): SvelteKitAuthConfig {
@@ -118,7 +145,7 @@ function authConfig(): SvelteKitAuthConfig {
 		trustHost: true,
 		useSecureCookies: sessionCookiePolicy(settings.ORIGIN).secure,
 		session: { strategy: 'jwt', maxAge: SESSION_HOURS * 3600 },
-		jwt: sessionTokenCodec(() => currentRequest.getStore()),
+		jwt: tokens,
 		pages: { signIn: '/signin', error: '/signin/error', verifyRequest: '/signin/check-email' },
 		logger: {
 			error: (error) =>
@@ -166,22 +193,7 @@ function authConfig(): SvelteKitAuthConfig {
 					const { iat, exp, jti } = token;
 					return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
 				}
-				// Re-read on every request: a deactivated user loses the session at once, a new role applies at once.
-				let row: UserWithOrganisation | null;
-				try {
-					row = await openSessionUser(Number(token.sub), token.sid);
-				} catch (error) {
-					// Auth.js clears the cookie when this callback throws or answers null: a database that is
-					// down for a minute would sign everyone out. Keep the token as it is; sessionUser() then
-					// answers the request with "unavailable".
-					if (!request || !isDatabaseUnavailable(error)) throw error;
-					request.databaseUnavailable = true;
-					return token;
-				}
-				if (!row) return null;
-				if (request) request.sessionId = token.sid;
-				const { iat, exp, jti, sid } = token;
-				return { sub: String(row.id), iat, exp, jti, sid, sessionUser: sessionUserOf(row) };
+				return recheckedToken(token);
 			},
 			session({ session, token }) {
 				// An explicit object: the default would carry more of the user row (or the session id) to the browser.
@@ -300,12 +312,39 @@ export class SessionCheckUnavailable extends Error {
  * outage to report, not a sign-out. Call it from a hook after authHandle.
  */
 export async function sessionUser(event: RequestEvent): Promise<SessionUser | null> {
-	const session = await event.locals.auth();
+	const { sessionCookieName: name, secure, httpOnly, sameSite } = sessionCookiePolicy(config().ORIGIN);
+	// Auth.js splits a token over several cookies (name.0, name.1…) only above 4 kB; ours are under 1 kB,
+	// so such cookies were not made here and sign nobody in.
+	const raw = event.cookies.get(name);
+	if (!raw) return null;
+	const cookie = { path: '/', secure, httpOnly, sameSite } as const;
+	const secret = config().AUTH_SECRET;
+	// What Auth.js's session endpoint does with a JWT session (@auth/core, lib/actions/session.ts), less
+	// its Request and Response round trip, which was a tenth of a page's time: read the token, check it
+	// (the jwt callback's re-read), clear the cookie when it is bad or over, else send the token on.
+	let claims: JWT | null;
+	try {
+		claims = await tokens.decode({ token: raw, secret, salt: name });
+	} catch {
+		claims = null;
+	}
+	const token = claims && (await recheckedToken(claims));
 	if (currentRequest.getStore()?.databaseUnavailable) throw new SessionCheckUnavailable();
-	return (session?.user as SessionUser | undefined) ?? null;
+	if (!token?.sessionUser) {
+		event.cookies.delete(name, cookie);
+		return null;
+	}
+	const maxAge = SESSION_HOURS * 3600;
+	// Renewed on every answer, as Auth.js does (the same token while it is young: session-token.ts).
+	const next = await tokens.encode({ token, secret, salt: name, maxAge });
+	event.cookies.set(name, next, { ...cookie, maxAge });
+	return token.sessionUser;
 }
 
-/** Auth.js's hook: its endpoints, and locals.auth() for the hooks and routes after it. */
+/**
+ * Auth.js's hook, for its endpoints under /auth/ only. Every request's session is read by sessionUser(),
+ * without Auth.js (so locals.auth() is not set outside /auth/).
+ */
 export const authHandle: Handle = ({ event, resolve }) =>
 	currentRequest.run(
 		{ userAgent: event.request.headers.get('user-agent'), ip: clientAddress(event) },
@@ -314,8 +353,11 @@ export const authHandle: Handle = ({ event, resolve }) =>
 			if (event.request.method === 'POST' && pathname === '/auth/signin/nodemailer') {
 				return linkFromAuthEndpoint(event);
 			}
+			// Auth.js's hook builds a Request for every request it sees; outside its endpoints it only
+			// offers locals.auth(), which sessionUser() replaces.
+			if (!pathname.startsWith('/auth/')) return resolve(event);
 			return auth.handle({
-				event: atPublicOrigin(event, pathname.startsWith('/auth/') ? 'request' : 'none'),
+				event: atPublicOrigin(event, 'request'),
 				resolve: (_, options) => resolve(event, options)
 			});
 		}
