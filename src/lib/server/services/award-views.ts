@@ -138,8 +138,13 @@ export function runPageJson(run: RunView) {
 				? {
 						sensitivity: {
 							...result.sensitivity,
-							losingBids: result.sensitivity.losingBids.slice(0, SHOWN_LOSING_BIDS),
-							capacityPrices: result.sensitivity.capacityPrices.slice(0, SHOWN_CAPACITY_PRICES),
+							// The page shows each one's sentence; the figures behind it stay in the full answer.
+							losingBids: result.sensitivity.losingBids
+								.slice(0, SHOWN_LOSING_BIDS)
+								.map(({ text }) => ({ text })),
+							capacityPrices: result.sensitivity.capacityPrices
+								.slice(0, SHOWN_CAPACITY_PRICES)
+								.map(({ text }) => ({ text })),
 							coverPrices: []
 						}
 					}
