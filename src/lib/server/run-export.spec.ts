@@ -26,7 +26,9 @@ const run = (
 			gap: 0,
 			awards: awards.map((l) => ({ ...l, unitPrice: l.cost / l.quantity })),
 			supplierTotals: [],
-			ruleCosts: [{ rule: 0, label: 'r', cost: 12, cumulativeCost: 12 }]
+			ruleCosts: [
+				{ rule: 0, label: 'r', cost: 12, costOnTopOfEarlier: 12, runningTotal: 12, tolerance: 1e-6 }
+			]
 		}
 	}) as unknown as ExportedRun;
 

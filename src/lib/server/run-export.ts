@@ -71,9 +71,21 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 	totals.columns.forEach((c) => (c.width = 22));
 
 	const costs = workbook.addWorksheet('Rule costs');
-	costs.addRow(['Rule', `Cost (${run.currency})`, `Cumulative (${run.currency})`]).font = { bold: true };
+	costs.addRow([
+		'Rule',
+		`Cost, all other rules kept (${run.currency})`,
+		`Added on top of the rules above (${run.currency})`,
+		`Running total (${run.currency})`,
+		`Within ± (${run.currency})`
+	]).font = { bold: true };
 	for (const c of result?.ruleCosts ?? [])
-		costs.addRow([neutralise(run.rules[c.rule]?.text ?? c.label), c.cost, c.cumulativeCost]);
+		costs.addRow([
+			neutralise(run.rules[c.rule]?.text ?? c.label),
+			c.cost,
+			c.costOnTopOfEarlier,
+			c.runningTotal,
+			c.tolerance
+		]);
 	costs.getColumn(1).width = 70;
 	return Buffer.from(await workbook.xlsx.writeBuffer());
 }

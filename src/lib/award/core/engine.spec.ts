@@ -165,21 +165,39 @@ describe('award results', () => {
 });
 
 describe('rule costs', () => {
-	it('are real solves, never negative for restricting rules, with cumulative costs in the rules order', async () => {
+	it('are real solves, never negative for restricting rules, added in the rules order with a running total', async () => {
 		const problem = generateProblem({ items: 8, suppliers: 4, seed: 77, lots: 2, capacity: false });
 		problem.rules = [
 			{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 70, label: 'Cap 70%' },
 			{ type: 'supplier_count', scope: 'each_item', max: 2, label: 'At most two' },
-			{ type: 'award_fixed_cost', amount: 300, per: 'supplier', label: 'Cost per contract' }
+			{ type: 'award_fixed_cost', amount: 300, per: 'supplier', label: 'Cost per contract' },
+			// Binds nothing: every item's lowest bid already keeps it (a cap of 100%).
+			{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 100, label: 'Cap 100%' }
 		];
 		const result = await solveAward(problem, pool, { explain: true });
 		expect(result.status).toBe('optimal');
-		expect(result.ruleCosts).toHaveLength(3);
-		for (const cost of result.ruleCosts!) expect(cost.cost!).toBeGreaterThanOrEqual(-1e-6);
+		const costs = result.ruleCosts!;
+		expect(costs).toHaveLength(4);
+		expect(costs[0]!.label).toBe('Cap 70%');
+		for (const cost of costs) {
+			// A restricting rule never costs less than nothing: a difference within the stated tolerance is 0.
+			expect(cost.tolerance!).toBeGreaterThan(0);
+			expect(cost.tolerance!).toBeLessThan(1e-3 * result.totalCost!);
+			expect(cost.cost!).toBeGreaterThanOrEqual(0);
+			expect(cost.costOnTopOfEarlier!).toBeGreaterThanOrEqual(0);
+		}
+		// The rule that binds nothing costs exactly 0, alone and on top of the others.
+		expect([costs[3]!.cost, costs[3]!.costOnTopOfEarlier]).toEqual([0, 0]);
+		// The running total adds up the steps, and the last one is what all the rules cost together.
+		let sum = 0;
+		for (const cost of costs) {
+			sum += cost.costOnTopOfEarlier!;
+			expect(Math.abs(cost.runningTotal! - sum)).toBeLessThanOrEqual(cost.tolerance! * 3);
+		}
 		const noRules = await solveAward({ ...problem, rules: [] }, pool);
-		const cumulative = result.ruleCosts!.reduce((a, c) => a + c.cumulativeCost!, 0);
-		expect(cumulative).toBeCloseTo(result.totalCost! - noRules.totalCost!, 6);
-		expect(result.ruleCosts![0]!.label).toBe('Cap 70%');
+		expect(
+			Math.abs(costs.at(-1)!.runningTotal! - (result.totalCost! - noRules.totalCost!))
+		).toBeLessThanOrEqual(costs.at(-1)!.tolerance!);
 	});
 });
 

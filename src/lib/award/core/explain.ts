@@ -23,7 +23,10 @@ export async function explainAward(
 	const solveOptions = { ...options, explain: false };
 	if (usable(result.status) && result.totalCost !== null) {
 		return {
-			ruleCosts: await ruleCosts(problem, solver, solveOptions, result.totalCost),
+			ruleCosts: await ruleCosts(problem, solver, solveOptions, {
+				totalCost: result.totalCost,
+				gap: result.gap
+			}),
 			sensitivity: await sensitivity(problem, result, solver, solveOptions)
 		};
 	}

@@ -20,8 +20,15 @@ export interface RuleCost {
 	label: string;
 	/** What the rule adds: the optimum with all rules minus the optimum without this one (>= 0 for a restricting rule). */
 	cost: number | null;
-	/** Optimum with this and all earlier rules minus the optimum with only the earlier ones. */
-	cumulativeCost: number | null;
+	/** What the rule adds on top of the earlier ones: the optimum with this and all earlier rules minus the optimum with only the earlier ones. */
+	costOnTopOfEarlier: number | null;
+	/** The optimum with this and all earlier rules minus the optimum with none: the last rule's is what all the rules cost together. */
+	runningTotal: number | null;
+	/**
+	 * The largest tolerance of the solves behind these figures, in money: a difference within it is
+	 * reported as 0. Null when unknown (explanations stored before it was recorded).
+	 */
+	tolerance: number | null;
 	statusWithout: SolveStatus;
 }
 

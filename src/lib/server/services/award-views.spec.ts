@@ -54,10 +54,48 @@ const run = (over: Partial<RunRow> = {}): RunRow =>
 
 describe('a run as the pages and the API see it (runJson)', () => {
 	it('merges the explanation, worked out later, into the result', () => {
-		const ruleCosts = [{ rule: 0, label: 'r', cost: 5, cumulativeCost: 5, statusWithout: 'optimal' }];
+		const ruleCosts = [
+			{
+				rule: 0,
+				label: 'r',
+				cost: 5,
+				costOnTopOfEarlier: 5,
+				runningTotal: 5,
+				tolerance: 1e-6,
+				statusWithout: 'optimal'
+			}
+		];
 		const json = runJson(run({ explanation: { ruleCosts } as never }));
 		expect(json.result?.ruleCosts).toEqual(ruleCosts);
 		expect(json.result?.totalCost).toBe(30);
+	});
+
+	it("reads rule costs stored before the running total (cumulativeCost) in today's shape", () => {
+		const stored = [
+			{ rule: 0, label: 'a', cost: 5, cumulativeCost: 4, statusWithout: 'optimal' },
+			{ rule: 1, label: 'b', cost: 3, cumulativeCost: 2.5, statusWithout: 'optimal' }
+		];
+		const json = runJson(run({ explanation: { ruleCosts: stored } as never }));
+		expect(json.result?.ruleCosts).toEqual([
+			{
+				rule: 0,
+				label: 'a',
+				cost: 5,
+				costOnTopOfEarlier: 4,
+				runningTotal: 4,
+				tolerance: null,
+				statusWithout: 'optimal'
+			},
+			{
+				rule: 1,
+				label: 'b',
+				cost: 3,
+				costOnTopOfEarlier: 2.5,
+				runningTotal: 6.5,
+				tolerance: null,
+				statusWithout: 'optimal'
+			}
+		]);
 	});
 
 	it('says the explanation is done when the run predates the column, and pending while it is', () => {

@@ -1,5 +1,6 @@
 // What the award pages and API show of plans, runs and results: JSON shapes, the supplier's own result
 // and the approver's queue.
+import { ruleCostsAsStored } from '$lib/award/core/explanations/rule-costs';
 import { ALLOCATION_PAGE_LINES } from '$lib/paging';
 import { describeRule } from '$lib/award/core/describe';
 import type { AwardResult } from '$lib/award/core/engine';
@@ -31,8 +32,10 @@ export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) 
 	const at = now();
 	const end = run.finished_at ?? at;
 	// Rule costs, conflicts and sensitivity come in their own column once their job is done.
-	const result: AwardResult | null =
+	const merged: AwardResult | null =
 		run.status === 'done' && run.result ? { ...run.result, ...(run.explanation ?? {}) } : null;
+	// Runs stored before the rule costs' running total read in today's shape (the stored JSON is hashed).
+	const result = merged?.ruleCosts ? { ...merged, ruleCosts: ruleCostsAsStored(merged.ruleCosts) } : merged;
 	return {
 		id: run.id,
 		eventId: run.event_id,
