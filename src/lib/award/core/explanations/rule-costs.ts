@@ -9,8 +9,8 @@ import { allocationCost } from '../check';
 import { ruleLabel } from '../describe';
 import { solveProblem } from '../methods/choose';
 import type { AwardProblem } from '../problem';
-import type { Solver } from '../solver';
-import { usable, type AwardOptions, type RuleCost, type SolveStatus } from '../types';
+import type { Solver, SolveStatus } from '../solver';
+import { usable, type AwardOptions, type RuleCost } from '../types';
 
 const round9 = (value: number) => Math.round(value * 1e9) / 1e9;
 
@@ -85,9 +85,11 @@ export function ruleCostsAsStored(stored: readonly unknown[]): RuleCost[] {
 	let running = 0;
 	let runningKnown = true;
 	return stored.map((entry) => {
-		const cost = entry as RuleCost & { cumulativeCost?: number | null };
-		if ('costOnTopOfEarlier' in cost) return cost;
-		const { cumulativeCost: onTop = null, ...rest } = cost;
+		if ((entry as RuleCost).costOnTopOfEarlier !== undefined) return entry as RuleCost;
+		const { cumulativeCost: onTop = null, ...rest } = entry as Omit<
+			RuleCost,
+			'costOnTopOfEarlier' | 'runningTotal' | 'tolerance'
+		> & { cumulativeCost?: number | null };
 		if (onTop === null) runningKnown = false;
 		else running += onTop;
 		return {
