@@ -33,6 +33,27 @@ describe('revoking sessions', () => {
 		expect(await replay(stolen)).toEqual(refused);
 	});
 
+	it('ends the session on sign-out even with a stray piece of the session cookie planted beside it', async () => {
+		const { client } = await signedIn('buyer');
+		const stolen = client.copy();
+		// Auth.js reads name, name.0, name.1… as one token: with a piece planted (by a page of a sibling
+		// subdomain, say) it could not decode the cookie at sign-out and left the session open.
+		client.plantCookie('authjs.session-token.0', 'planted');
+		const signOut = await client.postForm('/signout', { redirectTo: '/signin?signedOut=1' });
+		expect([302, 303]).toContain(signOut.status);
+		expect(await replay(stolen)).toEqual(refused);
+	});
+
+	it('clears a stray piece of the session cookie and keeps the session', async () => {
+		const { client } = await signedIn('buyer');
+		client.plantCookie('authjs.session-token.0', 'planted');
+		const answer = await client.get('/api/me', 'application/json');
+		expect(answer.status).toBe(200);
+		expect(answer.headers.getSetCookie().some((c) => /^authjs\.session-token\.0=;.*Max-Age=0/i.test(c))).toBe(
+			true
+		);
+	});
+
 	it('ends every other session when a password is changed, and keeps the one that changed it', async () => {
 		const { user, client: here } = await signedIn('buyer');
 		const elsewhere = new Browserless();

@@ -21,6 +21,11 @@ export class Browserless {
 		return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ');
 	}
 
+	/** Sets a cookie in the jar as a page of another subdomain could: an attacker's plant. */
+	plantCookie(name: string, value: string): void {
+		this.cookies.set(name, value);
+	}
+
 	/** A second client holding a copy of this one's cookies, as someone who copied them would. */
 	copy(): Browserless {
 		const twin = new Browserless();

@@ -313,11 +313,13 @@ export class SessionCheckUnavailable extends Error {
  */
 export async function sessionUser(event: RequestEvent): Promise<SessionUser | null> {
 	const { sessionCookieName: name, secure, httpOnly, sameSite } = sessionCookiePolicy(config().ORIGIN);
-	// Auth.js splits a token over several cookies (name.0, name.1…) only above 4 kB; ours are under 1 kB,
-	// so such cookies were not made here and sign nobody in.
+	// Auth.js splits a token over several cookies (name.0, name.1…) only above 4 kB; ours stay well under,
+	// so such pieces were not made here: they sign nobody in and are cleared.
+	const cookie = { path: '/', secure, httpOnly, sameSite } as const;
+	for (const { name: other } of event.cookies.getAll())
+		if (other.startsWith(`${name}.`)) event.cookies.delete(other, cookie);
 	const raw = event.cookies.get(name);
 	if (!raw) return null;
-	const cookie = { path: '/', secure, httpOnly, sameSite } as const;
 	const secret = config().AUTH_SECRET;
 	// What Auth.js's session endpoint does with a JWT session (@auth/core, lib/actions/session.ts), less
 	// its Request and Response round trip, which was a tenth of a page's time: read the token, check it
@@ -380,6 +382,20 @@ export async function signInFromForm(event: RequestEvent): Promise<void> {
 
 /** Signs out: this session ends for good (a copy of its cookie no longer works) and the cookie is cleared. */
 export async function signOut(event: RequestEvent): Promise<void> {
+	// The session this request was checked against ends here, not only in Auth.js's signOut event: that
+	// runs only when Auth.js can decode the cookies it joins (name, name.0, name.1…), and a stray piece
+	// planted beside the session cookie would leave the session open for a copied cookie.
+	const user = event.locals.user;
+	const sid = currentSessionId();
+	if (user && sid) {
+		await endUserSessions(db(), {
+			userId: user.id,
+			reason: 'signed out',
+			actorUserId: user.id,
+			ip: clientAddress(event),
+			only: sid
+		});
+	}
 	await auth.signOut(atPublicOrigin(event, 'request'));
 }
 
