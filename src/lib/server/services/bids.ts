@@ -406,8 +406,8 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 
 /**
  * Pages of opened events' tabulations, by event, page and every supplier's latest revision: the same page
- * was read again (about nine queries) for every view. Bounded by cells (items x bids): a page of 100 items
- * and 50 bids is 5,100.
+ * was read again (about nine queries) for every view. Bounded by cells (items x bids): a page of 50 items
+ * and 50 bids is 2,550.
  */
 const openedPages = new BoundedCache<Tabulation>(250_000);
 
