@@ -81,16 +81,16 @@ export async function insertUpload(
 }
 
 /**
- * Takes the lock on one organisation's uploads to one event, until the caller's transaction ends: the
- * uploads it counts against the quota cannot change meanwhile.
+ * Takes the lock on one organisation's bid to one event, until the caller's transaction ends: the uploads
+ * it counts against the quota cannot change meanwhile, and its revisions are numbered one after another.
  */
-export async function lockSupplierUploads(
+export async function lockSupplierBid(
 	trx: Db,
 	eventId: string,
 	supplierOrganisationId: string
 ): Promise<void> {
 	await trx.raw('select pg_advisory_xact_lock(hashtextextended(?, 0))', [
-		`uploads:${eventId}:${supplierOrganisationId}`
+		`bid:${eventId}:${supplierOrganisationId}`
 	]);
 }
 
@@ -191,7 +191,7 @@ export function listUploads(
 
 /**
  * Bytes of every file the organisation uploaded to the event and that is kept or still arriving, accepted
- * or not (the storage quota); refused files are deleted. Under lockSupplierUploads, it stays so.
+ * or not (the storage quota); refused files are deleted. Under lockSupplierBid, it stays so.
  */
 export async function storedUploadBytes(
 	db: Db,
@@ -205,7 +205,7 @@ export async function storedUploadBytes(
 	return Number(total);
 }
 
-/** The next revision number; call inside the transaction that holds the event's lock. */
+/** The next revision number; call inside a transaction that holds lockSupplierBid. */
 async function nextRevisionNumber(db: Db, eventId: string, supplierOrganisationId: string): Promise<number> {
 	const [{ next }] = await db('bid_revisions')
 		.where({ event_id: eventId, supplier_organisation_id: supplierOrganisationId })
@@ -213,7 +213,10 @@ async function nextRevisionNumber(db: Db, eventId: string, supplierOrganisationI
 	return next as number;
 }
 
-/** A new numbered revision with all its lines, breaks and bundles (a withdrawal has none). */
+/**
+ * A new numbered revision with all its lines, breaks and bundles (a withdrawal has none). Call it in a
+ * transaction: it takes lockSupplierBid there, so two revisions of one supplier get numbers in turn.
+ */
 export async function insertRevision(
 	db: Db,
 	revision: {
@@ -227,6 +230,7 @@ export async function insertRevision(
 		itemIds: Map<string, string>;
 	}
 ): Promise<RevisionRow> {
+	await lockSupplierBid(db, revision.eventId, revision.supplierOrganisationId);
 	const number = await nextRevisionNumber(db, revision.eventId, revision.supplierOrganisationId);
 	const [row] = await db<RevisionRow>('bid_revisions')
 		.insert({

@@ -115,9 +115,18 @@ export function findEvent(db: Db, id: string): Promise<EventRow | undefined> {
 	return db<EventRow>('events').where({ id }).first();
 }
 
-/** The event locked for the rest of the transaction, so state changes and revisions queue behind each other. */
+/** The event locked for the rest of the transaction (FOR UPDATE), so its changes queue behind each other. */
 export function lockEvent(db: Db, id: string): Promise<EventRow | undefined> {
 	return db<EventRow>('events').where({ id }).forUpdate().first();
+}
+
+/**
+ * The event held for the rest of the transaction (FOR SHARE): its state cannot change (lockEvent waits)
+ * while any number of bids are written beside each other. A state change in flight is waited for, and
+ * then its result is what this returns (PostgreSQL re-reads a row it waited for).
+ */
+export function holdEvent(db: Db, id: string): Promise<EventRow | undefined> {
+	return db<EventRow>('events').where({ id }).forShare().first();
 }
 
 export function findEventByReference(

@@ -10,7 +10,7 @@ import {
 	finishUpload,
 	insertRevision,
 	insertUpload,
-	lockSupplierUploads,
+	lockSupplierBid,
 	listOwnRevisions,
 	listSubmissions,
 	listUploads,
@@ -21,7 +21,7 @@ import {
 	type UploadRow,
 	type VisibleBid
 } from '../db/bids';
-import { listItems, listItemsPage, lockEvent, type EventRow, type ItemRow } from '../db/events';
+import { holdEvent, listItems, listItemsPage, type EventRow, type ItemRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
@@ -137,7 +137,7 @@ export async function submitUpload(
 	const key = `uploads/${event.id}/${actor.organisationId}/${randomUUID()}`;
 	const receiving = await trailingLimits(actor, event.id, () =>
 		db().transaction(async (trx) => {
-			await lockSupplierUploads(trx, event.id, actor.organisationId);
+			await lockSupplierBid(trx, event.id, actor.organisationId);
 			await checkUploadQuota(trx, event.id, actor.organisationId, file.bytes.length);
 			return insertUpload(trx, {
 				event_id: event.id,
@@ -192,9 +192,9 @@ export async function submitUpload(
 		}
 		const bid = reading.outcome.bid;
 		const { revision, upload } = await db().transaction(async (trx) => {
-			const locked = (await lockEvent(trx, id))!;
+			const held = (await holdEvent(trx, id))!;
 			const at = now();
-			refuseUnlessOpen(locked, at);
+			refuseUnlessOpen(held, at);
 			const upload = await finishUpload(trx, receiving.id, {
 				status: 'accepted',
 				kind: reading.kind,
@@ -211,6 +211,8 @@ export async function submitUpload(
 				bid,
 				itemIds: new Map(items.map((i) => [i.ref, i.id]))
 			});
+			// The trail's lock queues every bid of the event until its commit, so it comes after the bid's
+			// rows; the receipt quotes the trail's head, this entry.
 			await appendTrail(trx, {
 				eventId: id,
 				actor,
@@ -223,7 +225,7 @@ export async function submitUpload(
 				},
 				at
 			});
-			await mailReceipt(trx, actor, locked, revision, context, {
+			await mailReceipt(trx, actor, held, revision, context, {
 				fileName: upload.file_name,
 				sha256,
 				lines: bid.lines.length
@@ -303,9 +305,9 @@ export async function submitScreen(
 			upload: null
 		};
 	const revision = await db().transaction(async (trx) => {
-		const locked = (await lockEvent(trx, id))!;
+		const held = (await holdEvent(trx, id))!;
 		const at = now();
-		refuseUnlessOpen(locked, at);
+		refuseUnlessOpen(held, at);
 		const revision = await insertRevision(trx, {
 			eventId: id,
 			supplierOrganisationId: actor.organisationId,
@@ -316,6 +318,8 @@ export async function submitScreen(
 			bid: parsed.bid,
 			itemIds: new Map(items.map((i) => [i.ref, i.id]))
 		});
+		// The trail's lock queues every bid of the event until its commit, so it comes after the bid's
+		// rows; the receipt quotes the trail's head, this entry.
 		await appendTrail(trx, {
 			eventId: id,
 			actor,
@@ -340,9 +344,10 @@ export async function withdraw(
 ): Promise<RevisionRow> {
 	const event = await supplierEvent(actor, id);
 	const revision = await db().transaction(async (trx) => {
-		const locked = (await lockEvent(trx, id))!;
+		const held = (await holdEvent(trx, id))!;
 		const at = now();
-		refuseUnlessOpen(locked, at);
+		refuseUnlessOpen(held, at);
+		await lockSupplierBid(trx, id, actor.organisationId);
 		const own = await listOwnRevisions(trx, id, actor.organisationId);
 		if (!own.length || own[0]!.source === 'withdrawal')
 			throw new RuleViolation('There is no bid to withdraw.', undefined, 409);
@@ -356,6 +361,7 @@ export async function withdraw(
 			bid: null,
 			itemIds: new Map()
 		});
+		// The trail's lock queues every bid of the event until its commit, so it comes after the bid's rows.
 		await appendTrail(trx, {
 			eventId: id,
 			actor,

@@ -80,7 +80,7 @@ export async function countSupplierUpload(eventId: string, supplierOrganisationI
 
 /**
  * Throws when storing `bytes` more would take the organisation's uploads to the event over the quota.
- * Counted in the caller's transaction, which holds db/bids.ts lockSupplierUploads and records the upload,
+ * Counted in the caller's transaction, which holds db/bids.ts lockSupplierBid and records the upload,
  * so two uploads at once cannot both fit into the room that is left for one.
  */
 export async function checkUploadQuota(
