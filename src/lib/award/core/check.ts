@@ -2,6 +2,7 @@
 // produced it): cover, bids and their limits, price breaks, bundles, capacities and every rule.
 import type { AwardProblem, Scope, Who } from './problem';
 import type { AwardLine } from './result';
+import { countedWhole, onStep, stepsOf } from './units';
 
 const TOLERANCE = 1e-6;
 const close = (a: number, b: number, scale = 1) =>
@@ -25,6 +26,8 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 		if (list) list.push(bid);
 		else bidsOfItem.set(bid.item, [bid]);
 	}
+	const { bidStep, most } = stepsOf(problem);
+	const bidIndex = new Map(problem.bids.map((bid, b) => [bid, b]));
 
 	for (const line of lines) {
 		if (line.bundle) continue;
@@ -36,6 +39,15 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 		if (bid.maxQuantity !== undefined && !atMost(line.quantity, bid.maxQuantity)) {
 			violations.push(
 				`${line.supplier} gets ${line.quantity} of ${line.item}, above its bid's maximum ${bid.maxQuantity}`
+			);
+		}
+		const step = bidStep[bidIndex.get(bid)!]!;
+		if (!onStep(line.quantity, step)) {
+			const item = itemOf.get(line.item)!;
+			violations.push(
+				step === 1 && countedWhole(item)
+					? `${line.supplier} gets ${line.quantity} of ${line.item}, not a whole number of units`
+					: `${line.supplier} gets ${line.quantity} of ${line.item}, not a multiple of ${step}`
 			);
 		}
 		const price = scheduledPrice(bid, line.quantity);
@@ -108,8 +120,15 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 			continue;
 		}
 		const got = quantity(null, [item.ref]);
-		if (!close(got, item.quantity, item.quantity))
-			violations.push(`${item.ref} is covered for ${got} of ${item.quantity}`);
+		const upTo = most.get(item.ref)!;
+		const covered =
+			upTo > item.quantity
+				? atLeast(got, item.quantity) && atMost(got, upTo)
+				: close(got, item.quantity, item.quantity);
+		if (!covered)
+			violations.push(
+				`${item.ref} is covered for ${got} of ${item.quantity}${upTo > item.quantity ? ` (up to ${upTo} in whole steps)` : ''}`
+			);
 	}
 	for (const supplier of problem.suppliers) {
 		if (supplier.capacity === undefined) continue;

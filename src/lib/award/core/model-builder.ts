@@ -1,7 +1,8 @@
 // The award model's arrays and meanings, and the builder that fills them: columns in typed arrays that
 // grow, rows as lists of (column, coefficient) terms, compressed to sparse columns when finished.
 export type ColumnMeaning =
-	| { kind: 'tier'; bid: number; tier: number; unitPrice: number }
+	/** step: the units one of the column stands for, when the quantity moves in steps (an integer column then); else 1. */
+	| { kind: 'tier'; bid: number; tier: number; unitPrice: number; step?: number }
 	| { kind: 'tier_used'; bid: number; tier: number }
 	| { kind: 'bundle'; bundle: number }
 	| { kind: 'wins'; supplier: string; item: string }

@@ -4,6 +4,7 @@
 import { addAll, addTerm, Builder, type RowMeaning, type Terms } from './model-builder';
 import { referencePrices } from './prices';
 import type { AwardProblem, Scope, Who } from './problem';
+import { stepsOf } from './units';
 
 /**
  * One supplier and item with an offer: its quantity terms, the bundle part of its spend (a price
@@ -24,6 +25,10 @@ const PRIORITY = { rule: 1, capacity: 2, cover: 4, structure: 1 };
 export class ModelContext {
 	readonly builder: Builder;
 	readonly demand: Map<string, number>;
+	/** The most of each item an award may hold: d[i], or more where quantities move in steps (units.ts). */
+	readonly most: Map<string, number>;
+	/** The step each bid's quantity moves in (by position in problem.bids), 0 when it may be any amount. */
+	readonly bidStep: number[];
 	readonly capacity: Map<string, number>;
 	readonly itemIndex: Map<string, number>;
 	readonly pairsOfItem: number[][];
@@ -51,6 +56,7 @@ export class ModelContext {
 	) {
 		this.builder = new Builder(problem.bids.length + problem.bundles.length);
 		this.demand = new Map(problem.items.map((i) => [i.ref, i.quantity]));
+		({ bidStep: this.bidStep, most: this.most } = stepsOf(problem));
 		this.capacity = new Map(problem.suppliers.map((s) => [s.ref, s.capacity ?? Infinity]));
 		this.supplierIndex = new Map(problem.suppliers.map((s, k) => [s.ref, k]));
 		this.itemIndex = new Map(problem.items.map((i, k) => [i.ref, k]));

@@ -25,12 +25,13 @@ const isItemScope = (scope: Scope) => scope === 'each_item' || (typeof scope ===
  *   from[t]·z[b,t] <= x[b,t] <= top[t]·z[b,t]    (a tier's price applies only to quantities in its range)
  *   Σ_t z[b,t] <= 1                               (one price tier per bid)
  * top[t] is just below the next tier's start (by BREAK_MARGIN), capped by the ceiling min(maxQuantity,
- * d[i], capacity[s]): the big-M. A quantity that reaches a break is priced at the break's price, as the bid
+ * most[i], capacity[s]): the big-M. A quantity that reaches a break is priced at the break's price, as the bid
  * says; the tier before it ends strictly below (with the closed bound a spend floor could take exactly the
  * break quantity at the higher price, and the checker then priced it lower and found the floor broken).
  * The bid's own limit bounds the column; demand and capacity only give the linking rows a finite big-M
  * (as column bounds they would distort the duals). The relaxation lets capacity give way, so there the
- * ceiling ignores it. Tiers that start above the ceiling are left out.
+ * ceiling ignores it. Tiers that start above the ceiling are left out. Where the bid moves in steps
+ * (whole units, packs), x[b,t] = step·n[b,t] with n[b,t] a whole number (stepColumn).
  */
 /**
  * How far below a price break the tier before it ends: more than the checker's tolerance (check.ts counts a
@@ -43,45 +44,61 @@ export function bidQuantities(ctx: ModelContext): void {
 	const m = ctx.builder;
 	const tierUsedRows: Terms[] = [];
 	ctx.problem.bids.forEach((bid, b) => {
-		const d = ctx.demand.get(bid.item)!;
+		const most = ctx.most.get(bid.item)!;
 		const bidLimit = bid.maxQuantity ?? Infinity;
 		const ceiling = Math.min(
 			bidLimit,
-			d,
+			most,
 			ctx.elastic ? Infinity : (ctx.capacity.get(bid.supplier) ?? Infinity)
 		);
 		const tiers = bid.priceBreaks?.length ? tiersOf(bid).filter((t) => t.from <= ceiling + 1e-9) : null;
 		const pair = ctx.pairOf(bid.supplier, bid.item);
 		pair.upper += ceiling;
 		if (!tiers || tiers.length === 1) {
-			const x = m.column(
-				{ kind: 'tier', bid: b, tier: 0, unitPrice: bid.unitPrice },
-				bid.unitPrice,
-				0,
-				bidLimit
-			);
-			addTerm(pair.quantity, x, 1);
+			const [x, step] = stepColumn(ctx, b, 0, bid.unitPrice, bidLimit);
+			addTerm(pair.quantity, x, step);
 			return;
 		}
 		const oneTier: Terms = [];
 		tiers.forEach((tier, t) => {
 			const next = tiers[t + 1]?.from;
 			const top = Math.min(next === undefined ? Infinity : next - breakMargin(next), ceiling);
-			const x = m.column(
-				{ kind: 'tier', bid: b, tier: t, unitPrice: tier.unitPrice },
-				tier.unitPrice,
-				0,
-				Math.min(top, bidLimit)
-			);
+			const [x, step] = stepColumn(ctx, b, t, tier.unitPrice, Math.min(top, bidLimit), next);
 			const z = m.column({ kind: 'tier_used', bid: b, tier: t }, 0, 0, 1, true);
-			m.row({ kind: 'structure' }, [x, 1, z, -tier.from], 0, Infinity);
-			m.row({ kind: 'structure' }, [x, 1, z, -top], -Infinity, 0);
+			m.row({ kind: 'structure' }, [x, step, z, -tier.from], 0, Infinity);
+			m.row({ kind: 'structure' }, [x, step, z, -top], -Infinity, 0);
 			addTerm(oneTier, z, 1);
-			addTerm(pair.quantity, x, 1);
+			addTerm(pair.quantity, x, step);
 		});
 		tierUsedRows.push(oneTier);
 	});
 	for (const terms of tierUsedRows) m.row({ kind: 'structure' }, terms, -Infinity, 1);
+}
+
+/**
+ * The quantity column of one tier of bid b, at most `upper` units and strictly below `below` (the next
+ * break) when given. A bid that moves in steps (whole units, or packs: units.ts) gets an integer column
+ * n[b,t] counting steps, at the price of a step, so that x[b,t] = step·n[b,t]; its bound is the whole
+ * steps within those limits. Returns the column and the units one of it stands for.
+ */
+function stepColumn(
+	ctx: ModelContext,
+	b: number,
+	tier: number,
+	unitPrice: number,
+	upper: number,
+	below?: number
+): [column: number, step: number] {
+	const step = ctx.bidStep[b]!;
+	const meaning = { kind: 'tier', bid: b, tier, unitPrice } as const;
+	if (step === 0) return [ctx.builder.column(meaning, unitPrice, 0, upper), 1];
+	// A little grace for division: 96 / 12 computed as 7.999999999 is still 8 steps.
+	const within = Math.floor(upper / step + 1e-9);
+	const underBreak = below === undefined ? Infinity : Math.ceil(below / step - 1e-9) - 1;
+	return [
+		ctx.builder.column({ ...meaning, step }, unitPrice * step, 0, Math.min(within, underBreak), true),
+		step
+	];
 }
 
 /**
@@ -103,12 +120,16 @@ export function bundles(ctx: ModelContext): void {
 	});
 }
 
-/** Cover: Σ_s q(s,i) = d[i] for every item that has an offer (the others are reported uncovered). */
+/**
+ * Cover: Σ_s q(s,i) = d[i] for every item that has an offer (the others are reported uncovered). Where
+ * the item's bids move in steps, d[i] <= Σ_s q(s,i) <= most[i]: the award may round up by less than a
+ * step (units.ts).
+ */
 export function cover(ctx: ModelContext): void {
 	for (const item of ctx.coveredItems) {
 		const terms: Terms = [];
 		for (const k of ctx.pairsOfItem[ctx.itemIndex.get(item.ref)!]!) addAll(terms, ctx.quantityOf(k));
-		ctx.elasticRow({ kind: 'cover', item: item.ref }, terms, item.quantity, item.quantity);
+		ctx.elasticRow({ kind: 'cover', item: item.ref }, terms, item.quantity, ctx.most.get(item.ref)!);
 	}
 }
 
@@ -126,7 +147,7 @@ export function capacities(ctx: ModelContext): void {
 
 /**
  * Win indicator y[s,i] in {0,1}, "s wins part of i", made once per pair on first use, with
- *   q(s,i) <= U[s,i]·y[s,i]           (any award sets y; big-M U = min(most the offers give, d[i]))
+ *   q(s,i) <= U[s,i]·y[s,i]           (any award sets y; big-M U = min(most the offers give, most[i]), most[i] = d[i] unless quantities move in steps)
  *   q(s,i) >= min(1, U[s,i])·y[s,i]   (a win is at least one unit, or the whole of a smaller item)
  * Null when s offers nothing for i.
  */
@@ -137,7 +158,7 @@ export function winIndicator(ctx: ModelContext, s: string, i: string): number | 
 	const found = ctx.wins.get(k);
 	if (found !== undefined) return found;
 	const m = ctx.builder;
-	const upper = Math.min(pair.upper, ctx.demand.get(i)!);
+	const upper = Math.min(pair.upper, ctx.most.get(i)!);
 	const y = m.column({ kind: 'wins', supplier: s, item: i }, 0, 0, 1, true);
 	ctx.wins.set(k, y);
 	const over: Terms = [];

@@ -1,6 +1,7 @@
 // The award problem: what the engine is asked to solve. Validated with zod; cross-references
 // (refs that must exist, refs that must be unique, quantities that must fit) are checked after the shape.
 import { z } from 'zod';
+import { countedWhole } from './units';
 
 const ref = z
 	.string('must be a string')
@@ -94,6 +95,8 @@ export const problemSchema = z
 						lot: ref.optional(),
 						baselineUnitPrice: nonNegative.optional(),
 						unit: z.string().max(3).optional(),
+						wholeUnits: z.boolean('must be true or false').optional(),
+						orderMultiple: positive.optional(),
 						description: z.string().max(2000).optional()
 					})
 					.strict()
@@ -118,6 +121,7 @@ export const problemSchema = z
 					item: ref,
 					unitPrice: nonNegative,
 					maxQuantity: positive.optional(),
+					packSize: positive.optional(),
 					priceBreaks: z
 						.array(z.object({ fromQuantity: positive, unitPrice: nonNegative }).strict())
 						.optional()
@@ -170,11 +174,23 @@ export function parseProblem(input: unknown): Parsed {
 	const suppliers = new Set<string>();
 	const lots = new Set<string>();
 	const tags = new Set<string>();
+	const whole = new Set<string>();
+	const countedIn = (item: AwardProblem['items'][number]) =>
+		`${item.ref} is counted in whole units${item.wholeUnits ? '' : ` (${item.unit})`}; wholeUnits: false allows parts`;
 	problem.items.forEach((item, i) => {
 		if (items.has(item.ref)) problems.push(`items[${i}].ref: duplicate ref "${item.ref}"`);
 		items.set(item.ref, item.quantity);
 		if (item.lot) lots.add(item.lot);
+		if (!countedWhole(item)) return;
+		whole.add(item.ref);
+		if (!Number.isInteger(item.quantity))
+			problems.push(`items[${i}].quantity: ${item.quantity} is not a whole number, and ${countedIn(item)}`);
+		if (item.orderMultiple !== undefined && !Number.isInteger(item.orderMultiple))
+			problems.push(
+				`items[${i}].orderMultiple: ${item.orderMultiple} is not a whole number, and ${countedIn(item)}`
+			);
 	});
+	const itemByRef = new Map(problem.items.map((item) => [item.ref, item]));
 	problem.suppliers.forEach((supplier, i) => {
 		if (suppliers.has(supplier.ref)) problems.push(`suppliers[${i}].ref: duplicate ref "${supplier.ref}"`);
 		suppliers.add(supplier.ref);
@@ -191,6 +207,10 @@ export function parseProblem(input: unknown): Parsed {
 				`bids[${b}]: a second bid by "${bid.supplier}" for "${bid.item}" (one bid per supplier and item)`
 			);
 		pairs.add(pair);
+		if (bid.packSize !== undefined && whole.has(bid.item) && !Number.isInteger(bid.packSize))
+			problems.push(
+				`bids[${b}].packSize: ${bid.packSize} is not a whole number, and ${countedIn(itemByRef.get(bid.item)!)}`
+			);
 		let previous = { fromQuantity: 0, unitPrice: bid.unitPrice };
 		bid.priceBreaks?.forEach((priceBreak, k) => {
 			if (priceBreak.fromQuantity <= previous.fromQuantity) {
@@ -221,6 +241,10 @@ export function parseProblem(input: unknown): Parsed {
 					`bundles[${k}].items[${j}].quantity: ${line.quantity} exceeds the item's quantity ${demand}`
 				);
 			}
+			if (demand !== undefined && whole.has(line.item) && !Number.isInteger(line.quantity))
+				problems.push(
+					`bundles[${k}].items[${j}].quantity: ${line.quantity} is not a whole number, and ${countedIn(itemByRef.get(line.item)!)}`
+				);
 			if (seen.has(line.item))
 				problems.push(`bundles[${k}].items[${j}].item: "${line.item}" appears twice in the bundle`);
 			seen.add(line.item);

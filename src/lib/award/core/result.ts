@@ -25,15 +25,27 @@ const EPSILON = 1e-7;
 
 const round = (value: number, digits = 9) => Math.round(value * 10 ** digits) / 10 ** digits;
 
+/**
+ * The units a tier column's value stands for: value × step, an integer column's value taken as the
+ * whole number the solver meant (it returns 11.9999999 for 12 within its integrality tolerance).
+ */
+export function tierQuantity(model: AwardModel, column: number, value: number): number {
+	const meaning = model.columns[column]!;
+	const step = (meaning.kind === 'tier' && meaning.step) || 1;
+	return model.integrality[column] ? round(Math.round(value) * step) : value * step;
+}
+
 export function awardLines(problem: AwardProblem, model: AwardModel, columns: Float64Array): AwardLine[] {
 	const lines: AwardLine[] = [];
 	const byBid = new Map<number, { quantity: number; cost: number }>();
 	model.columns.forEach((meaning, j) => {
 		const value = columns[j]!;
 		if (meaning.kind === 'tier' && value > EPSILON) {
+			const quantity = tierQuantity(model, j, value);
+			if (quantity === 0) return;
 			const entry = byBid.get(meaning.bid) ?? { quantity: 0, cost: 0 };
-			entry.quantity += value;
-			entry.cost += value * meaning.unitPrice;
+			entry.quantity += quantity;
+			entry.cost += quantity * meaning.unitPrice;
 			byBid.set(meaning.bid, entry);
 		}
 		if (meaning.kind === 'bundle' && value > 0.5) {

@@ -144,9 +144,9 @@ export function ruleMenu(random: () => number, problem: AwardProblem): AwardRule
 	return all.filter(() => random() < 0.45);
 }
 
-/** The 24 seeded problems solved by the engine and by glpk.js in cross-check.spec.ts. */
-export function crossCheckCases(): { seed: number; problem: AwardProblem }[] {
-	return Array.from({ length: 24 }, (_, k) => {
+/** The seeded problems (24 unless asked) solved by the engine and by glpk.js in cross-check.spec.ts. */
+export function crossCheckCases(count = 24): { seed: number; problem: AwardProblem }[] {
+	return Array.from({ length: count }, (_, k) => {
 		const seed = 1000 + k;
 		const problem = generateProblem({
 			items: 5 + (k % 4),
@@ -159,5 +159,39 @@ export function crossCheckCases(): { seed: number; problem: AwardProblem }[] {
 		});
 		problem.rules = ruleMenu(seededRandom(seed * 7), problem);
 		return { seed, problem };
+	});
+}
+
+/**
+ * Seeded problems in whole units and packs (units.ts), for the cross-check against glpk.js: the
+ * cross-check's problems (36 of them) with every other item counted in pieces (C62) and the rest in kilograms, one
+ * bid in three sold in packs of 5, 6 or 12, and one counted item ordered in multiples of 4 (with a pack
+ * of 6 a bid then moves in 12s). A share cap of 70-90% of an odd quantity on each item split items into parts that
+ * only whole units must round.
+ */
+export function wholeUnitCases(): { seed: number; problem: AwardProblem }[] {
+	return crossCheckCases(36).map(({ seed, problem }) => {
+		const random = seededRandom(seed * 13);
+		const items = problem.items.map((item, k) => {
+			if (k % 2 === 1) return { ...item, unit: 'KGM' };
+			// An odd quantity, so a share of it is rarely whole.
+			const quantity = item.quantity % 2 === 0 ? item.quantity + 1 : item.quantity;
+			return k === 0
+				? { ...item, unit: 'C62', quantity, orderMultiple: 4 }
+				: { ...item, unit: 'C62', quantity };
+		});
+		const quantityOf = new Map(items.map((i) => [i.ref, i.quantity]));
+		const bids = problem.bids.map((bid, b) =>
+			b % 3 === 0 ? { ...bid, packSize: [5, 6, 12][Math.floor(random() * 3)]! } : bid
+		);
+		const bundles = problem.bundles.map((bundle) => ({
+			...bundle,
+			items: bundle.items.map((l) => ({ ...l, quantity: Math.min(l.quantity, quantityOf.get(l.item)!) }))
+		}));
+		const rules: AwardRule[] = [
+			{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 70 + 10 * (seed % 3) },
+			...problem.rules.filter((r) => r.type !== 'max_share' || r.scope !== 'each_item')
+		];
+		return { seed, problem: { ...problem, items, bids, bundles, rules } };
 	});
 }

@@ -3,6 +3,7 @@
 import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
 import { UNIT_CODE } from '$lib/schemas/events';
+import { countedWhole } from '$lib/award/core/units';
 import type { ItemFields } from '../shapes';
 import { letter, type SheetProblem } from './bid-sheet';
 
@@ -83,6 +84,9 @@ export function validateItemRows(
 		const description = text('description');
 		if (description.length > 1000) add(row, 'description', 'at most 1000 characters');
 		const quantity = number('quantity', true, true);
+		// The award engine gives a counted item (C62, PR, a package type …) whole units only.
+		if (quantity !== null && unit && countedWhole({ unit }) && !Number.isInteger(quantity))
+			add(row, 'quantity', `${quantity} is not a whole number, and ${unit} is counted in whole units`);
 		const baseline = number('baselineUnitPrice', false, false);
 		const freight = number('freightPerUnit', false, false);
 		const duty = number('dutyPerUnit', false, false);

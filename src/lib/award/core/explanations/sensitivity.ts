@@ -15,7 +15,8 @@ function fixedAtAllocation(problem: AwardProblem, lines: AwardLine[]): AwardMode
 	const fixed = buildModel(problem);
 	const won = new Set(lines.map((l) => `${l.supplier}|${l.item}`));
 	fixed.columns.forEach((meaning, j) => {
-		if (!fixed.integrality[j]) return;
+		// Quantities in whole steps stay free (as in the LP): only the choices are fixed.
+		if (!fixed.integrality[j] || meaning.kind === 'tier') return;
 		let on = 0;
 		if (meaning.kind === 'wins') on = won.has(`${meaning.supplier}|${meaning.item}`) ? 1 : 0;
 		if (meaning.kind === 'bundle')
@@ -68,7 +69,8 @@ export async function sensitivity(
 		if (meaning.kind !== 'tier' || meaning.tier !== 0) return;
 		const bid = problem.bids[meaning.bid]!;
 		if (winning.has(`${bid.supplier}|${bid.item}`) || model.colUpper[j]! <= 0) return;
-		const reduced = outcome.reducedCosts![j]!;
+		// A column in steps (whole units, packs) costs a step: its reduced cost is per step.
+		const reduced = outcome.reducedCosts![j]! / (meaning.step ?? 1);
 		if (reduced <= 1e-9) return;
 		const threshold = bid.unitPrice - reduced;
 		found.losingBids.push({

@@ -8,6 +8,7 @@ import { buildModel, type AwardModel } from '../model';
 import type { AwardProblem, Scope, Who } from '../problem';
 import { awardLines, type AwardLine } from '../result';
 import type { SolveOptions, SolveOutcome, SolveStatus, Solver } from '../solver';
+import { stepsOf } from '../units';
 
 const BATCH_ITEMS = 20;
 const TOLERANCE = 1e-6;
@@ -37,7 +38,12 @@ export function lpGuidedAppliesTo(problem: AwardProblem, withoutRules?: Readonly
 /** Integer choices a full model would have, counted without building it. */
 export function integerEstimate(problem: AwardProblem, withoutRules?: ReadonlySet<number>): number {
 	const active = problem.rules.filter((_, r) => !withoutRules?.has(r));
-	const tiers = problem.bids.reduce((n, b) => n + (b.priceBreaks?.length ? b.priceBreaks.length + 1 : 0), 0);
+	// Each price break adds a tier choice; a bid in steps (whole units, packs) has integer quantities too.
+	const { bidStep } = stepsOf(problem);
+	const tiers = problem.bids.reduce((n, b, k) => {
+		const columns = b.priceBreaks?.length ? b.priceBreaks.length + 1 : 1;
+		return n + (columns > 1 ? columns : 0) + (bidStep[k]! > 0 ? columns : 0);
+	}, 0);
 	const needsWins = active.some(
 		(r) => r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost'
 	);
@@ -74,7 +80,8 @@ function indexByItem(problem: AwardProblem) {
 
 /**
  * Items whose LP split breaks a rule that only integers express: a minimum award, a supplier count, a
- * win under one unit where wins are counted, a bid spread over price tiers, a bundle taken in part.
+ * win under one unit where wins are counted, a bid spread over price tiers, a bundle taken in part, a
+ * quantity that is not a whole number of its steps (whole units, packs).
  */
 function itemsBreakingIntegerRules(
 	problem: AwardProblem,
@@ -141,10 +148,11 @@ function itemsBreakingIntegerRules(
 		const value = lp[j]!;
 		if (c.kind === 'tier' && value > tol) {
 			const bid = problem.bids[c.bid]!;
+			if (relaxed.integrality[j] && Math.abs(value - Math.round(value)) > tol) repair.add(bid.item);
 			if (bid.priceBreaks?.length) {
 				tiersUsed.set(c.bid, (tiersUsed.get(c.bid) ?? 0) + 1);
 				const from = c.tier === 0 ? 0 : bid.priceBreaks[c.tier - 1]!.fromQuantity;
-				if (value < from - tol * Math.max(1, from)) repair.add(bid.item);
+				if (value * (c.step ?? 1) < from - tol * Math.max(1, from)) repair.add(bid.item);
 			}
 		}
 		if (c.kind === 'bundle' && Math.abs(value - Math.round(value)) > tol)
@@ -215,8 +223,8 @@ export async function solveLpGuided(
 		const value = lp.columns![j]!;
 		if (c.kind === 'tier' && value > 0) {
 			const bid = problem.bids[c.bid]!;
-			add(pairQuantity, `${bid.supplier}|${bid.item}`, value);
-			add(used, bid.supplier, value);
+			add(pairQuantity, `${bid.supplier}|${bid.item}`, value * (c.step ?? 1));
+			add(used, bid.supplier, value * (c.step ?? 1));
 		}
 		if (c.kind === 'bundle' && value > 0) {
 			const bundle = problem.bundles[c.bundle]!;
@@ -338,7 +346,10 @@ async function lagrangianBatches(
 		if (value <= 0) return;
 		if (c.kind === 'tier') {
 			const bid = problem.bids[c.bid]!;
-			lpCost.set(bid.item, (lpCost.get(bid.item) ?? 0) + value * (c.unitPrice + lambda(bid.supplier)));
+			lpCost.set(
+				bid.item,
+				(lpCost.get(bid.item) ?? 0) + value * (c.step ?? 1) * (c.unitPrice + lambda(bid.supplier))
+			);
 		}
 		if (c.kind === 'bundle') {
 			const bundle = problem.bundles[c.bundle]!;
