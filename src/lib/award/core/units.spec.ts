@@ -5,6 +5,7 @@ import { checkAllocation } from './check';
 import { solveAward } from './engine';
 import { parseProblem, type AwardProblem } from './problem';
 import { SolverPool } from '../runtime/pool';
+import type { Solver } from './solver';
 import { commonMultiple, countedWhole, mostOfItem, stepOf } from './units';
 import { seededRandom } from '../tools/generate';
 
@@ -321,5 +322,48 @@ describe('whole units on the LP-guided path', () => {
 		// The guided award is never cheaper than the optimum, and its bound never above it.
 		expect(guided.totalCost!).toBeGreaterThanOrEqual(full.totalCost! - 1e-6 * full.totalCost!);
 		expect(guided.bound!).toBeLessThanOrEqual(full.totalCost! + 1e-6 * full.totalCost!);
+	});
+});
+
+describe('quantities in steps are solved free first', () => {
+	// A solver that counts the models it is given and whether they had integer quantities.
+	const counting = () => {
+		const seen: { steppedIntegers: number }[] = [];
+		const solver: Solver = {
+			solve: (model, options) => {
+				seen.push({
+					steppedIntegers: model.columns.filter((c, j) => c.kind === 'tier' && model.integrality[j]).length
+				});
+				return pool.solve(model, options);
+			}
+		};
+		return { solver, seen };
+	};
+	const pieces = (quantity: number) =>
+		problemOf({
+			currency: 'EUR',
+			items: [{ ref: 'IT-1', quantity, unit: 'C62' }],
+			suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+			bids: [
+				{ supplier: 'S1', item: 'IT-1', unitPrice: 1 },
+				{ supplier: 'S2', item: 'IT-1', unitPrice: 2 }
+			],
+			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]
+		});
+
+	it('keeps the free answer when it is whole already: one solve', async () => {
+		// 60% of 100 is 60: the answer in parts is 60 + 40, whole.
+		const { solver, seen } = counting();
+		const result = await solveAward(pieces(100), solver);
+		expect(result.awards.map((l) => l.quantity)).toEqual([60, 40]);
+		expect(seen).toEqual([{ steppedIntegers: 0 }]);
+	});
+
+	it('solves again in whole units when the free answer has parts', async () => {
+		// 60% of 101 is 60.6: in parts 60.6 + 40.4, so the model in whole units is solved too (60 + 41).
+		const { solver, seen } = counting();
+		const result = await solveAward(pieces(101), solver);
+		expect(result.awards.map((l) => l.quantity)).toEqual([60, 41]);
+		expect(seen).toEqual([{ steppedIntegers: 0 }, { steppedIntegers: 2 }]);
 	});
 });

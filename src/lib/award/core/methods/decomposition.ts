@@ -5,6 +5,7 @@ import { restrictToItems, type AwardProblem } from '../problem';
 import { awardLines } from '../result';
 import type { SolveOptions, Solver } from '../solver';
 import { modelSize, type Solved } from '../types';
+import { solveStepsFreeFirst } from './steps';
 
 /** The groups of items linked by a row or a column of the model, in the problem's order. */
 export function independentItemGroups(model: AwardModel, problem: AwardProblem): string[][] {
@@ -61,7 +62,7 @@ export async function solveDecomposed(
 		groups.map(async (items) => {
 			const part = restrictToItems(problem, items);
 			const partModel = buildModel(part, { withoutRules });
-			const outcome = await solver.solve(partModel, options);
+			const outcome = await solveStepsFreeFirst(solver, partModel, options);
 			return { part, partModel, outcome };
 		})
 	);

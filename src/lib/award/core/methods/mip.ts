@@ -4,6 +4,7 @@ import type { AwardProblem } from '../problem';
 import { awardLines } from '../result';
 import type { SolveOptions, Solver } from '../solver';
 import { modelSize, usable, type Solved } from '../types';
+import { solveStepsFreeFirst } from './steps';
 
 export async function solveWhole(
 	problem: AwardProblem,
@@ -11,7 +12,7 @@ export async function solveWhole(
 	solver: Solver,
 	options: SolveOptions
 ): Promise<Solved> {
-	const outcome = await solver.solve(model, options);
+	const outcome = await solveStepsFreeFirst(solver, model, options);
 	return {
 		status: outcome.status,
 		method: model.integers > 0 ? 'mip' : 'lp',
