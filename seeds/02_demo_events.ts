@@ -35,7 +35,10 @@ async function userOf(trx: Knex.Transaction, organisation: string) {
 async function makeEvent(
 	trx: Knex.Transaction,
 	organisation: string,
-	fields: Omit<EventFields, 'bidValidityDays' | 'allowPriceBreaks' | 'allowCapacity' | 'allowBundles'> &
+	fields: Omit<
+		EventFields,
+		'bidValidityDays' | 'allowPriceBreaks' | 'allowCapacity' | 'allowBundles' | 'allowPackSizes'
+	> &
 		Partial<EventFields>,
 	state: Parameters<typeof setEventState>[3] & { state: 'open' | 'closed' },
 	items: DemoItem[],
@@ -46,6 +49,7 @@ async function makeEvent(
 		allowPriceBreaks: false,
 		allowCapacity: false,
 		allowBundles: false,
+		allowPackSizes: false,
 		...fields
 	});
 	const { state: to, ...extra } = state;
@@ -61,7 +65,8 @@ async function makeEvent(
 			unit: i.unit,
 			baselineUnitPrice: i.baseline,
 			freightPerUnit: null,
-			dutyPerUnit: null
+			dutyPerUnit: null,
+			orderMultiple: null
 		}))
 	);
 	const rows = await listItems(trx, event.id);
@@ -90,6 +95,7 @@ async function placeBid(
 				item: l.item,
 				unitPrice: l.unitPrice,
 				maxQuantity: l.maxQuantity,
+				packSize: null,
 				priceBreaks: l.breaks.map((b) => ({ fromQuantity: b.from, unitPrice: b.unitPrice }))
 			})),
 			bundles: bid.bundles

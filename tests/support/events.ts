@@ -32,6 +32,7 @@ export async function anOpenEvent(options: {
 	allowPriceBreaks?: boolean;
 	allowCapacity?: boolean;
 	allowBundles?: boolean;
+	allowPackSizes?: boolean;
 	state?: 'draft' | 'open';
 	/** Another buying organisation's event (default: the one buying organisation of the tests). */
 	organisationId?: string;
@@ -54,6 +55,7 @@ export async function anOpenEvent(options: {
 			allow_price_breaks: options.allowPriceBreaks ?? false,
 			allow_capacity: options.allowCapacity ?? false,
 			allow_bundles: options.allowBundles ?? false,
+			allow_pack_sizes: options.allowPackSizes ?? false,
 			created_by: options.createdBy
 		})
 		.returning('id');

@@ -70,7 +70,8 @@ export const eventSchema = z.object({
 		.default(90),
 	allowPriceBreaks: z.boolean().default(false),
 	allowCapacity: z.boolean().default(false),
-	allowBundles: z.boolean().default(false)
+	allowBundles: z.boolean().default(false),
+	allowPackSizes: z.boolean().default(false)
 });
 export type EventForm = z.infer<typeof eventSchema>;
 

@@ -22,7 +22,8 @@ export function formFromEvent(event: EventRow): EventForm {
 		bidValidityDays: event.bid_validity_days,
 		allowPriceBreaks: event.allow_price_breaks,
 		allowCapacity: event.allow_capacity,
-		allowBundles: event.allow_bundles
+		allowBundles: event.allow_bundles,
+		allowPackSizes: event.allow_pack_sizes
 	};
 }
 

@@ -11,12 +11,16 @@ export interface ItemFields {
 	baselineUnitPrice: number | null;
 	freightPerUnit: number | null;
 	dutyPerUnit: number | null;
+	/** The item is ordered in multiples of this (whole steps: award/core/units.ts); null when not. */
+	orderMultiple: number | null;
 }
 
 export interface BidLine {
 	item: string;
 	unitPrice: number;
 	maxQuantity: number | null;
+	/** The supplier sells this item in packs of this many units: it is awarded whole packs. */
+	packSize: number | null;
 	priceBreaks: { fromQuantity: number; unitPrice: number }[];
 }
 

@@ -250,7 +250,8 @@ export async function insertRevision(
 		revision_id: row!.id,
 		item_id: revision.itemIds.get(l.item)!,
 		unit_price: l.unitPrice,
-		max_quantity: l.maxQuantity
+		max_quantity: l.maxQuantity,
+		pack_size: l.packSize
 	}));
 	for (let k = 0; k < lines.length; k += 2000) {
 		const stored: { id: string; item_id: string }[] = await db('bid_lines')
@@ -332,6 +333,7 @@ export interface VisibleLine {
 	item_ref: string;
 	unit_price: string;
 	max_quantity: string | null;
+	pack_size: string | null;
 }
 
 export interface VisibleBid {
@@ -345,6 +347,7 @@ export interface VisibleBid {
 		item: string;
 		unitPrice: string;
 		maxQuantity: string | null;
+		packSize: string | null;
 		priceBreaks: { fromQuantity: string; unitPrice: string }[];
 	}[];
 	bundles: { ref: string; price: string; items: { item: string; quantity: string }[] }[];
@@ -356,6 +359,7 @@ interface PricedLineRow {
 	item: string;
 	unit_price: string;
 	max_quantity: string | null;
+	pack_size: string | null;
 }
 
 interface BreakRow {
@@ -411,7 +415,7 @@ export async function visibleBids(
 			.modify((q) => {
 				if (itemIds) void q.whereIn('l.item_id', itemIds);
 			})
-			.select('l.id', 'l.revision_id', 'i.ref as item', 'l.unit_price', 'l.max_quantity')
+			.select('l.id', 'l.revision_id', 'i.ref as item', 'l.unit_price', 'l.max_quantity', 'l.pack_size')
 			.orderBy('i.position') as Promise<PricedLineRow[]>,
 		db('price_breaks as b')
 			.join('bid_lines as l', 'l.id', 'b.bid_line_id')
@@ -460,6 +464,7 @@ export async function visibleBids(
 					item: l.item,
 					unitPrice: l.unit_price,
 					maxQuantity: l.max_quantity,
+					packSize: l.pack_size,
 					priceBreaks: breaksOf.get(l.id) ?? []
 				})),
 			bundles: [...offers.values()]

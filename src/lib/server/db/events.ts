@@ -21,6 +21,7 @@ export interface EventRow {
 	allow_price_breaks: boolean;
 	allow_capacity: boolean;
 	allow_bundles: boolean;
+	allow_pack_sizes: boolean;
 	state: EventState;
 	published_at: Date | null;
 	opened_at: Date | null;
@@ -43,6 +44,7 @@ export interface ItemRow {
 	baseline_unit_price: string | null;
 	freight_per_unit: string | null;
 	duty_per_unit: string | null;
+	order_multiple: string | null;
 	position: number;
 }
 
@@ -59,6 +61,7 @@ export interface EventFields {
 	allowPriceBreaks: boolean;
 	allowCapacity: boolean;
 	allowBundles: boolean;
+	allowPackSizes: boolean;
 }
 
 export type { ItemFields };
@@ -75,7 +78,8 @@ const columnsOf = (f: EventFields) => ({
 	bid_validity_days: f.bidValidityDays,
 	allow_price_breaks: f.allowPriceBreaks,
 	allow_capacity: f.allowCapacity,
-	allow_bundles: f.allowBundles
+	allow_bundles: f.allowBundles,
+	allow_pack_sizes: f.allowPackSizes
 });
 
 export async function insertEvent(
@@ -209,6 +213,7 @@ export async function replaceItems(db: Db, eventId: string, items: ItemFields[])
 		baseline_unit_price: item.baselineUnitPrice,
 		freight_per_unit: item.freightPerUnit,
 		duty_per_unit: item.dutyPerUnit,
+		order_multiple: item.orderMultiple,
 		position
 	}));
 	// Chunks keep each statement under PostgreSQL's 65535 bind parameters.

@@ -10,6 +10,7 @@ const item = (ref: string, extra: Partial<Record<string, string | null>> = {}) =
 	baseline_unit_price: null,
 	freight_per_unit: null,
 	duty_per_unit: null,
+	order_multiple: null,
 	...extra
 });
 
@@ -29,6 +30,7 @@ const line = (item: string, unitPrice: string, over: Partial<VisibleBid['lines']
 	item,
 	unitPrice,
 	maxQuantity: null,
+	packSize: null,
 	priceBreaks: [],
 	...over
 });

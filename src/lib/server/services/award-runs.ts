@@ -45,7 +45,14 @@ export function snapshotProblem(
 	rows: {
 		items: Pick<
 			ItemRow,
-			'ref' | 'quantity' | 'unit' | 'lot_ref' | 'baseline_unit_price' | 'freight_per_unit' | 'duty_per_unit'
+			| 'ref'
+			| 'quantity'
+			| 'unit'
+			| 'lot_ref'
+			| 'baseline_unit_price'
+			| 'freight_per_unit'
+			| 'duty_per_unit'
+			| 'order_multiple'
 		>[];
 		bids: VisibleBid[];
 		invitations: Pick<InvitationRow, 'supplier_organisation_id' | 'tags'>[];
@@ -64,7 +71,8 @@ export function snapshotProblem(
 			quantity: Number(i.quantity),
 			unit: i.unit,
 			...(i.lot_ref ? { lot: i.lot_ref } : {}),
-			...(i.baseline_unit_price !== null ? { baselineUnitPrice: Number(i.baseline_unit_price) } : {})
+			...(i.baseline_unit_price !== null ? { baselineUnitPrice: Number(i.baseline_unit_price) } : {}),
+			...(i.order_multiple !== null ? { orderMultiple: Number(i.order_multiple) } : {})
 		})),
 		suppliers: live.map((b) => {
 			const tags = tagsOf.get(b.supplierOrganisationId) ?? [];
@@ -80,6 +88,7 @@ export function snapshotProblem(
 				item: l.item,
 				unitPrice: round(Number(l.unitPrice) + adderOf(l.item)),
 				...(l.maxQuantity !== null ? { maxQuantity: Number(l.maxQuantity) } : {}),
+				...(l.packSize !== null ? { packSize: Number(l.packSize) } : {}),
 				...(l.priceBreaks.length
 					? {
 							priceBreaks: l.priceBreaks.map((p) => ({

@@ -36,6 +36,7 @@ export function eventJson(event: EventRow) {
 		allowPriceBreaks: event.allow_price_breaks,
 		allowCapacity: event.allow_capacity,
 		allowBundles: event.allow_bundles,
+		allowPackSizes: event.allow_pack_sizes,
 		state: effectiveState(event),
 		publishedAt: event.published_at?.toISOString() ?? null,
 		openedAt: event.opened_at?.toISOString() ?? null,
@@ -54,7 +55,8 @@ export function itemJson(item: ItemRow) {
 		unit: item.unit,
 		baselineUnitPrice: num(item.baseline_unit_price),
 		freightPerUnit: num(item.freight_per_unit),
-		dutyPerUnit: num(item.duty_per_unit)
+		dutyPerUnit: num(item.duty_per_unit),
+		orderMultiple: num(item.order_multiple)
 	};
 }
 export type ItemJson = ReturnType<typeof itemJson>;
@@ -184,6 +186,7 @@ export function bidJson(bid: VisibleBid) {
 			item: l.item,
 			unitPrice: Number(l.unitPrice),
 			maxQuantity: num(l.maxQuantity),
+			packSize: num(l.packSize),
 			priceBreaks: l.priceBreaks.map((b) => ({
 				fromQuantity: Number(b.fromQuantity),
 				unitPrice: Number(b.unitPrice)
@@ -229,13 +232,16 @@ function shapeTabulation(bids: VisibleBid[], items: ItemRow[]) {
 		rows: items.map((item) => ({
 			ref: item.ref,
 			item: `${item.ref} ${item.description}`,
-			quantity: `${Number(item.quantity)} ${item.unit}`,
-			/** Per bid: the unit price, and its price breaks after a " · " (or ""). */
+			quantity:
+				`${Number(item.quantity)} ${item.unit}` +
+				(item.order_multiple === null ? '' : ` in multiples of ${Number(item.order_multiple)}`),
+			/** Per bid: the unit price, and its pack size and price breaks after a " · " (or ""). */
 			cells: bids.map((_, column): [string, string] => {
 				const line = priceOf.get(`${column}|${item.ref}`);
 				if (!line) return ['—', ''];
-				const breaks = line.priceBreaks.map((b) => `${money(b.unitPrice)} from ${Number(b.fromQuantity)}`);
-				return [money(line.unitPrice), breaks.length ? ` · ${breaks.join(' · ')}` : ''];
+				const notes = line.priceBreaks.map((b) => `${money(b.unitPrice)} from ${Number(b.fromQuantity)}`);
+				if (line.packSize !== null) notes.unshift(`packs of ${Number(line.packSize)}`);
+				return [money(line.unitPrice), notes.length ? ` · ${notes.join(' · ')}` : ''];
 			})
 		}))
 	};

@@ -564,12 +564,14 @@ export function sheetEvent(event: EventRow, items: ItemRow[]): SheetEvent {
 		allowPriceBreaks: event.allow_price_breaks,
 		allowCapacity: event.allow_capacity,
 		allowBundles: event.allow_bundles,
+		allowPackSizes: event.allow_pack_sizes,
 		items: items.map((i) => ({
 			ref: i.ref,
 			description: i.description,
 			lot: i.lot_ref,
 			unit: i.unit,
-			quantity: Number(i.quantity)
+			quantity: Number(i.quantity),
+			orderMultiple: i.order_multiple === null ? null : Number(i.order_multiple)
 		}))
 	};
 }

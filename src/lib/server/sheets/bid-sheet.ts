@@ -3,6 +3,7 @@
 // whole sheet is valid. Formulas are never evaluated: a formula cell is refused.
 import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
+import { countedWhole } from '$lib/award/core/units';
 import type { BidLine, ParsedBid, SheetProblem } from '../shapes';
 
 export interface SheetItem {
@@ -11,6 +12,8 @@ export interface SheetItem {
 	lot: string | null;
 	unit: string;
 	quantity: number;
+	/** The buyer orders this item in multiples of this; absent or null when not. */
+	orderMultiple?: number | null;
 }
 
 export interface SheetEvent {
@@ -23,6 +26,8 @@ export interface SheetEvent {
 	allowPriceBreaks: boolean;
 	allowCapacity: boolean;
 	allowBundles: boolean;
+	/** Absent: not allowed. */
+	allowPackSizes?: boolean;
 	items: SheetItem[];
 }
 
@@ -42,9 +47,20 @@ export function neutralise(value: string): string {
 	return /^[=+\-@\t\r]/.test(value) ? `'${value}` : value;
 }
 
+/** The instructions' line on items the buyer orders in multiples (the first 30; the event page lists all). */
+function orderedInMultiples(items: SheetItem[]): string {
+	const ordered = items.filter((i) => i.orderMultiple != null);
+	if (!ordered.length) return '';
+	const shown = ordered.slice(0, 30).map((i) => `${i.ref} in ${i.orderMultiple}s`);
+	const more =
+		ordered.length > 30 ? `, and ${ordered.length - 30} more (the event page lists every one)` : '';
+	return `Items ordered in multiples are awarded in whole multiples: ${shown.join(', ')}${more}.`;
+}
+
 export function priceColumns(event: SheetEvent): string[] {
 	const columns = ['Item ref', 'Description', 'Lot', 'Unit', 'Quantity', `Unit price (${event.currency})`];
 	if (event.allowCapacity) columns.push('Max quantity');
+	if (event.allowPackSizes) columns.push('Pack size');
 	if (event.allowPriceBreaks) {
 		for (let k = 1; k <= PRICE_BREAKS; k++) columns.push(`Break ${k} from quantity`, `Break ${k} unit price`);
 	}
@@ -77,6 +93,10 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 		event.allowPriceBreaks
 			? `You may give up to ${PRICE_BREAKS} price breaks per item: from that quantity on, the break's unit price applies to the whole quantity awarded. Quantities must rise and prices fall.`
 			: '',
+		event.allowPackSizes
+			? 'You may give a pack size per item: you are then awarded whole packs only (a multiple of the pack size). For an item counted in whole units (such as C62 or PR) it must be a whole number.'
+			: '',
+		orderedInMultiples(event.items),
 		event.allowBundles
 			? 'You may offer bundles (all or nothing) on the "Bundles" sheet: one row per item of the bundle, its price on the first row.'
 			: '',
@@ -269,6 +289,27 @@ function readPriceRows(event: SheetEvent, sheet: string, rows: Cell[][], problem
 			maxColumn >= 0
 				? numberIn(problems, sheet, row, letter(maxColumn), cells[maxColumn] ?? null, { positive: true })
 				: null;
+		const packColumn = at('Pack size');
+		const packSize =
+			packColumn >= 0
+				? numberIn(problems, sheet, row, letter(packColumn), cells[packColumn] ?? null, { positive: true })
+				: null;
+		if (packSize !== null) {
+			if (countedWhole({ unit: item.unit }) && !Number.isInteger(packSize))
+				problems.add(
+					sheet,
+					row,
+					letter(packColumn),
+					`${packSize} is not a whole number, and ${item.unit} is counted in whole units`
+				);
+			else if (maxQuantity !== null && maxQuantity < packSize)
+				problems.add(
+					sheet,
+					row,
+					letter(maxColumn),
+					`a maximum quantity of ${maxQuantity} is less than one pack of ${packSize}`
+				);
+		}
 		const breaks: BidLine['priceBreaks'] = [];
 		if (event.allowPriceBreaks) {
 			let previous = { fromQuantity: 0, unitPrice: price ?? Infinity };
@@ -314,9 +355,11 @@ function readPriceRows(event: SheetEvent, sheet: string, rows: Cell[][], problem
 		if (price === null) {
 			if (maxQuantity !== null)
 				problems.add(sheet, row, letter(maxColumn), 'a maximum quantity needs a unit price for the item');
+			if (packSize !== null)
+				problems.add(sheet, row, letter(packColumn), 'a pack size needs a unit price for the item');
 			return;
 		}
-		lines.push({ item: ref, unitPrice: price, maxQuantity, priceBreaks: breaks });
+		lines.push({ item: ref, unitPrice: price, maxQuantity, packSize, priceBreaks: breaks });
 	});
 	return lines;
 }

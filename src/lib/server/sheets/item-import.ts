@@ -15,7 +15,8 @@ export const ITEM_COLUMNS = [
 	{ key: 'unit', header: 'Unit', required: true },
 	{ key: 'baselineUnitPrice', header: 'Baseline unit price', required: false },
 	{ key: 'freightPerUnit', header: 'Freight per unit', required: false },
-	{ key: 'dutyPerUnit', header: 'Duty per unit', required: false }
+	{ key: 'dutyPerUnit', header: 'Duty per unit', required: false },
+	{ key: 'orderMultiple', header: 'Order multiple', required: false }
 ] as const;
 
 export type ItemColumn = (typeof ITEM_COLUMNS)[number]['key'];
@@ -90,6 +91,13 @@ export function validateItemRows(
 		const baseline = number('baselineUnitPrice', false, false);
 		const freight = number('freightPerUnit', false, false);
 		const duty = number('dutyPerUnit', false, false);
+		const orderMultiple = number('orderMultiple', false, true);
+		if (orderMultiple !== null && unit && countedWhole({ unit }) && !Number.isInteger(orderMultiple))
+			add(
+				row,
+				'orderMultiple',
+				`${orderMultiple} is not a whole number, and ${unit} is counted in whole units`
+			);
 		if (quantity !== null && ref && unit)
 			items.push({
 				ref,
@@ -99,7 +107,8 @@ export function validateItemRows(
 				unit,
 				baselineUnitPrice: baseline,
 				freightPerUnit: freight,
-				dutyPerUnit: duty
+				dutyPerUnit: duty,
+				orderMultiple
 			});
 	}
 	if (!problems.length && !rows.length)

@@ -22,7 +22,8 @@ export const load: PageServerLoad = async (event) => {
 			bidValidityDays: 90,
 			allowPriceBreaks: false,
 			allowCapacity: false,
-			allowBundles: false
+			allowBundles: false,
+			allowPackSizes: false
 		}
 	});
 	return { title: 'New event', form, timeZones, currencies };
