@@ -19,8 +19,8 @@ export interface BidLine {
 	item: string;
 	unitPrice: number;
 	maxQuantity: number | null;
-	/** The supplier sells this item in packs of this many units: it is awarded whole packs. */
-	packSize: number | null;
+	/** The supplier sells this item in packs of this many units: it is awarded whole packs. Absent: any amount. */
+	packSize?: number | null;
 	priceBreaks: { fromQuantity: number; unitPrice: number }[];
 }
 

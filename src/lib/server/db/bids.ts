@@ -251,7 +251,7 @@ export async function insertRevision(
 		item_id: revision.itemIds.get(l.item)!,
 		unit_price: l.unitPrice,
 		max_quantity: l.maxQuantity,
-		pack_size: l.packSize
+		pack_size: l.packSize ?? null
 	}));
 	for (let k = 0; k < lines.length; k += 2000) {
 		const stored: { id: string; item_id: string }[] = await db('bid_lines')

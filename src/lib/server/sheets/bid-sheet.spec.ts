@@ -272,3 +272,48 @@ describe('upload inspection by content', () => {
 		});
 	});
 });
+
+describe('pack sizes in the bid sheet', () => {
+	const packs = event({ allowPriceBreaks: false, allowBundles: false, allowPackSizes: true });
+	const header = 'Item ref,Description,Lot,Unit,Quantity,Unit price (EUR),Max quantity,Pack size';
+
+	it('adds a Pack size column after the maximum quantity and reads it back', () => {
+		expect(buildBidCsv(packs).split('\r\n')[0]).toBe(header);
+		const parsed = parseBidCsv(
+			packs,
+			[header, 'IT-1,x,L1,C62,1200,3.5,,12', 'IT-3,x,L2,KGM,50.5,2,,0.5'].join('\n')
+		);
+		expect(parsed.ok && parsed.bid.lines.map((l) => [l.item, l.packSize])).toEqual([
+			['IT-1', 12],
+			['IT-3', 0.5]
+		]);
+	});
+
+	it('names a pack in parts of a counted unit, a maximum under one pack and a pack without a price', () => {
+		const parsed = parseBidCsv(
+			packs,
+			[header, 'IT-1,x,L1,C62,1200,3.5,,2.5', 'IT-2,x,L1,C62,300,1,10,12', 'IT-3,x,L2,KGM,50.5,,,5'].join(
+				'\n'
+			)
+		);
+		expect(parsed.ok ? [] : parsed.problems.map((p) => `${p.row}${p.column} ${p.message}`)).toEqual([
+			'2H 2.5 is not a whole number, and C62 is counted in whole units',
+			'3G a maximum quantity of 10 is less than one pack of 12',
+			'4H a pack size needs a unit price for the item'
+		]);
+	});
+
+	it('lists the items ordered in multiples in the instructions', async () => {
+		const ordered = event({
+			items: [
+				{ ref: 'IT-1', description: 'Case', lot: 'L1', unit: 'C62', quantity: 1200, orderMultiple: 4 },
+				{ ref: 'IT-2', description: 'Film', lot: 'L1', unit: 'KGM', quantity: 30 }
+			]
+		});
+		const workbook = new ExcelJS.Workbook();
+		await workbook.xlsx.load((await buildBidSheet(ordered, 'S')) as unknown as ArrayBuffer);
+		const lines: string[] = [];
+		workbook.getWorksheet('Instructions')!.eachRow((row) => lines.push(String(row.getCell(1).value)));
+		expect(lines).toContain('Items ordered in multiples are awarded in whole multiples: IT-1 in 4s.');
+	});
+});

@@ -359,7 +359,13 @@ function readPriceRows(event: SheetEvent, sheet: string, rows: Cell[][], problem
 				problems.add(sheet, row, letter(packColumn), 'a pack size needs a unit price for the item');
 			return;
 		}
-		lines.push({ item: ref, unitPrice: price, maxQuantity, packSize, priceBreaks: breaks });
+		lines.push({
+			item: ref,
+			unitPrice: price,
+			maxQuantity,
+			...(packSize !== null ? { packSize } : {}),
+			priceBreaks: breaks
+		});
 	});
 	return lines;
 }
