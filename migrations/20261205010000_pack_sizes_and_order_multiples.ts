@@ -13,8 +13,12 @@ export async function up(knex: Knex): Promise<void> {
 	await knex.schema.alterTable('bid_lines', (t) => {
 		t.decimal('pack_size', 20, 6);
 	});
-	await knex.raw(`alter table items add constraint items_order_multiple_positive check (coalesce(order_multiple, 1) > 0)`);
-	await knex.raw(`alter table bid_lines add constraint bid_lines_pack_size_positive check (coalesce(pack_size, 1) > 0)`);
+	await knex.raw(
+		`alter table items add constraint items_order_multiple_positive check (coalesce(order_multiple, 1) > 0)`
+	);
+	await knex.raw(
+		`alter table bid_lines add constraint bid_lines_pack_size_positive check (coalesce(pack_size, 1) > 0)`
+	);
 }
 
 export async function down(knex: Knex): Promise<void> {
