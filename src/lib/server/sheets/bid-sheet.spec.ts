@@ -317,3 +317,16 @@ describe('pack sizes in the bid sheet', () => {
 		expect(lines).toContain('Items ordered in multiples are awarded in whole multiples: IT-1 in 4s.');
 	});
 });
+
+describe('numbers the database cannot hold', () => {
+	it('refuses a price, quantity or pack size of 10^14 or more, naming the cell, instead of failing to store it', () => {
+		const packs = event({ allowPriceBreaks: false, allowBundles: false, allowPackSizes: true });
+		const header = 'Item ref,Description,Lot,Unit,Quantity,Unit price (EUR),Max quantity,Pack size';
+		const parsed = parseBidCsv(packs, [header, 'IT-1,x,L1,C62,1200,1e15,2e14,1e14'].join('\n'));
+		expect(parsed.ok ? [] : parsed.problems.map((p) => `${p.row}${p.column} ${p.message}`)).toEqual([
+			'2F must be less than 100,000,000,000,000',
+			'2G must be less than 100,000,000,000,000',
+			'2H must be less than 100,000,000,000,000'
+		]);
+	});
+});

@@ -34,6 +34,9 @@ export interface SheetEvent {
 export type { BidLine, ParsedBid, SheetProblem } from '../shapes';
 
 export const PRICE_BREAKS = 3;
+/** Quantities and prices are stored as numeric(20, 6): below 10^14. */
+export const LARGEST = 1e14;
+export const TOO_LARGE = 'must be less than 100,000,000,000,000';
 const SHEETS = {
 	instructions: 'Instructions',
 	terms: 'Terms',
@@ -231,6 +234,10 @@ function numberIn(
 	}
 	if (number < 0) {
 		problems.add(sheet, row, column, 'must not be negative');
+		return null;
+	}
+	if (number >= LARGEST) {
+		problems.add(sheet, row, column, TOO_LARGE);
 		return null;
 	}
 	if (rule.positive && number === 0) {

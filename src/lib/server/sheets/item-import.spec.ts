@@ -28,4 +28,12 @@ describe('an item list in whole units', () => {
 			['IT-2', 10.5, 'KGM']
 		]);
 	});
+
+	it('refuses a quantity or order multiple the database cannot hold', () => {
+		const outcome = parseItemCsv(['Ref,Quantity,Unit,Order multiple', 'IT-1,1e15,C62,1e14'].join('\n'));
+		expect(outcome.ok ? [] : outcome.problems.map((p) => `${p.row}${p.column} ${p.message}`)).toEqual([
+			'2B must be less than 100,000,000,000,000',
+			'2D must be less than 100,000,000,000,000'
+		]);
+	});
 });

@@ -5,7 +5,7 @@ import { parse as parseCsv } from 'csv-parse/sync';
 import { UNIT_CODE } from '$lib/schemas/events';
 import { countedWhole } from '$lib/award/core/units';
 import type { ItemFields } from '../shapes';
-import { letter, type SheetProblem } from './bid-sheet';
+import { LARGEST, letter, TOO_LARGE, type SheetProblem } from './bid-sheet';
 
 export const ITEM_COLUMNS = [
 	{ key: 'ref', header: 'Ref', required: true },
@@ -62,6 +62,10 @@ export function validateItemRows(
 			const n = Number(value);
 			if (n < 0 || (positive && n === 0)) {
 				add(row, key, positive ? 'must be more than 0' : 'must not be negative');
+				return null;
+			}
+			if (n >= LARGEST) {
+				add(row, key, TOO_LARGE);
 				return null;
 			}
 			return n;
