@@ -56,6 +56,9 @@ if (cluster.isPrimary) {
 		cluster.fork();
 	});
 
+	// Until a process listens it takes no connections; with none listening the port refuses them.
+	cluster.on('listening', (worker) => log(`web process ${worker.process.pid} listening`));
+
 	for (const signal of /** @type {const} */ (['SIGINT', 'SIGTERM'])) process.on(signal, () => stop(signal));
 	// Started by the project's supervisor: stdin is its lifeline (the web processes watch it too).
 	if (process.env.EXIT_WITH_PARENT === '1') {

@@ -56,6 +56,10 @@ describe('serve.js: one port, several web processes', () => {
 		await until(() => healthy(port), 'the web server to answer', 60_000);
 		await until(() => descendants(primary).length === 2, 'two web processes', 10_000);
 		const [victim, survivor] = descendants(primary);
+		// Forked is not yet listening (loading the app takes seconds on a busy machine): with the survivor
+		// not listening yet, killing the victim would leave nobody to answer.
+		const listening = (pid: number) => log.includes(`web process ${pid} listening`);
+		await until(() => listening(victim!) && listening(survivor!), 'both web processes listening', 60_000);
 
 		// Requests keep being answered by the other process while one is killed and replaced. Only a request
 		// the killed process had already taken can fail (the poller sends one at a time).
@@ -79,6 +83,8 @@ describe('serve.js: one port, several web processes', () => {
 		);
 		polling = false;
 		await poller;
+		const [replacement] = descendants(primary).filter((pid) => pid !== survivor);
+		await until(() => listening(replacement!), 'the new web process listening', 60_000);
 		expect(answered).toBeGreaterThan(0);
 		expect(failures.length, `failed requests: ${failures.join(', ')}`).toBeLessThanOrEqual(1);
 		// Then both processes answer: twenty requests in a row, each on a new connection.
