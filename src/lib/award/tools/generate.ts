@@ -23,6 +23,8 @@ export interface GenerateOptions {
 	priceBreaks?: boolean;
 	bundles?: number;
 	capacity?: boolean;
+	/** Tag one supplier in this many `small_business` (S1, then every n-th); 3 unless given. */
+	smallBusinessEvery?: number;
 	rules?: AwardRule[];
 }
 
@@ -38,7 +40,7 @@ export function generateProblem(options: GenerateOptions): AwardProblem {
 	}));
 	const suppliers = Array.from({ length: options.suppliers }, (_, s) => ({
 		ref: `S${s + 1}`,
-		...(s % 3 === 0 ? { tags: ['small_business'] } : {}),
+		...(s % (options.smallBusinessEvery ?? 3) === 0 ? { tags: ['small_business'] } : {}),
 		...(s === 1 ? { tags: ['incumbent'] } : {})
 	}));
 	const bids: AwardProblem['bids'] = [];
@@ -100,6 +102,59 @@ export const benchmarkRules: AwardRule[] = [
 	},
 	{ type: 'supplier_count', scope: 'each_item', max: 3, label: 'At most 3 suppliers per item' }
 ];
+
+/** The `lot` benchmark's rules: the item rules, and in each of the lots L1..Ln at most 70% of its spend to one supplier and at least 2 suppliers. */
+export function lotBenchmarkRules(lots: number): AwardRule[] {
+	return [
+		...benchmarkRules,
+		...Array.from({ length: lots }, (_, k): AwardRule[] => [
+			{
+				type: 'max_share',
+				scope: { lot: `L${k + 1}` },
+				who: 'each_supplier',
+				percent: 70,
+				label: `No supplier over 70% of the spend in lot L${k + 1}`
+			},
+			{
+				type: 'supplier_count',
+				scope: { lot: `L${k + 1}` },
+				min: 2,
+				label: `At least 2 suppliers in lot L${k + 1}`
+			}
+		]).flat()
+	];
+}
+
+/** The `event` benchmark's rules: the item rules, small businesses together at least 15% of the event's spend, at most 12 suppliers. */
+export const eventBenchmarkRules: AwardRule[] = [
+	...benchmarkRules,
+	{
+		type: 'min_share',
+		scope: 'event',
+		who: { tag: 'small_business' },
+		percent: 15,
+		label: 'Small businesses at least 15% of the spend'
+	},
+	{ type: 'supplier_count', scope: 'event', max: 12, label: 'At most 12 suppliers over the event' }
+];
+
+/**
+ * The `fixed` benchmark's rule: a fixed cost per supplier awarded of 2% of an average supplier's share of
+ * the baseline spend (Σ_i d[i]·baseline[i] / S), in whole units of money. Chosen so that it bites at the
+ * benchmark's sizes: bids are 0.75-1.15 of the baseline, so an item's two cheapest of about 0.7·S bids lie
+ * about 0.4/(0.7·S + 1) of its baseline apart (1.8% at 30 suppliers, 1.1% at 50), and a supplier whose edge
+ * over the next bids is worth less than the fixed cost is better left out. Measured: at 1000x20 the
+ * optimum awards 18 suppliers instead of 20; at 200x10 (about 5% apart) it still awards all 10.
+ */
+export function fixedCostBenchmarkRule(problem: AwardProblem): AwardRule {
+	const baseline = problem.items.reduce((a, i) => a + i.quantity * (i.baselineUnitPrice ?? 0), 0);
+	return {
+		type: 'award_fixed_cost',
+		amount: Math.round((0.02 * baseline) / problem.suppliers.length),
+		per: 'supplier',
+		label: 'Fixed cost per supplier awarded'
+	};
+}
 
 /** A random pick from a menu that holds every kind of rule (the cross-check's and the model's pinned cases). */
 export function ruleMenu(random: () => number, problem: AwardProblem): AwardRule[] {
