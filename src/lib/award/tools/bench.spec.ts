@@ -2,8 +2,12 @@
 // 2.10.8's own (Debian coinor-cbc 2.10.8+ds1-1, run with this bench's arguments on its seeded models),
 // trimmed to the lines around the ones read; only the progress lines of one test are made up.
 import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { DEFAULT_SIZES, MODES, readBenchArgs, readCbcOutput } from './bench';
+import { buildModel } from '../core/model';
+import { DEFAULT_SIZES, MODES, problemFor, readBenchArgs, readCbcOutput, writeLpFile } from './bench';
 import { fixedCostBenchmarkRule, generateProblem } from './generate';
 
 // lot mode, 200x10 (preprocess off): the search ended at the root node.
@@ -206,6 +210,37 @@ describe('the bench as a script', { timeout: 30_000 }, () => {
 		expect(result.status).toBe(2);
 		expect(result.stderr).toContain('unknown mode "lots"');
 		expect(result.stdout).toBe('');
+	});
+});
+
+describe('the LP file CBC reads', () => {
+	it('holds every entry, row bound, column bound and integer of the model', () => {
+		const model = buildModel(problemFor('30x5', 'lot'));
+		const file = join(mkdtempSync(join(tmpdir(), 'bench-lp-')), 'award.lp');
+		writeLpFile(model, file);
+		const text = readFileSync(file, 'utf8');
+		const written = new Map<string, number>();
+		const rowBounds = new Map<number, [number, number]>();
+		for (const [, r, sense, rhs] of text.matchAll(/^ r(\d+)\w?: .* (=|>=|<=) (\S+)$/gm)) {
+			const bounds = rowBounds.get(Number(r)) ?? [-Infinity, Infinity];
+			if (sense !== '<=') bounds[0] = Number(rhs);
+			if (sense !== '>=') bounds[1] = Number(rhs);
+			rowBounds.set(Number(r), bounds);
+		}
+		for (const [, r, terms] of text.matchAll(/^ r(\d+)[lu]?: (.*) (?:=|>=|<=) \S+$/gm))
+			for (const [, sign, value, j] of terms!.matchAll(/([+-]) (\S+) x(\d+)/g))
+				written.set(`${r} ${j}`, (sign === '-' ? -1 : 1) * Number(value));
+		const entries = new Map<string, number>();
+		for (let j = 0; j < model.numCols; j++)
+			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++)
+				entries.set(`${model.indices[k]} ${j}`, model.values[k]!);
+		expect(written).toEqual(entries);
+		for (const [r, [lower, upper]] of rowBounds) {
+			expect(lower).toBe(model.rowLower[r]);
+			expect(upper).toBe(model.rowUpper[r]);
+		}
+		expect(text.match(/^ \S+ <= x\d+ <= \S+$/gm)).toHaveLength(model.numCols);
+		expect(text.split('\nGeneral\n')[1]!.split('\n')[0]!.trim().split(' ')).toHaveLength(model.integers);
 	});
 });
 
