@@ -177,19 +177,20 @@ interface Measure {
 	size: string;
 	mode: Mode;
 	timeLimit: number;
-	buildMs: number;
+	/** Null, as the other figures, when the case's process died. */
+	buildMs: number | null;
 	/** Total less build; null when the engine gave no result. */
 	solveMs: number | null;
-	totalMs: number;
-	peakRssMb: number;
+	totalMs: number | null;
+	peakRssMb: number | null;
 	status: string;
-	/** Why the engine gave no result (it refused the model, or a solver thread failed). */
+	/** Why the engine gave no result (it refused the model, a solver thread failed, the process died). */
 	message?: string;
 	method: string | null;
 	objective: number | null;
 	bound: number | null;
 	gap: number | null;
-	integers: number;
+	integers: number | null;
 	glpk: { ms: number; objective: number | null; status: string } | null;
 	cbc: (Reference & { version: string | null; preprocess: 'off' | null }) | null;
 }
@@ -488,8 +489,28 @@ function childMeasure(size: string, mode: Mode, args: BenchArgs): Measure {
 		encoding: 'utf8',
 		maxBuffer: 16 * 1024 * 1024
 	});
-	if (child.status !== 0) throw new Error(`bench ${size} ${mode} failed: ${child.stderr}`);
-	return JSON.parse(child.stdout.trim().split('\n').at(-1)!) as Measure;
+	if (child.status === 0) return JSON.parse(child.stdout.trim().split('\n').at(-1)!) as Measure;
+	// A case whose process died (out of memory, say) is a result too; the run goes on to the next.
+	const lines = (child.stderr ?? '').split('\n').filter((l) => l.trim());
+	const reason = lines.find((l) => /error/i.test(l)) ?? lines.at(-1) ?? '';
+	return {
+		size,
+		mode,
+		timeLimit: args.timeLimit,
+		buildMs: null,
+		solveMs: null,
+		totalMs: null,
+		peakRssMb: null,
+		status: 'crashed',
+		message: `the process ended with ${child.signal ?? `exit code ${child.status}`}: ${reason.trim()}`,
+		method: null,
+		objective: null,
+		bound: null,
+		gap: null,
+		integers: null,
+		glpk: null,
+		cbc: null
+	};
 }
 
 const fixed = (n: number | null | undefined, digits = 0) =>
@@ -504,7 +525,7 @@ export function benchTable(results: Measure[]): string {
 	for (const r of results) {
 		const glpk = r.glpk ? (r.glpk.objective === null ? r.glpk.status : r.glpk.objective.toFixed(2)) : '-';
 		lines.push(
-			`| ${r.size} | ${r.mode} | ${r.status} | ${r.method ?? '-'} | ${fixed(r.buildMs)} | ${fixed(r.solveMs)} | ${fixed(r.totalMs)} | ${fixed(r.peakRssMb)} | ${fixed(r.objective, 2)} | ${fixed(r.bound, 2)} | ${exponent(r.gap)} | ${fixed(r.glpk?.ms)} | ${glpk} | ${r.cbc?.status ?? 'skipped'} | ${fixed(r.cbc?.ms)} | ${fixed(r.cbc?.objective, 2)} | ${fixed(r.cbc?.bound, 2)} | ${exponent(r.cbc?.gap)} |`
+			`| ${r.size} | ${r.mode} | ${r.status} | ${r.method ?? '-'} | ${fixed(r.buildMs)} | ${fixed(r.solveMs)} | ${fixed(r.totalMs)} | ${fixed(r.peakRssMb)} | ${fixed(r.objective, 2)} | ${fixed(r.bound, 2)} | ${exponent(r.gap)} | ${fixed(r.glpk?.ms)} | ${glpk} | ${r.cbc?.status ?? (r.status === 'crashed' ? '-' : 'skipped')} | ${fixed(r.cbc?.ms)} | ${fixed(r.cbc?.objective, 2)} | ${fixed(r.cbc?.bound, 2)} | ${exponent(r.cbc?.gap)} |`
 		);
 	}
 	const notes = results.filter((r) => r.message).map((r) => `- ${r.size} ${r.mode}: ${r.message}`);
@@ -536,9 +557,14 @@ async function main(argv: string[]): Promise<number> {
 	const results: Measure[] = [];
 	for (const { size, mode } of args.cases) {
 		const runs = Array.from({ length: args.repeat }, () => childMeasure(size, mode, args));
-		const pick = runs.find((r) => r.totalMs === median(runs.map((x) => x.totalMs)))!;
+		const pick =
+			runs.find((r) => r.totalMs === null) ??
+			runs.find((r) => r.totalMs === median(runs.map((x) => x.totalMs!)))!;
 		results.push(pick);
-		if (!args.json) process.stderr.write(`${size} ${mode}: ${Math.round(pick.totalMs)} ms\n`);
+		if (!args.json)
+			process.stderr.write(
+				`${size} ${mode}: ${pick.totalMs === null ? pick.status : `${Math.round(pick.totalMs)} ms`}\n`
+			);
 	}
 	if (args.json) console.log(JSON.stringify(results, null, 2));
 	else console.log(benchTable(results));
