@@ -13,6 +13,7 @@ import {
 } from '../support/events';
 import { latestMailTo, mailTo } from '../support/mail';
 import { mailApi } from '../support/env';
+import { finished, post } from '../support/runs';
 
 afterAll(closeTestDb);
 
@@ -29,30 +30,6 @@ let approver: { user: TestUser; client: Browserless };
 let a: Party;
 let b: Party;
 let event: TestEvent;
-
-/** Waits until the run has ended and returns it. */
-async function finished(client: Browserless, runId: string) {
-	for (let k = 0; k < 120; k++) {
-		const run = await json(await client.get(`/api/runs/${runId}`, 'application/json'));
-		// Ended, and its explanation (rule costs, sensitivity; worked out after the allocation) stored too.
-		if (
-			!['queued', 'running'].includes(String(run.status)) &&
-			!['pending', 'running'].includes(String(run.explanationStatus))
-		)
-			return run;
-		await new Promise((r) => setTimeout(r, 250));
-	}
-	throw new Error('the run did not end in time');
-}
-
-async function post(client: Browserless, path: string, body: unknown) {
-	return client.request(path, {
-		method: 'POST',
-		body: JSON.stringify(body),
-		headers: { 'content-type': 'application/json' },
-		accept: 'application/json'
-	});
-}
 
 beforeAll(async () => {
 	[buyer, approver, a, b] = await Promise.all([

@@ -14,6 +14,7 @@ import {
 	uploadSheet,
 	type TestEvent
 } from '../support/events';
+import { finished, post } from '../support/runs';
 
 afterAll(closeTestDb);
 
@@ -87,20 +88,9 @@ describe('whole units and pack sizes in a sourcing event', () => {
 		await untilPast(new Date(deadline.deadline));
 		const plans = (await json(await buyer.client.get(`/api/events/${event.id}/plans`, 'application/json')))
 			.plans as { id: string; lowestCost: boolean }[];
-		const started = await buyer.client.request(`/api/plans/${plans.find((p) => p.lowestCost)!.id}/runs`, {
-			method: 'POST',
-			body: '{}',
-			headers: { 'content-type': 'application/json' },
-			accept: 'application/json'
-		});
+		const started = await post(buyer.client, `/api/plans/${plans.find((p) => p.lowestCost)!.id}/runs`, {});
 		expect(started.status).toBe(202);
-		const runId = (await json(started)).runId as string;
-		let run: Record<string, unknown> = {};
-		for (let k = 0; k < 120; k++) {
-			run = await json(await buyer.client.get(`/api/runs/${runId}`, 'application/json'));
-			if (!['queued', 'running'].includes(String(run.status))) break;
-			await new Promise((r) => setTimeout(r, 250));
-		}
+		const run = await finished(buyer.client, (await json(started)).runId as string);
 		expect(run.status).toBe('done');
 		const result = run.result as {
 			status: string;
