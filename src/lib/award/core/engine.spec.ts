@@ -308,6 +308,28 @@ describe('the LP-guided method for large models', () => {
 		expect((guided.totalCost! - guided.bound!) / guided.totalCost!).toBeCloseTo(guided.gap!, 9);
 	});
 
+	it('never awards a quantity the MIP solver let through a tier it switched off', async () => {
+		// Found on this seeded event: HiGHS accepts a yes/no column within 1e-6 of 0 as 0, and x <= M·z let
+		// 2.6e-6 units of IT-228 through on S24's price-break tier with z "0": an award at a price the bid
+		// does not give, a fourth supplier on an item capped at three, under the minimum award.
+		const base = generateProblem({
+			items: 300,
+			suppliers: 25,
+			seed: 14,
+			capacity: true,
+			priceBreaks: true,
+			bundles: 3,
+			rules: benchmarkRules
+		});
+		const problem = {
+			...base,
+			suppliers: base.suppliers.map((s) => ({ ...s, capacity: Math.round(s.capacity! * 0.6) }))
+		};
+		const result = await solveAward(problem, pool, { method: 'lp_guided' });
+		expect(result.violations).toEqual([]);
+		expect(result.status).toBe('optimal');
+	});
+
 	it('is chosen by default above the full-MIP size', async () => {
 		const problem = generateProblem({
 			items: 600,

@@ -35,12 +35,40 @@ export function tierQuantity(model: AwardModel, column: number, value: number): 
 	return model.integrality[column] ? round(Math.round(value) * step) : value * step;
 }
 
-export function awardLines(problem: AwardProblem, model: AwardModel, columns: Float64Array): AwardLine[] {
+/**
+ * Tiers and (supplier, item) pairs whose yes/no column the solver left at 0. A MIP solver accepts a
+ * binary within its integrality tolerance of 0 (HiGHS: 1e-6), and x <= M·z then lets a tiny quantity
+ * through on a tier or a win that is "not used" (2.6e-6 units at a price the bid does not give): such a
+ * quantity is not an award.
+ */
+function switchedOff(model: AwardModel, columns: Float64Array) {
+	const tiers = new Set<string>();
+	const pairs = new Set<string>();
+	model.columns.forEach((meaning, j) => {
+		if (columns[j]! >= 0.5) return;
+		if (meaning.kind === 'tier_used') tiers.add(`${meaning.bid}|${meaning.tier}`);
+		if (meaning.kind === 'wins') pairs.add(`${meaning.supplier}\u0000${meaning.item}`);
+	});
+	return { tiers, pairs };
+}
+
+/** `mip`: the columns are a MIP solver's answer (its yes/no columns mean 0 or 1), not an LP's. */
+export function awardLines(
+	problem: AwardProblem,
+	model: AwardModel,
+	columns: Float64Array,
+	mip = false
+): AwardLine[] {
 	const lines: AwardLine[] = [];
 	const byBid = new Map<number, { quantity: number; cost: number }>();
+	const off = mip ? switchedOff(model, columns) : { tiers: new Set<string>(), pairs: new Set<string>() };
+	const isOff = (bid: number, tier: number) => {
+		const b = problem.bids[bid]!;
+		return off.tiers.has(`${bid}|${tier}`) || off.pairs.has(`${b.supplier}\u0000${b.item}`);
+	};
 	model.columns.forEach((meaning, j) => {
 		const value = columns[j]!;
-		if (meaning.kind === 'tier' && value > EPSILON) {
+		if (meaning.kind === 'tier' && value > EPSILON && !isOff(meaning.bid, meaning.tier)) {
 			const quantity = tierQuantity(model, j, value);
 			if (quantity === 0) return;
 			const entry = byBid.get(meaning.bid) ?? { quantity: 0, cost: 0 };

@@ -83,7 +83,9 @@ export async function solveDecomposed(
 			objective !== null && bound !== null
 				? Math.abs(objective - bound) / Math.max(1e-9, Math.abs(objective))
 				: null,
-		lines: usable ? parts.flatMap((p) => awardLines(p.part, p.partModel, p.outcome.columns!)) : [],
+		lines: usable
+			? parts.flatMap((p) => awardLines(p.part, p.partModel, p.outcome.columns!, p.outcome.isMip))
+			: [],
 		seconds: parts.reduce((a, p) => Math.max(a, p.outcome.seconds), 0),
 		uncovered: whole.uncovered,
 		modelSize: modelSize(whole)

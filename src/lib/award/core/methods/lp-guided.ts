@@ -287,7 +287,7 @@ export async function solveLpGuided(
 					uncovered: relaxed.uncovered
 				};
 			}
-			partLines = awardLines(part, partModel, outcome.columns!);
+			partLines = awardLines(part, partModel, outcome.columns!, outcome.isMip);
 		}
 		const totals = usedBy(partLines);
 		for (const [s, cap] of capacityLeft) free.set(s, cap - (totals.get(s) ?? 0));
@@ -388,7 +388,7 @@ async function lagrangianBatches(
 			}
 			const atLp = items.reduce((sum, i) => sum + (lpCost.get(i) ?? 0), 0);
 			// Same structure, original prices: the columns read as the candidate's lines at cost c.
-			const candidate = awardLines(plain, buildModel(plain), outcome.columns);
+			const candidate = awardLines(plain, buildModel(plain), outcome.columns, outcome.isMip);
 			return { gain: Math.max(0, outcome.bound - atLp), candidate };
 		})
 	);

@@ -19,7 +19,7 @@ export async function solveWhole(
 		objective: outcome.objective,
 		bound: outcome.bound,
 		gap: outcome.gap,
-		lines: usable(outcome.status) ? awardLines(problem, model, outcome.columns!) : [],
+		lines: usable(outcome.status) ? awardLines(problem, model, outcome.columns!, outcome.isMip) : [],
 		seconds: outcome.seconds,
 		uncovered: model.uncovered,
 		modelSize: modelSize(model)
