@@ -4,7 +4,7 @@
 import GLPK, { type LP } from 'glpk.js/node';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { solveAward } from './engine';
-import { crossCheckCases, wholeUnitCases } from '../tools/generate';
+import { crossCheckCases, linkedCases, wholeUnitCases } from '../tools/generate';
 import { SolverPool } from '../runtime/pool';
 import type { AwardProblem, AwardRule } from './problem';
 
@@ -396,5 +396,58 @@ describe('whole units and packs against glpk.js with integer quantities', () => 
 		}
 		// 18 of the 36 when this was written (every case the whole-unit rules leave feasible).
 		expect(split).toBeGreaterThanOrEqual(15);
+	});
+});
+
+const linked = linkedCases();
+
+describe('relaxing the links (method lagrangian) against glpk.js', () => {
+	// The method may stop short of the optimum, but what it reports must hold against the independent
+	// solver: its bound never above glpk.js's optimum, its award never below it and keeping every rule,
+	// "optimal" only at glpk.js's optimum, and no award at all where glpk.js finds none.
+	const outcomes: { seed: number; status: string }[] = [];
+	it.each(linked)('reports a bound and an award glpk.js confirms (seed $seed)', async ({ seed, problem }) => {
+		const mine = await solveAward(problem, pool, { method: 'lagrangian' });
+		expect(mine.method).toBe('lagrangian');
+		outcomes.push({ seed, status: mine.status });
+		const theirs = glpk.solve(glpkFormulation(problem, glpk), { msglev: glpk.GLP_MSG_OFF, mipgap: 0 });
+		if (theirs.result.status !== glpk.GLP_OPT) {
+			expect(theirs.result.status).toBe(glpk.GLP_NOFEAS);
+			expect(['infeasible', 'no_solution_in_time']).toContain(mine.status);
+			expect(mine.awards).toEqual([]);
+			return;
+		}
+		const optimum = theirs.result.z;
+		const tolerance = 1e-6 * Math.max(1, Math.abs(optimum));
+		expect(mine.bound).not.toBeNull();
+		expect(mine.bound!).toBeLessThanOrEqual(optimum + tolerance);
+		if (mine.status === 'no_solution_in_time') return;
+		expect(['optimal', 'feasible']).toContain(mine.status);
+		expect(mine.violations).toEqual([]);
+		expect(mine.totalCost!).toBeGreaterThanOrEqual(optimum - tolerance);
+		expect(mine.gap!).toBeCloseTo((mine.totalCost! - mine.bound!) / mine.totalCost!, 9);
+		if (mine.status === 'optimal') expect(Math.abs(mine.totalCost! - optimum)).toBeLessThanOrEqual(tolerance);
+	});
+
+	it('finds an award in most cases and proves some optimal', () => {
+		// 22 awards (8 proven optimal) of the 24 cases, 2 infeasible, when this was written.
+		expect(
+			outcomes.filter((o) => o.status === 'optimal' || o.status === 'feasible').length
+		).toBeGreaterThanOrEqual(18);
+		expect(outcomes.filter((o) => o.status === 'optimal').length).toBeGreaterThanOrEqual(4);
+		const kinds = new Set(
+			linked.flatMap((c) =>
+				c.problem.rules.map((r) => JSON.stringify([r.type, 'scope' in r ? r.scope : null]))
+			)
+		);
+		for (const kind of [
+			'["max_share",{"lot":"L1"}]',
+			'["supplier_count",{"lot":"L2"}]',
+			'["min_share","event"]',
+			'["supplier_count","event"]',
+			'["max_spend","event"]',
+			'["award_fixed_cost",null]'
+		])
+			expect(kinds).toContain(kind);
 	});
 });

@@ -3,14 +3,14 @@ import type { AwardModel } from './model-builder';
 import type { AwardLine, SupplierTotal } from './result';
 import type { SolveOptions, SolveStatus } from './solver';
 
-export type Method = 'lp' | 'mip' | 'decomposed' | 'lp_guided';
+export type Method = 'lp' | 'mip' | 'decomposed' | 'lp_guided' | 'lagrangian';
 
 export interface AwardOptions extends SolveOptions {
 	/**
 	 * `auto`: independent item groups are solved apart when integers are needed; a single large group
 	 * goes LP-guided. `monolithic` always solves one full model.
 	 */
-	method?: 'auto' | 'monolithic' | 'decomposed' | 'lp_guided';
+	method?: 'auto' | 'monolithic' | 'decomposed' | 'lp_guided' | 'lagrangian';
 	/** Compute rule costs, conflicts and sensitivity with the allocation (else explainAward does later). */
 	explain?: boolean;
 }

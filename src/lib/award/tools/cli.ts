@@ -1,4 +1,4 @@
-// npm run --silent award -- problem.json [--time-limit S] [--gap G] [--explain] [--method auto|monolithic|decomposed|lp_guided]
+// npm run --silent award -- problem.json [--time-limit S] [--gap G] [--explain] [--method auto|monolithic|decomposed|lp_guided|lagrangian]
 // Prints the result as JSON on stdout. Exit 0 when it solved or proved infeasible (the status says
 // which), 1 when the solver failed, 2 on invalid input (one message per problem on stderr).
 import { readFileSync } from 'node:fs';
@@ -33,9 +33,9 @@ const number = (name: string, text: string | undefined) => {
 };
 const timeLimit = number('time-limit', values['time-limit']);
 const gap = number('gap', values.gap);
-const method = values.method as 'auto' | 'monolithic' | 'decomposed' | 'lp_guided';
-if (!['auto', 'monolithic', 'decomposed', 'lp_guided'].includes(method))
-	fail([`--method: must be auto, monolithic, decomposed or lp_guided, not "${method}"`]);
+const method = values.method as 'auto' | 'monolithic' | 'decomposed' | 'lp_guided' | 'lagrangian';
+if (!['auto', 'monolithic', 'decomposed', 'lp_guided', 'lagrangian'].includes(method))
+	fail([`--method: must be auto, monolithic, decomposed, lp_guided or lagrangian, not "${method}"`]);
 
 let input: unknown;
 try {

@@ -250,3 +250,66 @@ export function wholeUnitCases(): { seed: number; problem: AwardProblem }[] {
 		return { seed, problem: { ...problem, items, bids, bundles, rules } };
 	});
 }
+
+/**
+ * Seeded problems where rules link items, for the relaxation of the links (methods/linked.ts) against
+ * glpk.js: 10-16 items, 4-6 suppliers, two lots, capacities in a third, price breaks in half, a bundle in a quarter, and in each
+ * case one or more of the linking rules (a lot spend cap, a lot supplier floor, a small-business floor
+ * over the event, an event supplier cap, a spend cap, a fixed cost per supplier), with the item rules in
+ * half of them.
+ */
+export function linkedCases(count = 24): { seed: number; problem: AwardProblem }[] {
+	return Array.from({ length: count }, (_, k) => {
+		const seed = 5000 + k;
+		const random = seededRandom(seed * 11);
+		const problem = generateProblem({
+			items: 10 + (k % 7),
+			suppliers: 4 + (k % 3),
+			seed,
+			// With the item rules (a 60% cap on each item) every supplier bids, so no item has one bidder.
+			bidShare: k % 2 === 0 ? 1 : 0.7,
+			lots: 2,
+			priceBreaks: k % 2 === 1,
+			bundles: k % 4 === 0 ? 1 : 0,
+			capacity: k % 3 === 0,
+			smallBusinessEvery: 3
+		});
+		const supplier = problem.suppliers[Math.floor(random() * problem.suppliers.length)]!.ref;
+		const baseline = problem.items.reduce((a, i) => a + i.quantity * (i.baselineUnitPrice ?? 0), 0);
+		const linking: AwardRule[] = [
+			{ type: 'max_share', scope: { lot: 'L1' }, who: 'each_supplier', percent: 50, label: 'lot cap' },
+			{ type: 'supplier_count', scope: { lot: 'L2' }, min: 2, label: 'two in lot L2' },
+			{
+				type: 'min_share',
+				scope: 'event',
+				who: { tag: 'small_business' },
+				percent: 15,
+				label: 'small-business floor'
+			},
+			{
+				type: 'supplier_count',
+				scope: 'event',
+				max: problem.suppliers.length - 1,
+				label: 'fewer suppliers'
+			},
+			{
+				type: 'max_spend',
+				scope: 'event',
+				who: { supplier },
+				amount: Math.round(baseline / problem.suppliers.length),
+				label: 'spend cap'
+			},
+			{
+				type: 'award_fixed_cost',
+				amount: Math.round((0.03 * baseline) / problem.suppliers.length),
+				per: 'supplier',
+				label: 'award cost'
+			}
+		];
+		// At least one linking rule in every case, each in about half of them.
+		const chosen = linking.filter(() => random() < 0.5);
+		if (!chosen.length) chosen.push(linking[k % linking.length]!);
+		problem.rules = [...(k % 2 === 0 ? benchmarkRules : []), ...chosen];
+		return { seed, problem };
+	});
+}

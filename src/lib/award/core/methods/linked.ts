@@ -1,0 +1,503 @@
+// "Relax the links" (method `lagrangian`): for large events whose rules link items (capacities, lot
+// and event shares and spend caps, lot and event supplier counts, fixed costs per supplier, bundles).
+//
+// The bound (Lagrangian relaxation, Held and Karp 1971; Fisher 1981, Management Science 27(1)): price
+// every linking row at its LP dual μ (blocks.ts says which rows link); then the items fall apart, each
+// a small exact MIP at the prices c − Aᵀμ. An item whose LP split is already whole (once its yes/no
+// choices are rounded up) and costs the same at those prices needs no solve: by complementary slackness
+// it is optimal for its own LP, hence for its MIP. The others are solved in batches on the pool:
+//   L(μ) = Σ_items min_item (c − Aᵀμ)x + Σ_rows μ·(bound the dual points at)  ≤  the optimum,
+// and L(μ) ≥ the LP bound. An item left unsolved when time runs out counts at its LP value (still a
+// bound). The global block (a supplier winning part of a lot or the event, with the lot and event
+// supplier counts over them) is one small MIP at its prices.
+//
+// The award (repair): the global block's answer at those prices chooses the suppliers that may win in
+// each lot and over the event (the rest are shut out), and the LP is solved again under that choice.
+// Items whose split is already whole keep it; the others take their own MIP's answer where it keeps
+// every linking row with what the rest holds, and are otherwise solved again in turn as small MIPs that
+// keep the linking rows (with a penalised give-way, so one batch never blocks the pass), the rest held
+// where it stands (relax-and-fix). A last small MIP sets the group indicators (fixed costs, counts).
+// When a linking row still does not hold, the method has no award; choose.ts then falls back to the
+// full MIP in the time left.
+import { buildModel, type AwardModel } from '../model';
+import type { AwardProblem } from '../problem';
+import { awardLines } from '../result';
+import type { SolveOptions, SolveOutcome, Solver } from '../solver';
+import { modelSize, type Solved } from '../types';
+import { GLOBAL, LINKING, blocksOf, rowActivities, rowExcess, subModel, type Blocks } from './blocks';
+import type { Clock } from './clock';
+
+/** Items per sub-MIP (independent blocks solved in one model). */
+const BATCH_ITEMS = 25;
+/** A value this close to a whole number is taken as whole. */
+const WHOLE = 1e-6;
+/** Relative excess of a row still taken as kept (HiGHS's feasibility tolerance is 1e-7 absolute). */
+const KEPT = 1e-7;
+/** The same for the award at the end, its integer columns rounded: HiGHS keeps MIP rows to 1e-6. */
+const FINAL = 1e-6;
+
+export interface LinkedOutcome extends Solved {
+	/** Best award's columns in the whole model, for a caller that goes on from it. */
+	columns: Float64Array | null;
+}
+
+/** Prices on the linking rows and the Lagrangian costs and constant they give. */
+function lagrangianPrices(model: AwardModel, blocks: Blocks, duals: Float64Array) {
+	const mu = new Float64Array(model.numRows);
+	let constant = 0;
+	for (let r = 0; r < model.numRows; r++) {
+		if (blocks.rowBlock[r] !== LINKING) continue;
+		const lower = model.rowLower[r]!;
+		const upper = model.rowUpper[r]!;
+		let y = duals[r]!;
+		// A dual must point at a finite bound: ≥ 0 on a lower bound, ≤ 0 on an upper one.
+		if (!Number.isFinite(lower)) y = Math.min(0, y);
+		if (!Number.isFinite(upper)) y = Math.max(0, y);
+		mu[r] = y;
+		if (y > 0) constant += y * lower;
+		else if (y < 0) constant += y * upper;
+	}
+	const costs = Float64Array.from(model.colCost);
+	for (let j = 0; j < model.numCols; j++)
+		for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
+			const y = mu[model.indices[k]!]!;
+			if (y !== 0) costs[j]! -= y * model.values[k]!;
+		}
+	return { costs, constant };
+}
+
+/** The LP point with each integer column rounded up (a yes/no choice the LP took in part becomes yes). */
+function roundedUp(model: AwardModel, x: Float64Array): Float64Array {
+	const out = Float64Array.from(x);
+	for (let j = 0; j < model.numCols; j++) {
+		if (!model.integrality[j]) continue;
+		const v = x[j]!;
+		out[j] = Math.abs(v - Math.round(v)) <= WHOLE ? Math.round(v) : Math.ceil(v);
+		out[j] = Math.min(out[j]!, model.colUpper[j]!);
+	}
+	return out;
+}
+
+/**
+ * Blocks whose rounded LP split keeps their own rows and costs what the LP split costs at the given
+ * prices: for them the LP answer is their MIP answer.
+ */
+function wholeBlocks(
+	model: AwardModel,
+	blocks: Blocks,
+	lp: Float64Array,
+	rounded: Float64Array,
+	costs: Float64Array
+): boolean[] {
+	const whole = blocks.columnsOf.map((columns) => {
+		let change = 0;
+		let scale = 1;
+		for (const j of columns) {
+			change += costs[j]! * (rounded[j]! - lp[j]!);
+			scale += Math.abs(costs[j]! * lp[j]!);
+		}
+		return Math.abs(change) <= 1e-9 * scale;
+	});
+	const activity = rowActivities(model, blocks, rounded);
+	for (let r = 0; r < model.numRows; r++) {
+		const b = blocks.rowBlock[r]!;
+		if (b >= 0 && whole[b] && rowExcess(model, r, activity[r]!) > KEPT) whole[b] = false;
+	}
+	return whole;
+}
+
+interface BlockSolves {
+	/** L(μ): a lower bound on the model's optimum. */
+	bound: number;
+	/** Each block's own MIP answer at the prices (rounded LP for the blocks not solved). */
+	candidate: Float64Array;
+	/** Blocks solved (their rounded LP split was not their answer). */
+	solved: Set<number>;
+	whole: boolean[];
+	/** The global block's answer at the prices (null when it has no integer column). */
+	global: Float64Array | null;
+}
+
+/**
+ * For each group indicator (s wins part of group G), the share of G's spend the LP gave s, in [0, 1]:
+ * how much the LP relied on that supplier there.
+ */
+function groupSpend(problem: AwardProblem, model: AwardModel, x: Float64Array): number[] {
+	const spend = new Map<string, number>();
+	const add = (key: string, value: number) => spend.set(key, (spend.get(key) ?? 0) + value);
+	const lotOf = new Map(problem.items.map((i) => [i.ref, i.lot]));
+	model.columns.forEach((c, j) => {
+		const value = x[j]!;
+		if (value <= 0) return;
+		const record = (supplier: string, item: string, amount: number) => {
+			add(`${supplier}\u0000event`, amount);
+			add('\u0000event', amount);
+			const lot = lotOf.get(item);
+			if (lot !== undefined) {
+				add(`${supplier}\u0000lot:${lot}`, amount);
+				add(`\u0000lot:${lot}`, amount);
+			}
+		};
+		if (c.kind === 'tier') {
+			const bid = problem.bids[c.bid]!;
+			record(bid.supplier, bid.item, value * model.colCost[j]!);
+		}
+		if (c.kind === 'bundle') {
+			const bundle = problem.bundles[c.bundle]!;
+			const first = bundle.items[0]!.item;
+			record(bundle.supplier, first, value * bundle.price);
+		}
+	});
+	return model.columns.map((c) =>
+		c.kind === 'wins_group'
+			? (spend.get(`${c.supplier}\u0000${c.group}`) ?? 0) / Math.max(1e-9, spend.get(`\u0000${c.group}`) ?? 0)
+			: 0
+	);
+}
+
+/** Lagrangian solve of every block at the LP's duals. */
+async function solveBlocks(
+	problem: AwardProblem,
+	model: AwardModel,
+	blocks: Blocks,
+	lp: SolveOutcome,
+	solver: Solver,
+	clock: Clock,
+	options: SolveOptions
+): Promise<BlockSolves> {
+	const x = lp.columns!;
+	const { costs, constant } = lagrangianPrices(model, blocks, lp.rowDuals!);
+	const rounded = roundedUp(model, x);
+	const whole = wholeBlocks(model, blocks, x, rounded, costs);
+	const candidate = Float64Array.from(rounded);
+	const atLp = (columns: readonly number[]) => columns.reduce((a, j) => a + costs[j]! * x[j]!, 0);
+	let bound = constant;
+	for (let j = 0; j < model.numCols; j++) bound += costs[j]! * x[j]!;
+	const skipRow = (r: number) => blocks.rowBlock[r] === LINKING;
+	const broken = blocks.columnsOf.flatMap((_, b) => (whole[b] ? [] : [b]));
+	const batches: number[][] = [];
+	for (let k = 0; k < broken.length; k += BATCH_ITEMS) batches.push(broken.slice(k, k + BATCH_ITEMS));
+	const solved = new Set<number>();
+	const gap = Math.min(options.gap ?? 1e-6, 1e-6);
+	const jobs: Promise<void>[] = batches.map(async (batch) => {
+		const left = clock.left();
+		if (left <= 0) return;
+		const free = batch.flatMap((b) => blocks.columnsOf[b]!);
+		const cut = subModel(model, blocks, free, x, { costs, skipRow });
+		const outcome = await solver.solve(cut.model, { timeLimit: left, gap });
+		if (outcome.bound === null || !Number.isFinite(outcome.bound)) return;
+		bound += Math.max(0, outcome.bound - atLp(free));
+		if (outcome.columns) cut.columns.forEach((j, p) => j >= 0 && (candidate[j] = outcome.columns![p]!));
+		for (const b of batch) solved.add(b);
+	});
+	let global: Float64Array | null = null;
+	const choices = blocks.globalColumns.filter((j) => model.integrality[j]);
+	if (choices.length) {
+		jobs.push(
+			(async () => {
+				// At the LP's duals a group indicator the LP uses costs about 0 (LP optimality), so ties
+				// are broken towards the suppliers the LP used most.
+				const tieBroken = Float64Array.from(costs);
+				const scale = 1e-6 * Math.max(1, Math.abs(lp.objective!) / Math.max(1, choices.length));
+				const usage = groupSpend(problem, model, x);
+				for (const j of blocks.globalColumns) tieBroken[j] = costs[j]! - scale * (usage[j] ?? 0);
+				const cut = subModel(model, blocks, blocks.globalColumns, x, {
+					costs: tieBroken,
+					skipRow: (r) => blocks.rowBlock[r] !== GLOBAL
+				});
+				const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
+				if (outcome.bound === null || !outcome.columns) return;
+				bound += Math.max(0, outcome.bound - atLp(blocks.globalColumns));
+				global = Float64Array.from(x);
+				cut.columns.forEach((j, p) => j >= 0 && (global![j] = outcome.columns![p]!));
+			})()
+		);
+	}
+	await Promise.all(jobs);
+	return { bound, candidate, solved, whole, global };
+}
+
+/** Columns of the group indicators that count in a lot or event supplier count (rows of the global block). */
+function countedGroupColumns(model: AwardModel, blocks: Blocks): Set<number> {
+	const counted = new Set<number>();
+	for (let r = 0; r < model.numRows; r++) {
+		if (blocks.rowBlock[r] !== GLOBAL) continue;
+		for (let k = blocks.rowStarts[r]!; k < blocks.rowStarts[r + 1]!; k++) counted.add(blocks.rowColumns[k]!);
+	}
+	return counted;
+}
+
+/** A choice of suppliers: the group indicators left open (shut ones are held at 0). */
+function withOpen(model: AwardModel, shuttable: readonly number[], open: ReadonlySet<number>): AwardModel {
+	const colLower = Float64Array.from(model.colLower);
+	const colUpper = Float64Array.from(model.colUpper);
+	for (const j of shuttable) if (!open.has(j)) colUpper[j] = colLower[j] = 0;
+	return { ...model, colLower, colUpper };
+}
+
+interface Choice {
+	open: Set<number>;
+	model: AwardModel;
+	lp: SolveOutcome;
+	/** The LP under this choice, with the fixed cost of each open supplier counted in full. */
+	value: number;
+}
+
+/** Most LP solves the supplier search makes, and the share of the time limit it may take. */
+const SEARCH_SOLVES = 8;
+const SEARCH_SHARE = 0.25;
+
+/**
+ * The suppliers that may win in each lot and over the event (the group indicators that count in a
+ * supplier count or carry a fixed cost): first the global block's answer at the Lagrangian prices,
+ * then a local search guided by the LP (shut the open supplier the LP relies on least where it carries
+ * a fixed cost; swap it for the shut one the first LP relied on most where a count caps them), each
+ * choice priced by its LP, the fixed costs of open suppliers in full.
+ */
+async function chooseSuppliers(
+	problem: AwardProblem,
+	model: AwardModel,
+	blocks: Blocks,
+	lp: SolveOutcome,
+	global: Float64Array,
+	solver: Solver,
+	clock: Clock
+): Promise<Choice | null> {
+	const counted = countedGroupColumns(model, blocks);
+	const shuttable = blocks.globalColumns.filter(
+		(j) => model.integrality[j] && (model.colCost[j]! > 0 || counted.has(j))
+	);
+	if (!shuttable.length) return null;
+	const firstUse = groupSpend(problem, model, lp.columns!);
+	const keepsCounts = (open: ReadonlySet<number>) => {
+		for (let r = 0; r < model.numRows; r++) {
+			if (blocks.rowBlock[r] !== GLOBAL) continue;
+			let sum = 0;
+			for (let k = blocks.rowStarts[r]!; k < blocks.rowStarts[r + 1]!; k++)
+				if (open.has(blocks.rowColumns[k]!)) sum += blocks.rowValues[k]!;
+			if (sum > model.rowUpper[r]! + 1e-9) return false;
+		}
+		return true;
+	};
+	const evaluate = async (open: Set<number>): Promise<Choice | null> => {
+		const restricted = withOpen(model, shuttable, open);
+		const outcome = await solver.solve(restricted, { timeLimit: Math.max(1, clock.left()), relax: true });
+		if (outcome.status !== 'optimal' || !outcome.columns || !outcome.rowDuals) return null;
+		let value = outcome.objective!;
+		for (const j of open) value += model.colCost[j]! * (1 - outcome.columns[j]!);
+		return { open, model: restricted, lp: outcome, value };
+	};
+	let best = await evaluate(new Set(shuttable.filter((j) => global[j]! > 0.5)));
+	if (!best) return null;
+	const deadline = clock.elapsed() + SEARCH_SHARE * (clock.elapsed() + clock.left());
+	const tried = new Set<string>();
+	for (let solves = 1; solves < SEARCH_SOLVES && clock.elapsed() < deadline;) {
+		const use = groupSpend(problem, model, best.lp.columns!);
+		const openList = [...best.open].sort((a, b) => use[a]! - use[b]!);
+		const moves: Set<number>[] = [];
+		for (const j of openList.slice(0, 3)) {
+			if (model.colCost[j]! > 0) moves.push(new Set([...best.open].filter((k) => k !== j)));
+			if (!counted.has(j)) continue;
+			const meaning = model.columns[j]!;
+			const group = meaning.kind === 'wins_group' ? meaning.group : '';
+			const entering = shuttable
+				.filter((k) => !best!.open.has(k) && counted.has(k))
+				.filter((k) => {
+					const m = model.columns[k]!;
+					return m.kind === 'wins_group' && m.group === group;
+				})
+				.sort((a, b) => firstUse[b]! - firstUse[a]!)[0];
+			if (entering !== undefined) moves.push(new Set([...best.open].filter((k) => k !== j).concat(entering)));
+		}
+		let improved = false;
+		for (const open of moves) {
+			const key = [...open].sort((a, b) => a - b).join(',');
+			if (tried.has(key) || !keepsCounts(open)) continue;
+			tried.add(key);
+			if (solves++ >= SEARCH_SOLVES || clock.elapsed() >= deadline) break;
+			const choice = await evaluate(open);
+			if (choice && choice.value < best.value - 1e-9 * Math.abs(best.value)) {
+				best = choice;
+				improved = true;
+				break;
+			}
+		}
+		if (!improved) break;
+	}
+	return best;
+}
+
+interface Repair {
+	columns: Float64Array | null;
+	/** Largest relative excess of a row at the end (0 when the award keeps every row). */
+	excess: number;
+}
+
+/**
+ * Relax-and-fix over the blocks the LP did not settle: each takes its own MIP's answer when that keeps
+ * the rows it shares, else is solved again with the rest held.
+ */
+async function repair(
+	model: AwardModel,
+	blocks: Blocks,
+	lp: Float64Array,
+	solves: BlockSolves,
+	solver: Solver,
+	clock: Clock,
+	options: SolveOptions
+): Promise<Repair> {
+	// Settled blocks rounded, the others at their LP split until their turn; the group indicators left
+	// free by the supplier choice open (a chosen supplier may win), until the last step sets them.
+	const current = roundedUp(model, lp);
+	solves.whole.forEach((whole, b) => {
+		if (!whole) for (const j of blocks.columnsOf[b]!) current[j] = lp[j]!;
+	});
+	for (const j of blocks.globalColumns)
+		if (model.integrality[j] && model.colLower[j] !== model.colUpper[j]) current[j] = model.colUpper[j]!;
+	const activity = rowActivities(model, blocks, current);
+	const maxCost = model.colCost.reduce((a, c) => Math.max(a, Math.abs(c)), 1);
+	const penalty = 1e3 * maxCost;
+	const linking = (r: number) => blocks.rowBlock[r] === LINKING;
+	const gap = options.gap ?? 1e-6;
+	const apply = (columns: readonly number[], values: (j: number) => number) => {
+		for (const j of columns) {
+			const delta = values(j) - current[j]!;
+			if (delta === 0) continue;
+			current[j] = values(j);
+			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++)
+				activity[model.indices[k]!]! += model.values[k]! * delta;
+		}
+	};
+	const keeps = (columns: readonly number[], values: (j: number) => number) => {
+		const change = new Map<number, number>();
+		for (const j of columns) {
+			const delta = values(j) - current[j]!;
+			if (delta === 0) continue;
+			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
+				const r = model.indices[k]!;
+				change.set(r, (change.get(r) ?? 0) + model.values[k]! * delta);
+			}
+		}
+		for (const [r, d] of change) if (rowExcess(model, r, activity[r]! + d) > KEPT) return false;
+		return true;
+	};
+	const resolve = async (columns: number[]) => {
+		const cut = subModel(model, blocks, columns, current, { elasticRow: linking, penalty });
+		const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
+		if (!outcome.columns) return false;
+		const value = new Map<number, number>();
+		cut.columns.forEach((j, p) => j >= 0 && value.set(j, outcome.columns![p]!));
+		apply(columns, (j) => value.get(j)!);
+		return true;
+	};
+	const broken = blocks.columnsOf.flatMap((_, b) => (solves.whole[b] ? [] : [b]));
+	for (let k = 0; k < broken.length; k += BATCH_ITEMS) {
+		if (clock.left() <= 0) return { columns: null, excess: Infinity };
+		const batch = broken.slice(k, k + BATCH_ITEMS);
+		const columns = batch.flatMap((b) => blocks.columnsOf[b]!);
+		const fromOwn = (j: number) => solves.candidate[j]!;
+		if (batch.every((b) => solves.solved.has(b)) && keeps(columns, fromOwn)) {
+			apply(columns, fromOwn);
+		} else if (!(await resolve(columns))) return { columns: null, excess: Infinity };
+	}
+	// Rows still broken: the blocks on them once more, each with the rest held.
+	const excessOf = () => activity.reduce((a, value, r) => Math.max(a, rowExcess(model, r, value)), 0);
+	for (let pass = 0; pass < 2 && excessOf() > KEPT; pass++) {
+		const touched = new Set<number>();
+		for (let r = 0; r < model.numRows; r++) {
+			if (blocks.rowBlock[r] === GLOBAL || rowExcess(model, r, activity[r]!) <= KEPT) continue;
+			for (let k = blocks.rowStarts[r]!; k < blocks.rowStarts[r + 1]!; k++) {
+				const b = blocks.blockOf[blocks.rowColumns[k]!]!;
+				if (b >= 0) touched.add(b);
+			}
+		}
+		const list = [...touched];
+		for (let k = 0; k < list.length; k += BATCH_ITEMS) {
+			if (clock.left() <= 0) break;
+			await resolve(list.slice(k, k + BATCH_ITEMS).flatMap((b) => blocks.columnsOf[b]!));
+		}
+	}
+	// The group indicators last, with every item held: counts and fixed costs at least cost.
+	const choices = blocks.globalColumns.filter((j) => model.colLower[j] !== model.colUpper[j]);
+	if (choices.length) await resolve(choices);
+	for (let j = 0; j < model.numCols; j++) if (model.integrality[j]) current[j] = Math.round(current[j]!);
+	const final = rowActivities(model, blocks, current);
+	const excess = final.reduce((a, value, r) => Math.max(a, rowExcess(model, r, value)), 0);
+	return { columns: current, excess };
+}
+
+export async function solveLinked(
+	problem: AwardProblem,
+	solver: Solver,
+	options: SolveOptions,
+	clock: Clock
+): Promise<LinkedOutcome> {
+	const model = buildModel(problem);
+	const began = clock.elapsed();
+	const base = {
+		method: 'lagrangian' as const,
+		uncovered: model.uncovered,
+		modelSize: modelSize(model)
+	};
+	const none = (status: Solved['status'], bound: number | null = null): LinkedOutcome => ({
+		...base,
+		status,
+		objective: null,
+		bound,
+		gap: null,
+		lines: [],
+		seconds: clock.elapsed() - began,
+		columns: null
+	});
+	const lp = await solver.solve(model, { timeLimit: Math.max(1, clock.left()), relax: true });
+	if (lp.status !== 'optimal' || !lp.columns || !lp.rowDuals)
+		return none(lp.status === 'optimal' ? 'solver_error' : lp.status);
+	const blocks = blocksOf(problem, model);
+	const solves = await solveBlocks(problem, model, blocks, lp, solver, clock, options);
+	const bound = Math.max(lp.objective!, solves.bound);
+	// The award: the suppliers the global block chose, then the LP again under that choice.
+	let restricted = model;
+	let restrictedBlocks = blocks;
+	let restrictedLp: SolveOutcome = lp;
+	let restrictedSolves = solves;
+	if (solves.global) {
+		const choice = await chooseSuppliers(problem, model, blocks, lp, solves.global, solver, clock);
+		if (choice) {
+			restricted = choice.model;
+			restrictedBlocks = blocksOf(problem, choice.model);
+			restrictedLp = choice.lp;
+			restrictedSolves = await solveBlocks(
+				problem,
+				choice.model,
+				restrictedBlocks,
+				choice.lp,
+				solver,
+				clock,
+				options
+			);
+		}
+	}
+	const fixed = await repair(
+		restricted,
+		restrictedBlocks,
+		restrictedLp.columns!,
+		restrictedSolves,
+		solver,
+		clock,
+		options
+	);
+	if (!fixed.columns || fixed.excess > FINAL) return none('no_solution_in_time', bound);
+	const columns = fixed.columns;
+	const objective = model.colCost.reduce((a, c, j) => a + c * columns[j]!, 0);
+	const gap = Math.max(0, objective - bound) / Math.max(1e-9, Math.abs(objective));
+	return {
+		...base,
+		status: gap <= (options.gap ?? 1e-6) ? 'optimal' : 'feasible',
+		objective,
+		bound: Math.min(bound, objective),
+		gap,
+		lines: awardLines(problem, model, columns, true),
+		seconds: clock.elapsed() - began,
+		columns
+	};
+}
