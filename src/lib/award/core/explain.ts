@@ -20,7 +20,9 @@ export async function explainAward(
 	solver: Solver,
 	options: AwardOptions = {}
 ): Promise<AwardExplanations> {
-	const solveOptions = { ...options, explain: false };
+	// Rule costs re-solve the problem many times: no progress reports from them.
+	const { onProgress: _progress, ...rest } = options;
+	const solveOptions = { ...rest, explain: false };
 	if (usable(result.status) && result.totalCost !== null) {
 		return {
 			ruleCosts: await ruleCosts(problem, solver, solveOptions, {

@@ -13,6 +13,15 @@ export interface AwardOptions extends SolveOptions {
 	method?: 'auto' | 'monolithic' | 'decomposed' | 'lp_guided' | 'lagrangian';
 	/** Compute rule costs, conflicts and sensitivity with the allocation (else explainAward does later). */
 	explain?: boolean;
+	/** Called as the best award and the bound improve (the large-problem methods report as they go). */
+	onProgress?: (update: Progress) => void;
+}
+
+/** Where a solve stands: seconds since it began, the best award's cost so far (null before one), the best bound. */
+export interface Progress {
+	seconds: number;
+	objective: number | null;
+	bound: number | null;
 }
 
 export interface RuleCost {

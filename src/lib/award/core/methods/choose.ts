@@ -25,7 +25,9 @@ export const FULL_MIP_FALLBACK_INTEGERS = 20_000;
 /** Every solve through `solver` gets the time left on the clock, never its own full limit. */
 function onClock(solver: Solver, clock: Clock): Solver {
 	return {
-		solve: (model, options) => solver.solve(model, { ...options, timeLimit: Math.max(0.2, clock.left()) })
+		// Only what a solve takes: the options may carry a callback, which cannot cross to a worker thread.
+		solve: (model, { gap, relax }) =>
+			solver.solve(model, { gap, relax, timeLimit: Math.max(0.2, clock.left()) })
 	};
 }
 
@@ -74,7 +76,13 @@ export async function solveProblem(
 			const { repairedItems: _repaired, ...outcome } = await solveLpGuided(effective, timed, options);
 			first = { ...outcome, method: 'lp_guided' };
 		} else {
-			const { columns: _columns, ...outcome } = await solveLinked(effective, timed, options, clock);
+			const { columns: _columns, ...outcome } = await solveLinked(
+				effective,
+				timed,
+				options,
+				clock,
+				options.onProgress
+			);
 			first = outcome;
 		}
 		const wanted = options.gap ?? 1e-6;

@@ -19,13 +19,14 @@
 // where it stands (relax-and-fix). A last small MIP sets the group indicators (fixed costs, counts).
 // When a linking row still does not hold, the method has no award; choose.ts then falls back to the
 // full MIP in the time left.
-import { buildModel, type AwardModel } from '../model';
+import { buildModel, type AwardModel, type ColumnMeaning } from '../model';
 import type { AwardProblem } from '../problem';
 import { awardLines } from '../result';
-import type { SolveOptions, SolveOutcome, Solver } from '../solver';
+import type { SolveOptions, SolveStatus, Solver } from '../solver';
 import { modelSize, type Solved } from '../types';
 import { GLOBAL, LINKING, blocksOf, rowActivities, rowExcess, subModel, type Blocks } from './blocks';
 import type { Clock } from './clock';
+import type { Progress } from '../types';
 
 /** Items per sub-MIP (independent blocks solved in one model). */
 const BATCH_ITEMS = 25;
@@ -35,6 +36,11 @@ const WHOLE = 1e-6;
 const KEPT = 1e-7;
 /** The same for the award at the end, its integer columns rounded: HiGHS keeps MIP rows to 1e-6. */
 const FINAL = 1e-6;
+/**
+ * Up to this many matrix entries the whole LP (with the integer-only rules relaxed) is solved too, for a
+ * stronger bound, once an award is found.
+ */
+const WHOLE_LP_ENTRIES = 2_000_000;
 
 export interface LinkedOutcome extends Solved {
 	/** Best award's columns in the whole model, for a caller that goes on from it. */
@@ -66,15 +72,37 @@ function lagrangianPrices(model: AwardModel, blocks: Blocks, duals: Float64Array
 	return { costs, constant };
 }
 
-/** The LP point with each integer column rounded up (a yes/no choice the LP took in part becomes yes). */
-function roundedUp(model: AwardModel, x: Float64Array): Float64Array {
+/**
+ * The LP point with each integer column rounded up (a yes/no choice the LP took in part becomes yes),
+ * and "s wins part of i" set wherever the point gives s some of i (the LP may not have that column).
+ */
+function roundedUp(problem: AwardProblem, model: AwardModel, x: Float64Array): Float64Array {
 	const out = Float64Array.from(x);
+	const quantity = new Map<string, number>();
+	const add = (s: string, i: string, q: number) => {
+		const key = `${s}\u0000${i}`;
+		quantity.set(key, (quantity.get(key) ?? 0) + q);
+	};
 	for (let j = 0; j < model.numCols; j++) {
+		const meaning = model.columns[j]!;
+		if (meaning.kind === 'tier' && x[j]! > 0) {
+			const bid = problem.bids[meaning.bid]!;
+			add(bid.supplier, bid.item, x[j]! * (meaning.step ?? 1));
+		}
+		if (meaning.kind === 'bundle' && x[j]! > 0) {
+			const bundle = problem.bundles[meaning.bundle]!;
+			for (const line of bundle.items) add(bundle.supplier, line.item, x[j]! * line.quantity);
+		}
 		if (!model.integrality[j]) continue;
 		const v = x[j]!;
 		out[j] = Math.abs(v - Math.round(v)) <= WHOLE ? Math.round(v) : Math.ceil(v);
 		out[j] = Math.min(out[j]!, model.colUpper[j]!);
 	}
+	model.columns.forEach((meaning, j) => {
+		if (meaning.kind !== 'wins') return;
+		const q = quantity.get(`${meaning.supplier}\u0000${meaning.item}`) ?? 0;
+		out[j] = q > WHOLE ? Math.min(1, model.colUpper[j]!) : 0;
+	});
 	return out;
 }
 
@@ -109,6 +137,8 @@ function wholeBlocks(
 interface BlockSolves {
 	/** L(μ): a lower bound on the model's optimum. */
 	bound: number;
+	/** The LP point rounded up (roundedUp). */
+	rounded: Float64Array;
 	/** Each block's own MIP answer at the prices (rounded LP for the blocks not solved). */
 	candidate: Float64Array;
 	/** Blocks solved (their rounded LP split was not their answer). */
@@ -155,19 +185,31 @@ function groupSpend(problem: AwardProblem, model: AwardModel, x: Float64Array): 
 	);
 }
 
+/**
+ * An LP point and its row duals, in the whole model's columns and rows. From an LP of this model, or
+ * of the model without the integer-only rules (then its group and win indicators are 0 and their rows
+ * have no dual): its duals still price the links, and each item's LP split, optimal for its own
+ * relaxed rows, still bounds the item's own MIP from below.
+ */
+interface Priced {
+	x: Float64Array;
+	duals: Float64Array;
+	objective: number;
+}
+
 /** Lagrangian solve of every block at the LP's duals. */
 async function solveBlocks(
 	problem: AwardProblem,
 	model: AwardModel,
 	blocks: Blocks,
-	lp: SolveOutcome,
+	lp: Priced,
 	solver: Solver,
 	clock: Clock,
 	options: SolveOptions
 ): Promise<BlockSolves> {
-	const x = lp.columns!;
-	const { costs, constant } = lagrangianPrices(model, blocks, lp.rowDuals!);
-	const rounded = roundedUp(model, x);
+	const x = lp.x;
+	const { costs, constant } = lagrangianPrices(model, blocks, lp.duals);
+	const rounded = roundedUp(problem, model, x);
 	const whole = wholeBlocks(model, blocks, x, rounded, costs);
 	const candidate = Float64Array.from(rounded);
 	const atLp = (columns: readonly number[]) => columns.reduce((a, j) => a + costs[j]! * x[j]!, 0);
@@ -186,7 +228,8 @@ async function solveBlocks(
 		const cut = subModel(model, blocks, free, x, { costs, skipRow });
 		const outcome = await solver.solve(cut.model, { timeLimit: left, gap });
 		if (outcome.bound === null || !Number.isFinite(outcome.bound)) return;
-		bound += Math.max(0, outcome.bound - atLp(free));
+		// Not clamped at 0: the point need not be this model's LP optimum.
+		bound += outcome.bound - atLp(free);
 		if (outcome.columns) cut.columns.forEach((j, p) => j >= 0 && (candidate[j] = outcome.columns![p]!));
 		for (const b of batch) solved.add(b);
 	});
@@ -198,7 +241,7 @@ async function solveBlocks(
 				// At the LP's duals a group indicator the LP uses costs about 0 (LP optimality), so ties
 				// are broken towards the suppliers the LP used most.
 				const tieBroken = Float64Array.from(costs);
-				const scale = 1e-6 * Math.max(1, Math.abs(lp.objective!) / Math.max(1, choices.length));
+				const scale = 1e-6 * Math.max(1, Math.abs(lp.objective) / Math.max(1, choices.length));
 				const usage = groupSpend(problem, model, x);
 				for (const j of blocks.globalColumns) tieBroken[j] = costs[j]! - scale * (usage[j] ?? 0);
 				const cut = subModel(model, blocks, blocks.globalColumns, x, {
@@ -207,14 +250,14 @@ async function solveBlocks(
 				});
 				const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
 				if (outcome.bound === null || !outcome.columns) return;
-				bound += Math.max(0, outcome.bound - atLp(blocks.globalColumns));
+				bound += outcome.bound - atLp(blocks.globalColumns);
 				global = Float64Array.from(x);
 				cut.columns.forEach((j, p) => j >= 0 && (global![j] = outcome.columns![p]!));
 			})()
 		);
 	}
 	await Promise.all(jobs);
-	return { bound, candidate, solved, whole, global };
+	return { bound, rounded, candidate, solved, whole, global };
 }
 
 /** Columns of the group indicators that count in a lot or event supplier count (rows of the global block). */
@@ -235,10 +278,107 @@ function withOpen(model: AwardModel, shuttable: readonly number[], open: Readonl
 	return { ...model, colLower, colUpper };
 }
 
+/** Rules only integers express: minimum awards, supplier counts, fixed costs. */
+function integerOnlyRules(problem: AwardProblem): Set<number> {
+	return new Set(
+		problem.rules.flatMap((r, k) =>
+			r.type === 'min_award' || r.type === 'supplier_count' || r.type === 'award_fixed_cost' ? [k] : []
+		)
+	);
+}
+
+/** A supplier shut out of a lot or the event: a group indicator held at 0. */
+interface Shut {
+	supplier: string;
+	group: string;
+}
+
+/**
+ * The LP the links are priced with: the model without the integer-only rules, several times smaller
+ * than the whole one (at 10,000 x 50 with the event rules the whole LP, 4.5 million entries, is more
+ * than HiGHS's 2 GB WebAssembly heap holds), its answer read into the whole model's columns and rows.
+ */
+function relaxationOf(problem: AwardProblem, full: AwardModel) {
+	const integerOnly = integerOnlyRules(problem);
+	const reduced = integerOnly.size ? buildModel(problem, { withoutRules: integerOnly }) : full;
+	const columnKey = (c: ColumnMeaning) =>
+		c.kind === 'tier' || c.kind === 'tier_used'
+			? `${c.kind}|${c.bid}|${c.tier}`
+			: c.kind === 'bundle'
+				? `bundle|${c.bundle}`
+				: null;
+	const fullColumn = new Map<string, number>();
+	full.columns.forEach((c, j) => {
+		const key = columnKey(c);
+		if (key) fullColumn.set(key, j);
+	});
+	const columnMap = reduced.columns.map((c) => {
+		const key = columnKey(c);
+		return key ? (fullColumn.get(key) ?? -1) : -1;
+	});
+	// Rows that can link items: covers, capacities and each rule's rows, in the order it made them.
+	const rowKeys = (model: AwardModel) => {
+		const seen = new Map<number, number>();
+		return model.rows.map((m) => {
+			if (m.kind === 'cover') return `cover|${m.item}`;
+			if (m.kind === 'capacity') return `capacity|${m.supplier}`;
+			if (m.kind !== 'rule') return null;
+			const n = seen.get(m.rule) ?? 0;
+			seen.set(m.rule, n + 1);
+			return `rule|${m.rule}|${n}`;
+		});
+	};
+	const fullRow = new Map<string, number>();
+	rowKeys(full).forEach((key, r) => key && fullRow.set(key, r));
+	const rowMap = rowKeys(reduced).map((key) => (key ? (fullRow.get(key) ?? -1) : -1));
+	const lotOf = new Map(problem.items.map((i) => [i.ref, i.lot]));
+	const inGroup = (item: string, group: string) =>
+		group === 'event' || (group.startsWith('lot:') && lotOf.get(item) === group.slice(4));
+	const offerOf = (c: ColumnMeaning): [string, string[]] | null => {
+		if (c.kind === 'tier') {
+			const bid = problem.bids[c.bid]!;
+			return [bid.supplier, [bid.item]];
+		}
+		if (c.kind === 'bundle') {
+			const bundle = problem.bundles[c.bundle]!;
+			return [bundle.supplier, bundle.items.map((l) => l.item)];
+		}
+		return null;
+	};
+	return async (shut: readonly Shut[], solver: Solver, clock: Clock): Promise<Priced | SolveStatus> => {
+		let model = reduced;
+		if (shut.length) {
+			const colUpper = Float64Array.from(reduced.colUpper);
+			reduced.columns.forEach((c, k) => {
+				const offer = offerOf(c);
+				if (!offer) return;
+				const [supplier, items] = offer;
+				if (shut.some((x) => x.supplier === supplier && items.some((i) => inGroup(i, x.group))))
+					colUpper[k] = 0;
+			});
+			model = { ...reduced, colUpper };
+		}
+		const outcome = await solver.solve(model, { timeLimit: Math.max(1, clock.left()), relax: true });
+		if (outcome.status !== 'optimal') return outcome.status;
+		if (!outcome.columns || !outcome.rowDuals) return 'solver_error';
+		const x = new Float64Array(full.numCols);
+		columnMap.forEach((j, k) => {
+			if (j >= 0) x[j] = outcome.columns![k]!;
+		});
+		const duals = new Float64Array(full.numRows);
+		rowMap.forEach((r, k) => {
+			if (r >= 0) duals[r] = outcome.rowDuals![k]!;
+		});
+		return { x, duals, objective: outcome.objective! };
+	};
+}
+
+type Relaxation = ReturnType<typeof relaxationOf>;
+
 interface Choice {
 	open: Set<number>;
 	model: AwardModel;
-	lp: SolveOutcome;
+	lp: Priced;
 	/** The LP under this choice, with the fixed cost of each open supplier counted in full. */
 	value: number;
 }
@@ -258,8 +398,9 @@ async function chooseSuppliers(
 	problem: AwardProblem,
 	model: AwardModel,
 	blocks: Blocks,
-	lp: SolveOutcome,
+	lp: Priced,
 	global: Float64Array,
+	relaxation: Relaxation,
 	solver: Solver,
 	clock: Clock
 ): Promise<Choice | null> {
@@ -268,7 +409,7 @@ async function chooseSuppliers(
 		(j) => model.integrality[j] && (model.colCost[j]! > 0 || counted.has(j))
 	);
 	if (!shuttable.length) return null;
-	const firstUse = groupSpend(problem, model, lp.columns!);
+	const firstUse = groupSpend(problem, model, lp.x);
 	const keepsCounts = (open: ReadonlySet<number>) => {
 		for (let r = 0; r < model.numRows; r++) {
 			if (blocks.rowBlock[r] !== GLOBAL) continue;
@@ -280,19 +421,40 @@ async function chooseSuppliers(
 		return true;
 	};
 	const evaluate = async (open: Set<number>): Promise<Choice | null> => {
-		const restricted = withOpen(model, shuttable, open);
-		const outcome = await solver.solve(restricted, { timeLimit: Math.max(1, clock.left()), relax: true });
-		if (outcome.status !== 'optimal' || !outcome.columns || !outcome.rowDuals) return null;
-		let value = outcome.objective!;
-		for (const j of open) value += model.colCost[j]! * (1 - outcome.columns[j]!);
-		return { open, model: restricted, lp: outcome, value };
+		const shut = shuttable.flatMap((j): Shut[] => {
+			const meaning = model.columns[j]!;
+			return open.has(j) || meaning.kind !== 'wins_group'
+				? []
+				: [{ supplier: meaning.supplier, group: meaning.group }];
+		});
+		const priced = await relaxation(shut, solver, clock);
+		if (typeof priced === 'string') return null;
+		let value = priced.objective;
+		for (const j of open) value += model.colCost[j]!;
+		return { open, model: withOpen(model, shuttable, open), lp: priced, value };
 	};
-	let best = await evaluate(new Set(shuttable.filter((j) => global[j]! > 0.5)));
+	// Two starts: the global block's answer at the prices, and the most suppliers the counts allow,
+	// those the LP used most first (the prices can shut every supplier a fixed cost is charged on when
+	// the LP they come from has no group indicators).
+	const mostUsed = await solver.solve(
+		subModel(model, blocks, shuttable, lp.x, {
+			costs: Float64Array.from(firstUse, (use) => -(use + 1e-6)),
+			skipRow: (r) => blocks.rowBlock[r] !== GLOBAL
+		}).model,
+		{ timeLimit: Math.max(1, clock.left()) }
+	);
+	const starts = [new Set(shuttable.filter((j) => global[j]! > 0.5))];
+	if (mostUsed.columns) starts.push(new Set(shuttable.filter((_, p) => mostUsed.columns![p]! > 0.5)));
+	let best: Choice | null = null;
+	for (const open of starts) {
+		const choice = await evaluate(open);
+		if (choice && (!best || choice.value < best.value)) best = choice;
+	}
 	if (!best) return null;
 	const deadline = clock.elapsed() + SEARCH_SHARE * (clock.elapsed() + clock.left());
 	const tried = new Set<string>();
 	for (let solves = 1; solves < SEARCH_SOLVES && clock.elapsed() < deadline;) {
-		const use = groupSpend(problem, model, best.lp.columns!);
+		const use = groupSpend(problem, model, best.lp.x);
 		const openList = [...best.open].sort((a, b) => use[a]! - use[b]!);
 		const moves: Set<number>[] = [];
 		for (const j of openList.slice(0, 3)) {
@@ -340,18 +502,15 @@ interface Repair {
 async function repair(
 	model: AwardModel,
 	blocks: Blocks,
-	lp: Float64Array,
 	solves: BlockSolves,
 	solver: Solver,
 	clock: Clock,
 	options: SolveOptions
 ): Promise<Repair> {
-	// Settled blocks rounded, the others at their LP split until their turn; the group indicators left
-	// free by the supplier choice open (a chosen supplier may win), until the last step sets them.
-	const current = roundedUp(model, lp);
-	solves.whole.forEach((whole, b) => {
-		if (!whole) for (const j of blocks.columnsOf[b]!) current[j] = lp[j]!;
-	});
+	// Every block at its LP split rounded up (the settled ones for good, the others until their turn);
+	// the group indicators left free by the supplier choice open (a chosen supplier may win), until the
+	// last step sets them.
+	const current = Float64Array.from(solves.rounded);
 	for (const j of blocks.globalColumns)
 		if (model.integrality[j] && model.colLower[j] !== model.colUpper[j]) current[j] = model.colUpper[j]!;
 	const activity = rowActivities(model, blocks, current);
@@ -430,7 +589,8 @@ export async function solveLinked(
 	problem: AwardProblem,
 	solver: Solver,
 	options: SolveOptions,
-	clock: Clock
+	clock: Clock,
+	progress?: (update: Progress) => void
 ): Promise<LinkedOutcome> {
 	const model = buildModel(problem);
 	const began = clock.elapsed();
@@ -449,23 +609,31 @@ export async function solveLinked(
 		seconds: clock.elapsed() - began,
 		columns: null
 	});
-	const lp = await solver.solve(model, { timeLimit: Math.max(1, clock.left()), relax: true });
-	if (lp.status !== 'optimal' || !lp.columns || !lp.rowDuals)
-		return none(lp.status === 'optimal' ? 'solver_error' : lp.status);
 	const blocks = blocksOf(problem, model);
-	const solves = await solveBlocks(problem, model, blocks, lp, solver, clock, options);
-	const bound = Math.max(lp.objective!, solves.bound);
-	// The award: the suppliers the global block chose, then the LP again under that choice.
+	const relaxation = relaxationOf(problem, model);
+	const first = await relaxation([], solver, clock);
+	if (typeof first === 'string') return none(first === 'optimal' ? 'solver_error' : first);
+	const solves = await solveBlocks(problem, model, blocks, first, solver, clock, options);
+	let bound = Math.max(first.objective, solves.bound);
+	progress?.({ seconds: clock.elapsed(), objective: null, bound });
+	// The award: the suppliers chosen for each lot and the event, then the blocks again under that choice.
 	let restricted = model;
 	let restrictedBlocks = blocks;
-	let restrictedLp: SolveOutcome = lp;
 	let restrictedSolves = solves;
 	if (solves.global) {
-		const choice = await chooseSuppliers(problem, model, blocks, lp, solves.global, solver, clock);
+		const choice = await chooseSuppliers(
+			problem,
+			model,
+			blocks,
+			first,
+			solves.global,
+			relaxation,
+			solver,
+			clock
+		);
 		if (choice) {
 			restricted = choice.model;
 			restrictedBlocks = blocksOf(problem, choice.model);
-			restrictedLp = choice.lp;
 			restrictedSolves = await solveBlocks(
 				problem,
 				choice.model,
@@ -477,22 +645,31 @@ export async function solveLinked(
 			);
 		}
 	}
-	const fixed = await repair(
-		restricted,
-		restrictedBlocks,
-		restrictedLp.columns!,
-		restrictedSolves,
-		solver,
-		clock,
-		options
-	);
+	const fixed = await repair(restricted, restrictedBlocks, restrictedSolves, solver, clock, options);
 	if (!fixed.columns || fixed.excess > FINAL) return none('no_solution_in_time', bound);
 	const columns = fixed.columns;
 	const objective = model.colCost.reduce((a, c, j) => a + c * columns[j]!, 0);
-	const gap = Math.max(0, objective - bound) / Math.max(1e-9, Math.abs(objective));
+	const gapOf = (b: number) => Math.max(0, objective - b) / Math.max(1e-9, Math.abs(objective));
+	const wanted = options.gap ?? 1e-6;
+	progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+	// With the award in hand, the time left goes to a stronger bound where the whole LP fits: that LP
+	// (with the minimum awards and supplier counts in it), and the Lagrangian bound at its duals.
+	if (gapOf(bound) > wanted && clock.left() > 1 && model.indices.length <= WHOLE_LP_ENTRIES) {
+		const full = await solver.solve(model, { timeLimit: clock.left(), relax: true });
+		if (full.status === 'optimal' && full.columns && full.rowDuals) {
+			const priced = { x: full.columns, duals: full.rowDuals, objective: full.objective! };
+			bound = Math.max(bound, priced.objective);
+			if (clock.left() > 0) {
+				const again = await solveBlocks(problem, model, blocks, priced, solver, clock, options);
+				bound = Math.max(bound, again.bound);
+			}
+			progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+		}
+	}
+	const gap = gapOf(bound);
 	return {
 		...base,
-		status: gap <= (options.gap ?? 1e-6) ? 'optimal' : 'feasible',
+		status: gap <= wanted ? 'optimal' : 'feasible',
 		objective,
 		bound: Math.min(bound, objective),
 		gap,
