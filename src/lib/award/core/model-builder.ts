@@ -7,6 +7,8 @@ export type ColumnMeaning =
 	| { kind: 'bundle'; bundle: number }
 	| { kind: 'wins'; supplier: string; item: string }
 	| { kind: 'wins_group'; supplier: string; group: string }
+	/** T[G]: the spend over a group of `items` items, written once for the share rows of each supplier. */
+	| { kind: 'spend_total'; items: number }
 	| { kind: 'slack'; row: number };
 
 export type RowMeaning =

@@ -45,6 +45,8 @@ export class ModelContext {
 	/** y[s,i] by pair key and v[s,G] by supplier and group, made once on first use. */
 	readonly wins = new Map<number, number>();
 	readonly groupWins = new Map<string, number>();
+	/** T[G] columns, by the items of G (model-families.ts, spendTotal). */
+	readonly spendTotals = new Map<string, number>();
 	private readonly itemCount: number;
 	// Keyed by supplier x item position: a plain array while that is small enough to hold, else a map.
 	private readonly pairs: { get(k: number): Pair | undefined; set(k: number, pair: Pair): void };

@@ -4,7 +4,7 @@
 import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import { InProcessSolver } from '../runtime/highs-instance';
-import { crossCheckCases } from '../tools/generate';
+import { crossCheckCases, generateProblem, lotBenchmarkRules } from '../tools/generate';
 import { dantzig } from '../tools/published-examples';
 import { buildModel, type AwardModel } from './model';
 import { parseProblem, type AwardProblem } from './problem';
@@ -134,5 +134,24 @@ describe('the award model', () => {
 		}
 		expect(outcome.status).toBe('optimal');
 		expect(Math.abs(outcome.objective! - pin.optimum) / pin.optimum).toBeLessThan(1e-6);
+	});
+});
+
+describe('spend shares of each supplier over a lot', () => {
+	it("write the lot's spend once, not once per supplier", () => {
+		// 400 items in 4 lots, 20 suppliers, each bidding on about 70% of the items: at most 70% of each
+		// lot's spend to one supplier. Written per supplier, each of the 20 rows of a lot repeats every bid
+		// of the lot (about 20 x 1,400 entries a lot); with the lot's total as a column, each bid enters its
+		// own supplier's row and the total's row once.
+		const problem = generateProblem({ items: 400, suppliers: 20, seed: 3, lots: 4 });
+		const bids = problem.bids.length;
+		const withRule = buildModel({
+			...problem,
+			rules: lotBenchmarkRules(4).filter((r) => r.type === 'max_share' && r.scope !== 'each_item')
+		});
+		const without = buildModel(problem);
+		const added = withRule.indices.length - without.indices.length;
+		expect(added).toBeLessThanOrEqual(2 * bids + 4 * 21);
+		expect(withRule.columns.filter((c) => c.kind === 'spend_total')).toHaveLength(4);
 	});
 });

@@ -301,21 +301,22 @@ interface Shut {
 function relaxationOf(problem: AwardProblem, full: AwardModel) {
 	const integerOnly = integerOnlyRules(problem);
 	const reduced = integerOnly.size ? buildModel(problem, { withoutRules: integerOnly }) : full;
-	const columnKey = (c: ColumnMeaning) =>
-		c.kind === 'tier' || c.kind === 'tier_used'
-			? `${c.kind}|${c.bid}|${c.tier}`
-			: c.kind === 'bundle'
-				? `bundle|${c.bundle}`
-				: null;
+	// Columns both models have: bid tiers, bundles and spend totals (these in the order they were made).
+	const columnKeys = (model: AwardModel) => {
+		let totals = 0;
+		return model.columns.map((c) =>
+			c.kind === 'tier' || c.kind === 'tier_used'
+				? `${c.kind}|${c.bid}|${c.tier}`
+				: c.kind === 'bundle'
+					? `bundle|${c.bundle}`
+					: c.kind === 'spend_total'
+						? `total|${totals++}`
+						: null
+		);
+	};
 	const fullColumn = new Map<string, number>();
-	full.columns.forEach((c, j) => {
-		const key = columnKey(c);
-		if (key) fullColumn.set(key, j);
-	});
-	const columnMap = reduced.columns.map((c) => {
-		const key = columnKey(c);
-		return key ? (fullColumn.get(key) ?? -1) : -1;
-	});
+	columnKeys(full).forEach((key, j) => key && fullColumn.set(key, j));
+	const columnMap = columnKeys(reduced).map((key) => (key ? (fullColumn.get(key) ?? -1) : -1));
 	// Rows that can link items: covers, capacities and each rule's rows, in the order it made them.
 	const rowKeys = (model: AwardModel) => {
 		const seen = new Map<number, number>();
@@ -427,7 +428,8 @@ async function chooseSuppliers(
 				? []
 				: [{ supplier: meaning.supplier, group: meaning.group }];
 		});
-		const priced = await relaxation(shut, solver, clock);
+		// Nobody shut: the first LP already is this choice's.
+		const priced = shut.length ? await relaxation(shut, solver, clock) : lp;
 		if (typeof priced === 'string') return null;
 		let value = priced.objective;
 		for (const j of open) value += model.colCost[j]!;
@@ -445,14 +447,20 @@ async function chooseSuppliers(
 	);
 	const starts = [new Set(shuttable.filter((j) => global[j]! > 0.5))];
 	if (mostUsed.columns) starts.push(new Set(shuttable.filter((_, p) => mostUsed.columns![p]! > 0.5)));
+	const keyOf = (open: ReadonlySet<number>) => [...open].sort((a, b) => a - b).join(',');
+	const tried = new Set<string>();
 	let best: Choice | null = null;
 	for (const open of starts) {
+		if (tried.has(keyOf(open))) continue;
+		tried.add(keyOf(open));
 		const choice = await evaluate(open);
 		if (choice && (!best || choice.value < best.value)) best = choice;
 	}
 	if (!best) return null;
+	// No choice prices below the first LP when no open supplier costs anything: then this one is best.
+	const free = shuttable.every((j) => model.colCost[j]! <= 0);
+	if (free && best.value <= lp.objective + 1e-9 * Math.abs(lp.objective)) return best;
 	const deadline = clock.elapsed() + SEARCH_SHARE * (clock.elapsed() + clock.left());
-	const tried = new Set<string>();
 	for (let solves = 1; solves < SEARCH_SOLVES && clock.elapsed() < deadline;) {
 		const use = groupSpend(problem, model, best.lp.x);
 		const openList = [...best.open].sort((a, b) => use[a]! - use[b]!);
@@ -473,7 +481,7 @@ async function chooseSuppliers(
 		}
 		let improved = false;
 		for (const open of moves) {
-			const key = [...open].sort((a, b) => a - b).join(',');
+			const key = keyOf(open);
 			if (tried.has(key) || !keepsCounts(open)) continue;
 			tried.add(key);
 			if (solves++ >= SEARCH_SOLVES || clock.elapsed() >= deadline) break;
@@ -518,29 +526,56 @@ async function repair(
 	const penalty = 1e3 * maxCost;
 	const linking = (r: number) => blocks.rowBlock[r] === LINKING;
 	const gap = options.gap ?? 1e-6;
-	const apply = (columns: readonly number[], values: (j: number) => number) => {
-		for (const j of columns) {
-			const delta = values(j) - current[j]!;
-			if (delta === 0) continue;
-			current[j] = values(j);
-			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++)
-				activity[model.indices[k]!]! += model.values[k]! * delta;
+	// Continuous columns of no item (spend totals) move with every batch. One defined by an equality
+	// row (T[G] = Σ spend over G) follows a candidate's change of that row, so a candidate is judged
+	// with the total it implies.
+	const floating = blocks.globalColumns.filter(
+		(j) => !model.integrality[j] && model.colLower[j] !== model.colUpper[j]
+	);
+	const definedBy = new Map<number, { row: number; coefficient: number }>();
+	for (const j of floating)
+		for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
+			const r = model.indices[k]!;
+			if (model.rowLower[r] === model.rowUpper[r] && !definedBy.has(j))
+				definedBy.set(j, { row: r, coefficient: model.values[k]! });
 		}
-	};
-	const keeps = (columns: readonly number[], values: (j: number) => number) => {
-		const change = new Map<number, number>();
-		for (const j of columns) {
-			const delta = values(j) - current[j]!;
-			if (delta === 0) continue;
+	/** The column changes a candidate makes, with the defined columns that follow them. */
+	const changes = (columns: readonly number[], values: (j: number) => number) => {
+		const moves = new Map<number, number>();
+		const rows = new Map<number, number>();
+		const move = (j: number, delta: number) => {
+			moves.set(j, (moves.get(j) ?? 0) + delta);
 			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
 				const r = model.indices[k]!;
-				change.set(r, (change.get(r) ?? 0) + model.values[k]! * delta);
+				rows.set(r, (rows.get(r) ?? 0) + model.values[k]! * delta);
 			}
+		};
+		for (const j of columns) {
+			const delta = values(j) - current[j]!;
+			if (delta !== 0) move(j, delta);
 		}
-		for (const [r, d] of change) if (rowExcess(model, r, activity[r]! + d) > KEPT) return false;
+		for (const [j, { row, coefficient }] of definedBy) {
+			const d = rows.get(row);
+			if (d && !moves.has(j)) move(j, -d / coefficient);
+		}
+		return { moves, rows };
+	};
+	const apply = (columns: readonly number[], values: (j: number) => number) => {
+		const { moves, rows } = changes(columns, values);
+		for (const [j, delta] of moves) current[j]! += delta;
+		for (const [r, d] of rows) activity[r]! += d;
+	};
+	const keeps = (columns: readonly number[], values: (j: number) => number) => {
+		const { moves, rows } = changes(columns, values);
+		for (const [j, delta] of moves) {
+			const value = current[j]! + delta;
+			if (value < model.colLower[j]! - 1e-9 || value > model.colUpper[j]! + 1e-9) return false;
+		}
+		for (const [r, d] of rows) if (rowExcess(model, r, activity[r]! + d) > KEPT) return false;
 		return true;
 	};
-	const resolve = async (columns: number[]) => {
+	const resolve = async (batch: number[]) => {
+		const columns = [...new Set([...batch, ...floating])];
 		const cut = subModel(model, blocks, columns, current, { elasticRow: linking, penalty });
 		const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
 		if (!outcome.columns) return false;
@@ -631,7 +666,8 @@ export async function solveLinked(
 			solver,
 			clock
 		);
-		if (choice) {
+		// Nobody shut out: the blocks as priced already.
+		if (choice && choice.lp !== first) {
 			restricted = choice.model;
 			restrictedBlocks = blocksOf(problem, choice.model);
 			restrictedSolves = await solveBlocks(
