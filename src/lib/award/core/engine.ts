@@ -55,6 +55,7 @@ export type {
 	AwardResult,
 	Conflict,
 	Method,
+	Progress,
 	RuleCost,
 	Sensitivity
 } from './types';

@@ -6,6 +6,7 @@
 import type { AwardRule } from '$lib/award/core/problem';
 import type { Knex } from 'knex';
 import { BoundedCache } from '../bounded-cache';
+import type { Progress } from '$lib/award/core/engine';
 import type { Db } from './knex';
 import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow } from './tables';
 
@@ -95,6 +96,7 @@ const RUN_VIEW_COLUMNS: (keyof RunView)[] = [
 	'heartbeat_at',
 	'owner',
 	'restarts',
+	'solve_progress',
 	'explanation',
 	'explanation_status',
 	'explanation_error',
@@ -387,6 +389,18 @@ export async function beatRun(
 		.update({ heartbeat_at: db.fn.now() })
 		.returning(['cancel_requested']);
 	return row as { cancel_requested: boolean } | undefined;
+}
+
+/** Records where the owner's running solve stands; refused once the run is no longer the owner's. */
+export async function recordSolveProgress(
+	db: Db,
+	runId: string,
+	owner: string,
+	progress: Progress
+): Promise<void> {
+	await db('award_runs')
+		.where({ id: runId, owner, status: 'running' })
+		.update({ solve_progress: JSON.stringify(progress) });
 }
 
 export async function isCancelRequested(db: Db, runId: string): Promise<boolean> {

@@ -1,5 +1,5 @@
 // Row types of the tables, as the database returns them.
-import type { AwardResult } from '$lib/award/core/engine';
+import type { AwardResult, Progress } from '$lib/award/core/engine';
 import type { AwardProblem, AwardRule } from '$lib/award/core/problem';
 import type { Role } from '$lib/roles';
 
@@ -77,6 +77,8 @@ export interface RunRow {
 	owner: string | null;
 	/** How often a run (or its explanation) was taken over after its worker stopped. */
 	restarts: number;
+	/** Where the running solve stands, as its worker last wrote it (the engine's Progress). */
+	solve_progress: Progress | null;
 	/** Rule costs, conflicts and sensitivity: worked out after the allocation, by their own job. */
 	explanation: Pick<AwardResult, 'ruleCosts' | 'conflicts' | 'sensitivity'> | null;
 	explanation_status: 'pending' | 'running' | 'done' | 'failed' | 'not_needed';

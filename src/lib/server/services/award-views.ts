@@ -50,7 +50,22 @@ export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) 
 			finishedAt: run.finished_at?.toISOString() ?? null,
 			elapsedSeconds: run.started_at ? Math.max(0, (end.getTime() - run.started_at.getTime()) / 1000) : 0,
 			attempts: run.attempts,
-			gap: run.result?.gap ?? null
+			gap: run.result?.gap ?? null,
+			// While it runs: the best award so far (null before the first), the lowest cost any award could
+			// have as proven so far, and how far apart they are, as the solving worker last wrote them.
+			best:
+				run.status === 'running' && run.solve_progress
+					? {
+							afterSeconds: run.solve_progress.seconds,
+							totalCost: run.solve_progress.objective,
+							bound: run.solve_progress.bound,
+							gap:
+								run.solve_progress.objective !== null && run.solve_progress.bound !== null
+									? Math.max(0, run.solve_progress.objective - run.solve_progress.bound) /
+										Math.max(1e-9, Math.abs(run.solve_progress.objective))
+									: null
+						}
+					: null
 		},
 		problemSha256: run.problem_sha256.trim(),
 		resultSha256: run.result_sha256?.trim() ?? null,

@@ -6,7 +6,7 @@
 // the reason after MAX_RESTARTS takeovers. The allocation is stored as soon as the solve ends; rule costs,
 // conflicts and sensitivity are worked out after it by their own job (explain-run), under the same rules.
 import { randomUUID } from 'node:crypto';
-import { solveAward, type AwardResult, type Solver } from '$lib/award/core/engine';
+import { solveAward, type AwardResult, type Progress, type Solver } from '$lib/award/core/engine';
 import { explainAward } from '$lib/award/core/explain';
 import { SolveCancelled, SolverPool } from '$lib/award/runtime/pool';
 import { solverVersion } from '$lib/award/runtime/solver-version';
@@ -22,6 +22,7 @@ import {
 	finishOwnedRun,
 	isCancelRequested,
 	lockStaleWork,
+	recordSolveProgress,
 	requeueExplanation,
 	requeueRun
 } from '../db/awards';
@@ -154,7 +155,18 @@ export async function executeRun(runId: string): Promise<void> {
 					{ error: parsed.problems.join('; ') },
 					{ reason: 'invalid problem' }
 				));
-			const result = await solveAward(parsed.problem, poolSolver(signal), { ...RUN_OPTIONS, explain: false });
+			// The engine reports its best award and bound as they improve (a few times a solve): each is
+			// written at once, for the run page, while the run is still this worker's.
+			let writes = Promise.resolve();
+			const onProgress = (progress: Progress) => {
+				writes = writes.then(() => recordSolveProgress(db(), run.id, owner, progress)).catch(() => undefined);
+			};
+			const result = await solveAward(parsed.problem, poolSolver(signal), {
+				...RUN_OPTIONS,
+				explain: false,
+				onProgress
+			});
+			await writes;
 			if (lost()) return;
 			// The hash covers the allocation the problem determines: not how long the solve took, and not the
 			// explanation, which comes later with its own hash.

@@ -1,0 +1,74 @@
+// A long solve reports as it goes: the worker writes the engine's best award and bound while the run is
+// running, and the run's API (which the run page follows every second) shows them. Real services: the
+// worker process of the test stack takes the pg-boss job and solves with HiGHS.
+import PgBoss from 'pg-boss';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { problemFor } from '../../src/lib/award/tools/bench';
+import { aUser, closeTestDb, testDb } from '../support/factories';
+import { aSupplierOrganisationWithUser, anOpenEvent, aStoredRun, signedIn } from '../support/events';
+import { databaseUrl } from '../support/env';
+
+let boss: PgBoss;
+beforeAll(async () => {
+	boss = new PgBoss({ connectionString: databaseUrl(), max: 2 });
+	await boss.start();
+});
+afterAll(async () => {
+	await boss.stop({ graceful: false, wait: true });
+	await closeTestDb();
+});
+
+async function until(runId: string, done: (run: Record<string, unknown>) => boolean, seconds: number) {
+	for (let k = 0; k < seconds * 4; k++) {
+		const run = await testDb()('award_runs').where({ id: runId }).first();
+		if (done(run)) return run;
+		await new Promise((r) => setTimeout(r, 250));
+	}
+	throw new Error('the run did not change in time');
+}
+
+interface Progress {
+	seconds: number;
+	objective: number | null;
+	bound: number | null;
+}
+
+describe('a running award solve', () => {
+	it('shows its best award so far and the bound, before it ends', async () => {
+		const buyer = await aUser('buyer');
+		const { organisation } = await aSupplierOrganisationWithUser();
+		const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
+		// 2,000 items, 30 suppliers, at most 12 suppliers over the event: the method that relaxes the links
+		// has an award within seconds, then spends the rest of the 60 s limit on a stronger bound.
+		const problem = problemFor('2000x30', 'event');
+		const run = await aStoredRun({ eventId: event.id, createdBy: buyer.id, problem });
+		await boss.send('award-run', { runId: run.id });
+		const running = await until(
+			run.id,
+			(r) => r.status === 'running' && (r.solve_progress as Progress | null)?.objective != null,
+			90
+		);
+		const stored = running.solve_progress as Progress;
+		expect(stored.bound).not.toBeNull();
+		expect(stored.bound!).toBeLessThanOrEqual(stored.objective!);
+
+		const client = await signedIn(buyer);
+		const response = await client.request(`/api/runs/${run.id}?summary=1`, { accept: 'application/json' });
+		expect(response.status).toBe(200);
+		const json = (await response.json()) as {
+			status: string;
+			progress: { best: { totalCost: number; bound: number; gap: number; afterSeconds: number } | null };
+		};
+		// The first award comes within seconds; the bound work after it takes most of the limit.
+		expect(json.status).toBe('running');
+		const best = json.progress.best!;
+		expect(best).not.toBeNull();
+		expect(best.totalCost).toBeLessThanOrEqual(stored.objective! + 1e-6);
+		expect(best.bound).toBeLessThanOrEqual(best.totalCost);
+		expect(best.gap).toBeCloseTo((best.totalCost - best.bound) / best.totalCost, 9);
+		// Done with it: the buyer's cancel ends the solve within a second or two.
+		await testDb()('award_runs').where({ id: run.id }).update({ cancel_requested: true });
+		const ended = await until(run.id, (r) => r.status !== 'running', 30);
+		expect(['cancelled', 'done']).toContain(ended.status);
+	});
+});
