@@ -430,7 +430,7 @@ describe('relaxing the links (method lagrangian) against glpk.js', () => {
 	});
 
 	it('finds an award in most cases and proves some optimal', () => {
-		// 22 awards (7 proven optimal) of the 24 cases, 2 infeasible, when this was written.
+		// 22 awards (8 proven optimal) of the 24 cases, 2 infeasible, when this was written.
 		expect(
 			outcomes.filter((o) => o.status === 'optimal' || o.status === 'feasible').length
 		).toBeGreaterThanOrEqual(18);

@@ -146,6 +146,8 @@ interface BlockSolves {
 	whole: boolean[];
 	/** The global block's answer at the prices (null when it has no integer column). */
 	global: Float64Array | null;
+	/** Every block and the global block solved (else `bound` holds only at the LP's own duals). */
+	complete: boolean;
 }
 
 /**
@@ -205,12 +207,15 @@ async function solveBlocks(
 	lp: Priced,
 	solver: Solver,
 	clock: Clock,
-	options: SolveOptions
+	options: SolveOptions,
+	/** `all`: the duals are not the LP point's own (subgradient steps), so every block is solved. */
+	mode: 'lp' | 'all' = 'lp'
 ): Promise<BlockSolves> {
 	const x = lp.x;
 	const { costs, constant } = lagrangianPrices(model, blocks, lp.duals);
 	const rounded = roundedUp(problem, model, x);
-	const whole = wholeBlocks(model, blocks, x, rounded, costs);
+	const whole =
+		mode === 'all' ? blocks.columnsOf.map(() => false) : wholeBlocks(model, blocks, x, rounded, costs);
 	const candidate = Float64Array.from(rounded);
 	const atLp = (columns: readonly number[]) => columns.reduce((a, j) => a + costs[j]! * x[j]!, 0);
 	let bound = constant;
@@ -234,7 +239,19 @@ async function solveBlocks(
 		for (const b of batch) solved.add(b);
 	});
 	let global: Float64Array | null = null;
+	let globalSolved = false;
 	const choices = blocks.globalColumns.filter((j) => model.integrality[j]);
+	if (!choices.length && mode === 'all') {
+		// Continuous columns of no item and no row of their own (spend totals): each at its cheaper bound.
+		const at = Float64Array.from(x);
+		for (const j of blocks.globalColumns) {
+			const c = costs[j]!;
+			at[j] = c > 0 ? model.colLower[j]! : c < 0 ? model.colUpper[j]! : x[j]!;
+			bound += c * (at[j]! - x[j]!);
+		}
+		global = at;
+		globalSolved = blocks.globalColumns.every((j) => Number.isFinite(at[j]!));
+	}
 	if (choices.length) {
 		jobs.push(
 			(async () => {
@@ -251,13 +268,18 @@ async function solveBlocks(
 				const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
 				if (outcome.bound === null || !outcome.columns) return;
 				bound += outcome.bound - atLp(blocks.globalColumns);
+				globalSolved = true;
 				global = Float64Array.from(x);
 				cut.columns.forEach((j, p) => j >= 0 && (global![j] = outcome.columns![p]!));
 			})()
 		);
 	}
 	await Promise.all(jobs);
-	return { bound, rounded, candidate, solved, whole, global };
+	// At duals that are not the LP point's own, a block left unsolved has no bound of its own.
+	const complete =
+		solved.size === broken.length && (globalSolved || !blocks.globalColumns.length || mode === 'lp');
+	if (global) for (const j of blocks.globalColumns) candidate[j] = global[j]!;
+	return { bound, rounded, candidate, solved, whole, global, complete };
 }
 
 /** Columns of the group indicators that count in a lot or event supplier count (rows of the global block). */
@@ -375,6 +397,49 @@ function relaxationOf(problem: AwardProblem, full: AwardModel) {
 }
 
 type Relaxation = ReturnType<typeof relaxationOf>;
+
+/**
+ * Multipliers for the rows "s wins part of i ⇒ s wins part of G" (y[s,i] <= v[s,G]) where v carries a
+ * fixed cost f, which the LP without the integer-only rules leaves unpriced: f shared over the items in
+ * proportion to the quantity that LP gave s in each. An item then pays its share of f whenever it uses s,
+ * and a supplier's fixed cost is covered by the items that use it (the classic Lagrangian of the fixed
+ * charge; any multipliers ≥ 0 keep the bound valid). Without them the bound ignores fixed costs.
+ */
+function withFixedCostShares(problem: AwardProblem, model: AwardModel, blocks: Blocks, lp: Priced): Priced {
+	const quantity = new Map<string, number>();
+	const add = (key: string, q: number) => quantity.set(key, (quantity.get(key) ?? 0) + q);
+	model.columns.forEach((c, j) => {
+		if (c.kind !== 'tier' || !(lp.x[j]! > 0)) return;
+		const bid = problem.bids[c.bid]!;
+		const q = lp.x[j]! * (c.step ?? 1);
+		add(`${bid.supplier}\u0000${bid.item}`, q);
+		add(bid.supplier, q);
+	});
+	const duals = Float64Array.from(lp.duals);
+	let changed = false;
+	for (let r = 0; r < model.numRows; r++) {
+		if (blocks.rowBlock[r] !== LINKING || lp.duals[r] !== 0) continue;
+		if (blocks.rowStarts[r + 1]! - blocks.rowStarts[r]! !== 2) continue;
+		let win = -1;
+		let group = -1;
+		for (let k = blocks.rowStarts[r]!; k < blocks.rowStarts[r + 1]!; k++) {
+			const j = blocks.rowColumns[k]!;
+			const a = blocks.rowValues[k]!;
+			const meaning = model.columns[j]!;
+			if (meaning.kind === 'wins' && a === 1) win = j;
+			if (meaning.kind === 'wins_group' && a === -1) group = j;
+		}
+		if (win < 0 || group < 0 || !(model.colCost[group]! > 0)) continue;
+		const y = model.columns[win] as { supplier: string; item: string };
+		const total = quantity.get(y.supplier) ?? 0;
+		const share = total > 0 ? (quantity.get(`${y.supplier}\u0000${y.item}`) ?? 0) / total : 0;
+		if (share <= 0) continue;
+		// An upper-bounded row's dual is ≤ 0 (the engine's sign: d objective / d bound).
+		duals[r] = -model.colCost[group]! * share;
+		changed = true;
+	}
+	return changed ? { ...lp, duals } : lp;
+}
 
 interface Choice {
 	open: Set<number>;
@@ -648,7 +713,9 @@ export async function solveLinked(
 	const relaxation = relaxationOf(problem, model);
 	const first = await relaxation([], solver, clock);
 	if (typeof first === 'string') return none(first === 'optimal' ? 'solver_error' : first);
-	const solves = await solveBlocks(problem, model, blocks, first, solver, clock, options);
+	let pricing = withFixedCostShares(problem, model, blocks, first);
+	const solves = await solveBlocks(problem, model, blocks, pricing, solver, clock, options);
+	let pricingSolves = solves;
 	let bound = Math.max(first.objective, solves.bound);
 	progress?.({ seconds: clock.elapsed(), objective: null, bound });
 	// The award: the suppliers chosen for each lot and the event, then the blocks again under that choice.
@@ -697,11 +764,29 @@ export async function solveLinked(
 			bound = Math.max(bound, priced.objective);
 			if (clock.left() > 0) {
 				const again = await solveBlocks(problem, model, blocks, priced, solver, clock, options);
-				bound = Math.max(bound, again.bound);
+				if (again.bound > bound) {
+					bound = again.bound;
+					pricing = priced;
+					pricingSolves = again;
+				}
 			}
 			progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
 		}
 	}
+	// Then subgradient steps on the multipliers while time is left.
+	bound = await improveBound(
+		problem,
+		model,
+		blocks,
+		pricing,
+		pricingSolves,
+		objective,
+		bound,
+		solver,
+		clock,
+		options,
+		(b) => progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(b, objective) })
+	);
 	const gap = gapOf(bound);
 	return {
 		...base,
@@ -713,4 +798,93 @@ export async function solveLinked(
 		seconds: clock.elapsed() - began,
 		columns
 	};
+}
+
+/** Most subgradient steps after the award, and the step factor below which they stop. */
+const SUBGRADIENT_STEPS = 30;
+const SMALLEST_STEP = 1 / 64;
+
+/**
+ * Subgradient ascent on the Lagrangian bound (Polyak steps; Held, Wolfe and Crowder 1974, Mathematical
+ * Programming 6): from the multipliers of the best bound so far, each step moves every linking row's
+ * multiplier by how far the blocks' own answers break or slacken it, scaled to the distance from the
+ * award's cost; every block is then solved again (at such multipliers no block's LP split is known to be
+ * its answer). A step counts only when every block was solved in time. Stops at the time limit, at the
+ * requested gap, after SUBGRADIENT_STEPS, or when the step factor has halved below SMALLEST_STEP.
+ */
+async function improveBound(
+	problem: AwardProblem,
+	model: AwardModel,
+	blocks: Blocks,
+	start: Priced,
+	startSolves: BlockSolves,
+	objective: number,
+	bound: number,
+	solver: Solver,
+	clock: Clock,
+	options: SolveOptions,
+	report: (bound: number) => void
+): Promise<number> {
+	const wanted = options.gap ?? 1e-6;
+	const gapOf = (b: number) => (objective - b) / Math.max(1e-9, Math.abs(objective));
+	let duals = Float64Array.from(start.duals);
+	let last = startSolves;
+	let lastBound = startSolves.bound;
+	let factor = 1;
+	let stalled = 0;
+	for (let step = 0; step < SUBGRADIENT_STEPS; step++) {
+		if (gapOf(bound) <= wanted || clock.left() < 1 || factor < SMALLEST_STEP) break;
+		const activity = rowActivities(model, blocks, last.candidate);
+		const direction = new Float64Array(model.numRows);
+		let norm = 0;
+		for (let r = 0; r < model.numRows; r++) {
+			if (blocks.rowBlock[r] !== LINKING) continue;
+			const a = activity[r]!;
+			const lower = model.rowLower[r]!;
+			const upper = model.rowUpper[r]!;
+			// The dual as priced: pointing at a finite bound only.
+			const y = !Number.isFinite(lower)
+				? Math.min(0, duals[r]!)
+				: !Number.isFinite(upper)
+					? Math.max(0, duals[r]!)
+					: duals[r]!;
+			const g = a < lower ? lower - a : a > upper ? upper - a : y > 0 ? lower - a : y < 0 ? upper - a : 0;
+			direction[r] = g;
+			norm += g * g;
+		}
+		if (norm === 0) break;
+		const size = (factor * Math.max(0, objective - lastBound)) / norm;
+		if (!(size > 0)) break;
+		const next = Float64Array.from(duals);
+		for (let r = 0; r < model.numRows; r++) {
+			if (direction[r] === 0) continue;
+			let y = duals[r]! + size * direction[r]!;
+			if (!Number.isFinite(model.rowLower[r]!)) y = Math.min(0, y);
+			if (!Number.isFinite(model.rowUpper[r]!)) y = Math.max(0, y);
+			next[r] = y;
+		}
+		const pass = await solveBlocks(
+			problem,
+			model,
+			blocks,
+			{ ...start, duals: next },
+			solver,
+			clock,
+			options,
+			'all'
+		);
+		if (!pass.complete) break;
+		duals = next;
+		last = pass;
+		lastBound = pass.bound;
+		if (pass.bound > bound + 1e-9 * Math.abs(bound)) {
+			bound = pass.bound;
+			report(bound);
+			stalled = 0;
+		} else if (++stalled >= 2) {
+			factor /= 2;
+			stalled = 0;
+		}
+	}
+	return bound;
 }
