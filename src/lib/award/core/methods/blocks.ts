@@ -194,12 +194,13 @@ export function subModel(
 	free.forEach((_, p) => {
 		if (!integral[p]) return;
 		// Bounds of an integer column made from fractional held values: the whole numbers inside.
-		lower[p] = Math.ceil(lower[p]! - 1e-9);
-		upper[p] = Math.floor(upper[p]! + 1e-9);
+		// Within 1e-6 of a whole number is that number: held LP values are exact only to HiGHS's 1e-7.
+		lower[p] = Math.ceil(lower[p]! - 1e-6);
+		upper[p] = Math.floor(upper[p]! + 1e-6);
 	});
 	// Bounds crossed by round-off only are met at one point.
 	free.forEach((_, p) => {
-		if (lower[p]! > upper[p]! && lower[p]! - upper[p]! <= 1e-9 * Math.max(1, Math.abs(upper[p]!)))
+		if (lower[p]! > upper[p]! && lower[p]! - upper[p]! <= 1e-6 * Math.max(1, Math.abs(upper[p]!)))
 			lower[p] = upper[p]!;
 	});
 	const costs = options.costs ?? model.colCost;

@@ -22,11 +22,29 @@
 import { buildModel, type AwardModel, type ColumnMeaning } from '../model';
 import type { AwardProblem } from '../problem';
 import { awardLines } from '../result';
-import type { SolveOptions, SolveStatus, Solver } from '../solver';
+import type { SolveOptions, SolveOutcome, SolveStatus, Solver } from '../solver';
 import { modelSize, type Solved } from '../types';
 import { GLOBAL, LINKING, blocksOf, rowActivities, rowExcess, subModel, type Blocks } from './blocks';
 import type { Clock } from './clock';
 import type { Progress } from '../types';
+
+/** Sub-models sent to the pool at a time (two threads on two cores, and one waiting for each). */
+const IN_FLIGHT = 4;
+
+/**
+ * A sub-model's proven lower bound: a MIP's dual bound once it has an answer, an LP's optimum; none
+ * from a solve that stopped before (HiGHS then reports a dual bound of 0, which proves nothing).
+ */
+function provenBound(outcome: SolveOutcome): number | null {
+	const value = outcome.isMip
+		? outcome.status === 'optimal' || outcome.status === 'feasible'
+			? outcome.bound
+			: null
+		: outcome.status === 'optimal'
+			? outcome.objective
+			: null;
+	return value !== null && Number.isFinite(value) ? value : null;
+}
 
 /** Items per sub-MIP (independent blocks solved in one model). */
 const BATCH_ITEMS = 25;
@@ -226,17 +244,23 @@ async function solveBlocks(
 	for (let k = 0; k < broken.length; k += BATCH_ITEMS) batches.push(broken.slice(k, k + BATCH_ITEMS));
 	const solved = new Set<number>();
 	const gap = Math.min(options.gap ?? 1e-6, 1e-6);
-	const jobs: Promise<void>[] = batches.map(async (batch) => {
-		const left = clock.left();
-		if (left <= 0) return;
-		const free = batch.flatMap((b) => blocks.columnsOf[b]!);
-		const cut = subModel(model, blocks, free, x, { costs, skipRow });
-		const outcome = await solver.solve(cut.model, { timeLimit: left, gap });
-		if (outcome.bound === null || !Number.isFinite(outcome.bound)) return;
-		// Not clamped at 0: the point need not be this model's LP optimum.
-		bound += outcome.bound - atLp(free);
-		if (outcome.columns) cut.columns.forEach((j, p) => j >= 0 && (candidate[j] = outcome.columns![p]!));
-		for (const b of batch) solved.add(b);
+	// A few batches in flight at a time (the pool has a thread per core), each started only while time
+	// is left: queued all at once, they would each keep the time limit of when they were queued.
+	const waiting = [...batches];
+	const jobs: Promise<void>[] = Array.from({ length: IN_FLIGHT }, async () => {
+		for (let batch = waiting.shift(); batch; batch = waiting.shift()) {
+			const left = clock.left();
+			if (left <= 0) return;
+			const free = batch.flatMap((b) => blocks.columnsOf[b]!);
+			const cut = subModel(model, blocks, free, x, { costs, skipRow });
+			const outcome = await solver.solve(cut.model, { timeLimit: left, gap });
+			const proven = provenBound(outcome);
+			if (proven === null) continue;
+			// Not clamped at 0: the point need not be this model's LP optimum.
+			bound += proven - atLp(free);
+			if (outcome.columns) cut.columns.forEach((j, p) => j >= 0 && (candidate[j] = outcome.columns![p]!));
+			for (const b of batch) solved.add(b);
+		}
 	});
 	let global: Float64Array | null = null;
 	let globalSolved = false;
@@ -266,8 +290,9 @@ async function solveBlocks(
 					skipRow: (r) => blocks.rowBlock[r] !== GLOBAL
 				});
 				const outcome = await solver.solve(cut.model, { timeLimit: Math.max(1, clock.left()), gap });
-				if (outcome.bound === null || !outcome.columns) return;
-				bound += outcome.bound - atLp(blocks.globalColumns);
+				const proven = provenBound(outcome);
+				if (proven === null || !outcome.columns) return;
+				bound += proven - atLp(blocks.globalColumns);
 				globalSolved = true;
 				global = Float64Array.from(x);
 				cut.columns.forEach((j, p) => j >= 0 && (global![j] = outcome.columns![p]!));
@@ -339,10 +364,11 @@ function relaxationOf(problem: AwardProblem, full: AwardModel) {
 	const fullColumn = new Map<string, number>();
 	columnKeys(full).forEach((key, j) => key && fullColumn.set(key, j));
 	const columnMap = columnKeys(reduced).map((key) => (key ? (fullColumn.get(key) ?? -1) : -1));
-	// Rows that can link items: covers, capacities and each rule's rows, in the order it made them.
+	// Rows that can link items: covers, capacities, each rule's rows in the order it made them, and the
+	// row that defines each spend total (Σ spend over G − T[G] = 0: its dual prices every bid of G).
 	const rowKeys = (model: AwardModel) => {
 		const seen = new Map<number, number>();
-		return model.rows.map((m) => {
+		const keys: (string | null)[] = model.rows.map((m) => {
 			if (m.kind === 'cover') return `cover|${m.item}`;
 			if (m.kind === 'capacity') return `capacity|${m.supplier}`;
 			if (m.kind !== 'rule') return null;
@@ -350,6 +376,17 @@ function relaxationOf(problem: AwardProblem, full: AwardModel) {
 			seen.set(m.rule, n + 1);
 			return `rule|${m.rule}|${n}`;
 		});
+		let totals = 0;
+		model.columns.forEach((c, j) => {
+			if (c.kind !== 'spend_total') return;
+			const n = totals++;
+			for (let k = model.starts[j]!; k < model.starts[j + 1]!; k++) {
+				const r = model.indices[k]!;
+				if (model.rows[r]!.kind === 'structure' && model.rowLower[r] === model.rowUpper[r])
+					keys[r] = `total|${n}`;
+			}
+		});
+		return keys;
 	};
 	const fullRow = new Map<string, number>();
 	rowKeys(full).forEach((key, r) => key && fullRow.set(key, r));
@@ -832,8 +869,10 @@ async function improveBound(
 	let lastBound = startSolves.bound;
 	let factor = 1;
 	let stalled = 0;
+	let passSeconds = 0;
 	for (let step = 0; step < SUBGRADIENT_STEPS; step++) {
-		if (gapOf(bound) <= wanted || clock.left() < 1 || factor < SMALLEST_STEP) break;
+		// A step solves every block: none is started that the last one says will not fit in the time left.
+		if (gapOf(bound) <= wanted || clock.left() < Math.max(1, passSeconds) || factor < SMALLEST_STEP) break;
 		const activity = rowActivities(model, blocks, last.candidate);
 		const direction = new Float64Array(model.numRows);
 		let norm = 0;
@@ -848,7 +887,8 @@ async function improveBound(
 				: !Number.isFinite(upper)
 					? Math.max(0, duals[r]!)
 					: duals[r]!;
-			const g = a < lower ? lower - a : a > upper ? upper - a : y > 0 ? lower - a : y < 0 ? upper - a : 0;
+			// ∂L/∂y: the bound the dual points at minus the row; at 0, towards the bound the row breaks.
+			const g = y > 0 ? lower - a : y < 0 ? upper - a : a < lower ? lower - a : a > upper ? upper - a : 0;
 			direction[r] = g;
 			norm += g * g;
 		}
@@ -863,6 +903,7 @@ async function improveBound(
 			if (!Number.isFinite(model.rowUpper[r]!)) y = Math.max(0, y);
 			next[r] = y;
 		}
+		const began = clock.elapsed();
 		const pass = await solveBlocks(
 			problem,
 			model,
@@ -873,6 +914,7 @@ async function improveBound(
 			options,
 			'all'
 		);
+		passSeconds = clock.elapsed() - began;
 		if (!pass.complete) break;
 		duals = next;
 		last = pass;
