@@ -6,6 +6,9 @@ import { addAll, addTerm, type RowMeaning, type Terms } from './model-builder';
 import { bundleShares, tiersOf } from './prices';
 import type { AwardRule, Scope } from './problem';
 
+/** The meaning of every structural row, one shared object: a 10,000 x 50 model has over a million. */
+const STRUCTURE: RowMeaning = Object.freeze({ kind: 'structure' });
+
 type RuleOf<T extends AwardRule['type']> = Extract<AwardRule, { type: T }>;
 export type IndexedRule = { rule: AwardRule; index: number };
 
@@ -65,14 +68,14 @@ export function bidQuantities(ctx: ModelContext): void {
 			const top = Math.min(next === undefined ? Infinity : next - breakMargin(next), ceiling);
 			const [x, step] = stepColumn(ctx, b, t, tier.unitPrice, Math.min(top, bidLimit), next);
 			const z = m.column({ kind: 'tier_used', bid: b, tier: t }, 0, 0, 1, true);
-			m.row({ kind: 'structure' }, [x, step, z, -tier.from], 0, Infinity);
-			m.row({ kind: 'structure' }, [x, step, z, -top], -Infinity, 0);
+			m.row(STRUCTURE, [x, step, z, -tier.from], 0, Infinity);
+			m.row(STRUCTURE, [x, step, z, -top], -Infinity, 0);
 			addTerm(oneTier, z, 1);
 			addTerm(pair.quantity, x, step);
 		});
 		tierUsedRows.push(oneTier);
 	});
-	for (const terms of tierUsedRows) m.row({ kind: 'structure' }, terms, -Infinity, 1);
+	for (const terms of tierUsedRows) m.row(STRUCTURE, terms, -Infinity, 1);
 }
 
 /**
@@ -164,12 +167,12 @@ export function winIndicator(ctx: ModelContext, s: string, i: string): number | 
 	const over: Terms = [];
 	addAll(over, pair.quantity);
 	addTerm(over, y, -upper);
-	m.row({ kind: 'structure' }, over, -Infinity, 0);
+	m.row(STRUCTURE, over, -Infinity, 0);
 	const floor = Math.min(1, upper);
 	const under: Terms = [];
 	addAll(under, pair.quantity);
 	addTerm(under, y, -floor);
-	m.row({ kind: 'structure' }, under, 0, Infinity);
+	m.row(STRUCTURE, under, 0, Infinity);
 	return y;
 }
 
@@ -192,10 +195,10 @@ export function groupWinIndicator(
 	const m = ctx.builder;
 	const v = m.column({ kind: 'wins_group', supplier: s, group }, 0, 0, 1, true);
 	ctx.groupWins.set(k, v);
-	for (const y of ys) m.row({ kind: 'structure' }, [y, 1, v, -1], -Infinity, 0);
+	for (const y of ys) m.row(STRUCTURE, [y, 1, v, -1], -Infinity, 0);
 	const some: Terms = [v, 1];
 	for (const y of ys) addTerm(some, y, -1);
-	m.row({ kind: 'structure' }, some, -Infinity, 0);
+	m.row(STRUCTURE, some, -Infinity, 0);
 	return v;
 }
 
@@ -269,7 +272,7 @@ function spendTotal(ctx: ModelContext, items: string[]): number {
 	const total = m.column({ kind: 'spend_total', items: items.length }, 0, 0, most);
 	ctx.spendTotals.set(key, total);
 	addTerm(terms, total, -1);
-	m.row({ kind: 'structure' }, terms, 0, 0);
+	m.row(STRUCTURE, terms, 0, 0);
 	return total;
 }
 
