@@ -838,7 +838,7 @@ export async function solveLinked(
 }
 
 /** Most subgradient steps after the award, and the step factor below which they stop. */
-const SUBGRADIENT_STEPS = 30;
+const SUBGRADIENT_STEPS = 200;
 const SMALLEST_STEP = 1 / 64;
 
 /**
@@ -875,6 +875,7 @@ async function improveBound(
 		if (gapOf(bound) <= wanted || clock.left() < Math.max(1, passSeconds) || factor < SMALLEST_STEP) break;
 		const activity = rowActivities(model, blocks, last.candidate);
 		const direction = new Float64Array(model.numRows);
+		const scale = new Float64Array(model.numRows);
 		let norm = 0;
 		for (let r = 0; r < model.numRows; r++) {
 			if (blocks.rowBlock[r] !== LINKING) continue;
@@ -889,8 +890,16 @@ async function improveBound(
 					: duals[r]!;
 			// ∂L/∂y: the bound the dual points at minus the row; at 0, towards the bound the row breaks.
 			const g = y > 0 ? lower - a : y < 0 ? upper - a : a < lower ? lower - a : a > upper ? upper - a : 0;
-			direction[r] = g;
-			norm += g * g;
+			// Rows differ in scale (units, money, yes/no): each is measured relative to its size.
+			const size = Math.max(
+				1,
+				Math.abs(a),
+				Number.isFinite(lower) ? Math.abs(lower) : 0,
+				Number.isFinite(upper) ? Math.abs(upper) : 0
+			);
+			scale[r] = size;
+			direction[r] = g / size;
+			norm += (g / size) ** 2;
 		}
 		if (norm === 0) break;
 		const size = (factor * Math.max(0, objective - lastBound)) / norm;
@@ -898,7 +907,7 @@ async function improveBound(
 		const next = Float64Array.from(duals);
 		for (let r = 0; r < model.numRows; r++) {
 			if (direction[r] === 0) continue;
-			let y = duals[r]! + size * direction[r]!;
+			let y = duals[r]! + (size * direction[r]!) / scale[r]!;
 			if (!Number.isFinite(model.rowLower[r]!)) y = Math.min(0, y);
 			if (!Number.isFinite(model.rowUpper[r]!)) y = Math.max(0, y);
 			next[r] = y;
