@@ -9,6 +9,11 @@ export interface SolveOptions {
 	gap?: number;
 	/** Solve the LP relaxation even when the model has integers. */
 	relax?: boolean;
+	/**
+	 * A known award in this model's columns, given to a MIP as its first incumbent so that the search
+	 * prunes against it from the start (HiGHS checks it and ignores it when it breaks a row).
+	 */
+	start?: Float64Array;
 }
 
 export type SolveStatus =

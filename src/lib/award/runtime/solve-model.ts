@@ -36,6 +36,13 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 			// default choice (all 10,000 iterations either way).
 			...(isMip ? {} : { simplex_dual_edge_weight_strategy: 1 })
 		});
+		if (isMip && options.start?.length === model.numCols) {
+			try {
+				instance.setSolution({ colValue: options.start });
+			} catch {
+				// A start HiGHS refuses leaves the search as it would be without one.
+			}
+		}
 		instance.run();
 		const code = instance.getModelStatus();
 		const codes = highs.constants.modelStatus;

@@ -727,7 +727,9 @@ export async function solveLinked(
 	solver: Solver,
 	options: SolveOptions,
 	clock: Clock,
-	progress?: (update: Progress) => void
+	progress?: (update: Progress) => void,
+	/** Spend the time left after the award on a stronger bound; off when a full MIP follows. */
+	strengthen = true
 ): Promise<LinkedOutcome> {
 	const model = buildModel(problem);
 	const began = clock.elapsed();
@@ -794,7 +796,7 @@ export async function solveLinked(
 	progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
 	// With the award in hand, the time left goes to a stronger bound where the whole LP fits: that LP
 	// (with the minimum awards and supplier counts in it), and the Lagrangian bound at its duals.
-	if (gapOf(bound) > wanted && clock.left() > 1 && model.indices.length <= WHOLE_LP_ENTRIES) {
+	if (strengthen && gapOf(bound) > wanted && clock.left() > 1 && model.indices.length <= WHOLE_LP_ENTRIES) {
 		const full = await solver.solve(model, { timeLimit: clock.left(), relax: true });
 		if (full.status === 'optimal' && full.columns && full.rowDuals) {
 			const priced = { x: full.columns, duals: full.rowDuals, objective: full.objective! };
@@ -811,19 +813,20 @@ export async function solveLinked(
 		}
 	}
 	// Then subgradient steps on the multipliers while time is left.
-	bound = await improveBound(
-		problem,
-		model,
-		blocks,
-		pricing,
-		pricingSolves,
-		objective,
-		bound,
-		solver,
-		clock,
-		options,
-		(b) => progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(b, objective) })
-	);
+	if (strengthen)
+		bound = await improveBound(
+			problem,
+			model,
+			blocks,
+			pricing,
+			pricingSolves,
+			objective,
+			bound,
+			solver,
+			clock,
+			options,
+			(b) => progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(b, objective) })
+		);
 	const gap = gapOf(bound);
 	return {
 		...base,
