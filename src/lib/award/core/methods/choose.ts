@@ -5,7 +5,7 @@
 //   while the gap is above the one asked for and the MIP is small enough to finish
 //   (up to FULL_MIP_FALLBACK_INTEGERS);
 // - rules that link items (lot and event shares, spend caps, counts, fixed costs per supplier, bundles):
-//   relax the links (linked.ts) for a first award; then, up to FULL_MIP_FALLBACK_INTEGERS and from
+//   relax the links (linked.ts) for a first award; then, up to LINKED_START_MAX_INTEGERS and from
 //   LINKED_START_MIN_INTEGERS, the full MIP starts from that award (HiGHS prunes against it from its first
 //   node) in the time left. Above, relaxing the links has the whole limit.
 // Where two methods run, the better award and the higher bound are kept.
@@ -28,6 +28,8 @@ export const FULL_MIP_FALLBACK_INTEGERS = 20_000;
  * the links, and the full MIP starts from it. Below, the full MIP alone finishes in well under a second.
  */
 export const LINKED_START_MIN_INTEGERS = 1_000;
+/** Up to this many, the full MIP starts from the award found by relaxing the links. */
+export const LINKED_START_MAX_INTEGERS = 60_000;
 /** The share of the time limit relaxing the links may take before the full MIP starts from its award. */
 const LINKED_START_SHARE = 0.25;
 /**
@@ -88,7 +90,7 @@ export async function solveProblem(
 		chosen === 'auto' &&
 		linking &&
 		integers >= LINKED_START_MIN_INTEGERS &&
-		integers <= FULL_MIP_FALLBACK_INTEGERS;
+		integers <= LINKED_START_MAX_INTEGERS;
 	if (startsTheMip) {
 		const share = startClock(
 			Math.min(clock.left(), LINKED_START_SHARE * (options.timeLimit ?? DEFAULT_TIME_LIMIT))
