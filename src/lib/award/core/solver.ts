@@ -14,6 +14,18 @@ export interface SolveOptions {
 	 * prunes against it from the start (HiGHS checks it and ignores it when it breaks a row).
 	 */
 	start?: Float64Array;
+	/**
+	 * Hears a MIP's best award and bound as they improve (at most once a second, and at each new award).
+	 * Stays in the calling thread: the pool passes only a flag to its worker.
+	 */
+	onProgress?: (progress: SolveProgress) => void;
+}
+
+/** A running MIP's best award (null before one), its proven bound, and its seconds so far. */
+export interface SolveProgress {
+	objective: number | null;
+	bound: number | null;
+	seconds: number;
 }
 
 export type SolveStatus =

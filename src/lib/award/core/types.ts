@@ -1,7 +1,7 @@
 // The engine's answer and options, shared by the methods, the explanations and the engine itself.
 import type { AwardModel } from './model-builder';
 import type { AwardLine, SupplierTotal } from './result';
-import type { SolveOptions, SolveStatus } from './solver';
+import type { SolveOptions, SolveProgress, SolveStatus } from './solver';
 
 export type Method = 'lp' | 'mip' | 'decomposed' | 'lp_guided' | 'lagrangian';
 
@@ -18,11 +18,7 @@ export interface AwardOptions extends SolveOptions {
 }
 
 /** Where a solve stands: seconds since it began, the best award's cost so far (null before one), the best bound. */
-export interface Progress {
-	seconds: number;
-	objective: number | null;
-	bound: number | null;
-}
+export type Progress = SolveProgress;
 
 export interface RuleCost {
 	rule: number;

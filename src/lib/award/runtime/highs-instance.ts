@@ -3,7 +3,7 @@
 import { createRequire } from 'node:module';
 import highsLoader, { type Highs } from 'highs';
 import type { AwardModel } from '../core/model-builder';
-import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
+import type { SolveOptions, SolveOutcome, SolveProgress, Solver } from '../core/solver';
 import { solveModel } from './solve-model';
 
 const require = createRequire(import.meta.url);
@@ -19,11 +19,15 @@ export function loadHighs(): Promise<Highs> {
 export class InProcessSolver implements Solver {
 	private instance: Promise<Highs> | undefined;
 
-	async solve(model: AwardModel, options: SolveOptions): Promise<SolveOutcome> {
+	async solve(
+		model: AwardModel,
+		options: SolveOptions,
+		report: ((progress: SolveProgress) => void) | undefined = options.onProgress
+	): Promise<SolveOutcome> {
 		this.instance ??= loadHighs();
 		const highs = await this.instance;
 		try {
-			return solveModel(highs, model, options);
+			return solveModel(highs, model, options, report);
 		} catch (error) {
 			this.instance = undefined;
 			return {

@@ -1,6 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { buildModel } from '../core/model';
-import { benchmarkRules, generateProblem } from '../tools/generate';
+import type { SolveProgress } from '../core/solver';
+import { benchmarkRules, eventBenchmarkRules, generateProblem } from '../tools/generate';
 import { LIMITS, ModelTooLarge, SolveCancelled, SolverPool } from './pool';
 
 const pool = new SolverPool({ size: 2 });
@@ -40,5 +41,23 @@ describe('the solver pool', { timeout: 30_000 }, () => {
 		const outcome = await pool.solve(broken, {});
 		expect(outcome.status).toBe('solver_error');
 		expect((await pool.solve(model, {})).status).toBe('optimal');
+	});
+
+	it("passes a running MIP's best award and bound to the caller as they improve", async () => {
+		// Item rules and an event-wide supplier count: HiGHS does not finish this in 3 s.
+		const problem = generateProblem({ items: 300, suppliers: 20, seed: 11, rules: eventBenchmarkRules });
+		const heard: SolveProgress[] = [];
+		const outcome = await pool.solve(buildModel(problem), {
+			timeLimit: 3,
+			gap: 1e-6,
+			onProgress: (p) => heard.push(p)
+		});
+		expect(outcome.status).toBe('feasible');
+		const awards = heard.filter((p) => p.objective !== null);
+		expect(awards.length).toBeGreaterThan(0);
+		for (const p of awards) expect(p.bound!).toBeLessThanOrEqual(p.objective! * (1 + 1e-9));
+		// Each new award is cheaper, and the answer is the last one heard (or one found after it).
+		awards.slice(1).forEach((p, k) => expect(p.objective!).toBeLessThanOrEqual(awards[k]!.objective!));
+		expect(outcome.objective!).toBeLessThanOrEqual(awards.at(-1)!.objective! * (1 + 1e-9));
 	});
 });

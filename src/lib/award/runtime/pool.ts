@@ -6,7 +6,7 @@ import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { AwardModel } from '../core/model-builder';
-import type { SolveOptions, SolveOutcome, Solver } from '../core/solver';
+import type { SolveOptions, SolveOutcome, SolveProgress, Solver } from '../core/solver';
 
 export interface PoolOptions {
 	size?: number;
@@ -119,8 +119,17 @@ export class SolverPool implements Solver {
 			slot.job = job;
 			slot.worker.ref();
 			const worker = slot.worker;
-			const onMessage = (message: { id: number; outcome?: SolveOutcome; error?: string }) => {
+			const onMessage = (message: {
+				id: number;
+				outcome?: SolveOutcome;
+				error?: string;
+				progress?: SolveProgress;
+			}) => {
 				if (message.id !== job.id) return;
+				if (message.progress) {
+					job.options.onProgress?.(message.progress);
+					return;
+				}
 				cleanup();
 				slot.job = null;
 				const recycle =
@@ -151,10 +160,13 @@ export class SolverPool implements Solver {
 			// Only the numbers cross to the thread: cloning the column and row meanings (hundreds of
 			// thousands of small objects) would cost more than the solve.
 			const { columns: _columns, rows: _rows, uncovered: _uncovered, ...numbers } = job.model;
+			// A callback cannot cross to a thread: the worker is told to report, and the pool calls it.
+			const { onProgress, ...options } = job.options;
 			worker.postMessage({
 				id: job.id,
 				model: { ...numbers, columns: [], rows: [], uncovered: [] },
-				options: job.options
+				options,
+				reports: Boolean(onProgress)
 			});
 		}
 	}

@@ -1,9 +1,17 @@
 // One solve of an award model by a HiGHS instance given to it (the runner owns the instances).
 import type { Highs } from 'highs';
 import type { AwardModel } from '../core/model-builder';
-import type { SolveOptions, SolveOutcome } from '../core/solver';
+import type { SolveOptions, SolveOutcome, SolveProgress } from '../core/solver';
 
-export function solveModel(highs: Highs, model: AwardModel, options: SolveOptions = {}): SolveOutcome {
+/** Least seconds between two progress reports of a running MIP that found no new award. */
+const PROGRESS_EVERY_SECONDS = 1;
+
+export function solveModel(
+	highs: Highs,
+	model: AwardModel,
+	options: SolveOptions = {},
+	report?: (progress: SolveProgress) => void
+): SolveOutcome {
 	const isMip = model.integers > 0 && !options.relax;
 	const began = performance.now();
 	const instance = highs.createModel({
@@ -43,7 +51,8 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 				// A start HiGHS refuses leaves the search as it would be without one.
 			}
 		}
-		instance.run();
+		if (isMip && report) instance.run(progressCallbacks(highs, report));
+		else instance.run();
 		const code = instance.getModelStatus();
 		const codes = highs.constants.modelStatus;
 		const seconds = (performance.now() - began) / 1000;
@@ -120,4 +129,27 @@ export function solveModel(highs: Highs, model: AwardModel, options: SolveOption
 	} finally {
 		instance.dispose();
 	}
+}
+
+/** HiGHS's MIP callbacks: each new award at once, and the bound at most once a second. */
+function progressCallbacks(highs: Highs, report: (progress: SolveProgress) => void) {
+	const types = highs.constants.callbackType;
+	let last = -Infinity;
+	const number = (value: number | undefined) =>
+		value !== undefined && Number.isFinite(value) ? value : null;
+	const send = (data: { running_time?: number; mip_primal_bound?: number; mip_dual_bound?: number }) => {
+		const seconds = data.running_time ?? 0;
+		last = seconds;
+		report({ objective: number(data.mip_primal_bound), bound: number(data.mip_dual_bound), seconds });
+	};
+	return {
+		[types.mipImprovingSolution]: (event: { data: Parameters<typeof send>[0] }) => {
+			send(event.data);
+			return undefined;
+		},
+		[types.mipInterrupt]: (event: { data: Parameters<typeof send>[0] }) => {
+			if ((event.data.running_time ?? 0) - last >= PROGRESS_EVERY_SECONDS) send(event.data);
+			return undefined;
+		}
+	};
 }

@@ -155,8 +155,9 @@ export async function executeRun(runId: string): Promise<void> {
 					{ error: parsed.problems.join('; ') },
 					{ reason: 'invalid problem' }
 				));
-			// The engine reports its best award and bound as they improve (a few times a solve): each is
-			// written at once, for the run page, while the run is still this worker's.
+			// The engine reports its best award and bound as they improve (at each new award, and a running
+			// MIP at most once a second otherwise): each is written in order, for the run page, while the
+			// run is still this worker's.
 			let writes = Promise.resolve();
 			const onProgress = (progress: Progress) => {
 				writes = writes.then(() => recordSolveProgress(db(), run.id, owner, progress)).catch(() => undefined);

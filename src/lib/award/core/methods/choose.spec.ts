@@ -7,6 +7,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { SolverPool } from '../../runtime/pool';
 import { eventBenchmarkRules, generateProblem } from '../../tools/generate';
 import { solveAward } from '../engine';
+import type { Progress } from '../types';
 import { buildModel } from '../model';
 import { LINKED_START_MIN_INTEGERS } from './choose';
 import { startClock } from './clock';
@@ -40,5 +41,23 @@ describe('rules that link items, from LINKED_START_MIN_INTEGERS integers', { tim
 		expect(both.bound!).toBeLessThanOrEqual(both.totalCost!);
 		expect(both.gap!).toBeCloseTo((both.totalCost! - both.bound!) / both.totalCost!, 9);
 		if (both.status === 'optimal') expect(both.gap!).toBeLessThanOrEqual(1e-4);
+	});
+
+	it('reports the best award and bound while the full MIP runs', async () => {
+		const heard: Progress[] = [];
+		const result = await solveAward(problem, pool, {
+			timeLimit: 8,
+			gap: 1e-9,
+			onProgress: (p) => heard.push(p)
+		});
+		const awards = heard.filter((p) => p.objective !== null);
+		// The relaxed links' award, then the MIP's reports (at least one a second while it runs).
+		expect(awards.length).toBeGreaterThan(2);
+		for (const p of awards) expect(p.bound!).toBeLessThanOrEqual(p.objective!);
+		awards.slice(1).forEach((p, k) => {
+			expect(p.objective!).toBeLessThanOrEqual(awards[k]!.objective!);
+			expect(p.seconds).toBeGreaterThanOrEqual(awards[k]!.seconds);
+		});
+		expect(result.totalCost!).toBeLessThanOrEqual(awards.at(-1)!.objective! * (1 + 1e-9));
 	});
 });

@@ -12,7 +12,7 @@
 import { buildModel } from '../model';
 import type { AwardProblem } from '../problem';
 import type { Solver } from '../solver';
-import type { AwardOptions, Solved } from '../types';
+import type { AwardOptions, Progress, Solved } from '../types';
 import { DEFAULT_TIME_LIMIT, startClock, type Clock } from './clock';
 import { independentItemGroups, solveDecomposed } from './decomposition';
 import { integerEstimate, lpGuidedAppliesTo, solveLpGuided } from './lp-guided';
@@ -39,15 +39,38 @@ const LINKED_START_SHARE = 0.25;
  */
 const MIP_TIME_SHARE = 0.92;
 
-/** Every solve through `solver` gets the time left on the clock, never its own full limit. */
-function onClock(solver: Solver, clock: Clock): Solver {
+/**
+ * Every solve through `solver` gets the time left on the clock, never its own full limit. Progress is
+ * passed on only where the caller says a solve's awards are awards of the whole problem (`reports`).
+ */
+function onClock(solver: Solver, clock: Clock, reports = false): Solver {
 	return {
-		// Only what a solve takes: the options may carry a callback, which cannot cross to a worker thread.
-		solve: (model, { gap, relax, start }) => {
+		solve: (model, { gap, relax, start, onProgress }) => {
 			const mip = model.integers > 0 && !relax;
 			const left = clock.left() * (mip ? MIP_TIME_SHARE : 1);
-			return solver.solve(model, { gap, relax, start, timeLimit: Math.max(0.2, left) });
+			return solver.solve(model, {
+				gap,
+				relax,
+				start,
+				timeLimit: Math.max(0.2, left),
+				...(reports && onProgress ? { onProgress } : {})
+			});
 		}
+	};
+}
+
+/** A MIP's progress joined with an award and bound found before it, as the whole solve's progress. */
+function joined(before: Solved, clock: Clock, report: (progress: Progress) => void) {
+	return (mip: Progress) => {
+		const awards = [before.objective, mip.objective].filter((x): x is number => x !== null);
+		const objective = awards.length ? Math.min(...awards) : null;
+		const bounds = [before.bound, mip.bound].filter((x): x is number => x !== null);
+		const bound = bounds.length ? Math.max(...bounds) : null;
+		report({
+			seconds: clock.elapsed(),
+			objective,
+			bound: bound !== null && objective !== null ? Math.min(bound, objective) : bound
+		});
 	};
 }
 
@@ -98,9 +121,10 @@ export async function solveProblem(
 		const { columns, ...first } = await linked(effective, onClock(solver, share), options, share, false);
 		if (settled(first) || clock.left() < 1) return first;
 		const model = buildModel(effective);
-		const whole = await solveWhole(effective, model, timed, {
+		const whole = await solveWhole(effective, model, onClock(solver, clock, true), {
 			...options,
-			start: columns ?? undefined
+			start: columns ?? undefined,
+			onProgress: options.onProgress && joined(first, clock, options.onProgress)
 		});
 		return best(first, whole, wanted);
 	}
@@ -117,13 +141,17 @@ export async function solveProblem(
 		if (chosen !== 'auto' || settled(first) || integers > FULL_MIP_FALLBACK_INTEGERS || clock.left() < 1)
 			return first;
 		const model = buildModel(effective);
-		return best(first, await solveWhole(effective, model, timed, options), wanted);
+		const whole = await solveWhole(effective, model, onClock(solver, clock, true), {
+			...options,
+			onProgress: options.onProgress && joined(first, clock, options.onProgress)
+		});
+		return best(first, whole, wanted);
 	}
 	const model = buildModel(problem, { withoutRules });
 	const wantSplit = chosen === 'decomposed' || (chosen !== 'monolithic' && model.integers > 0);
 	const groups = wantSplit ? independentItemGroups(model, problem) : [];
 	if (groups.length > 1) return solveDecomposed(problem, model, groups, timed, options, withoutRules);
-	return solveWhole(problem, model, timed, options);
+	return solveWhole(problem, model, onClock(solver, clock, true), options);
 }
 
 /** Ended for good: proven optimal, or no award exists. */

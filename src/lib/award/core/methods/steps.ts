@@ -22,9 +22,11 @@ export async function solveStepsFreeFirst(
 	if (!stepped.length || options.relax) return solver.solve(model, options);
 	const integrality = Int32Array.from(model.integrality);
 	for (const j of stepped) integrality[j] = 0;
+	// Its awards may be in parts, so they are not reported as awards of this model.
+	const { onProgress: _progress, ...freeOptions } = options;
 	const free = await solver.solve(
 		{ ...model, integrality, integers: model.integers - stepped.length },
-		options
+		freeOptions
 	);
 	// In parts there is no answer, so there is none in steps either.
 	if (free.status === 'infeasible') return { ...free, isMip: true };
