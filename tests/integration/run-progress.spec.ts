@@ -31,10 +31,11 @@ interface Progress {
 	seconds: number;
 	objective: number | null;
 	bound: number | null;
+	awardSeconds: number | null;
 }
 
 describe('a running award solve', () => {
-	it('shows its best award so far and the bound, before it ends', async () => {
+	it('shows its best award so far and the bound, before it ends', { timeout: 150_000 }, async () => {
 		const buyer = await aUser('buyer');
 		const { organisation } = await aSupplierOrganisationWithUser();
 		const event = await anOpenEvent({ createdBy: buyer.id, invite: [organisation.id] });
@@ -48,8 +49,21 @@ describe('a running award solve', () => {
 			(r) => r.status === 'running' && (r.solve_progress as Progress | null)?.objective != null,
 			90
 		);
-		const stored = running.solve_progress as Progress;
-		expect(stored.bound).not.toBeNull();
+		const first = running.solve_progress as Progress;
+		expect(first.bound).not.toBeNull();
+		expect(first.bound!).toBeLessThanOrEqual(first.objective!);
+		// A stronger bound for the same award comes later: the report is newer, the award is not.
+		const later = await until(
+			run.id,
+			(r) => {
+				const p = r.solve_progress as Progress | null;
+				return r.status !== 'running' || (p !== null && p.seconds > first.awardSeconds! + 1);
+			},
+			60
+		);
+		expect(later.status).toBe('running');
+		const stored = later.solve_progress as Progress;
+		expect(stored.objective!).toBeLessThanOrEqual(first.objective!);
 		expect(stored.bound!).toBeLessThanOrEqual(stored.objective!);
 
 		const client = await signedIn(buyer);
@@ -63,6 +77,9 @@ describe('a running award solve', () => {
 		expect(json.status).toBe('running');
 		const best = json.progress.best!;
 		expect(best).not.toBeNull();
+		// When the award shown was found, not when the worker last wrote.
+		expect(best.afterSeconds).toBeLessThan(stored.seconds);
+		if (best.totalCost === first.objective) expect(best.afterSeconds).toBeCloseTo(first.awardSeconds!, 6);
 		expect(best.totalCost).toBeLessThanOrEqual(stored.objective! + 1e-6);
 		expect(best.bound).toBeLessThanOrEqual(best.totalCost);
 		expect(best.gap).toBeCloseTo((best.totalCost - best.bound) / best.totalCost, 9);

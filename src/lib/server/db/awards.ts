@@ -6,9 +6,8 @@
 import type { AwardRule } from '$lib/award/core/problem';
 import type { Knex } from 'knex';
 import { BoundedCache } from '../bounded-cache';
-import type { Progress } from '$lib/award/core/engine';
 import type { Db } from './knex';
-import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow } from './tables';
+import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow, StoredProgress } from './tables';
 
 export const LOWEST_COST = 'Lowest cost (no rules)';
 
@@ -396,7 +395,7 @@ export async function recordSolveProgress(
 	db: Db,
 	runId: string,
 	owner: string,
-	progress: Progress
+	progress: StoredProgress
 ): Promise<void> {
 	await db('award_runs')
 		.where({ id: runId, owner, status: 'running' })

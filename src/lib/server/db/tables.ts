@@ -1,5 +1,12 @@
 // Row types of the tables, as the database returns them.
 import type { AwardResult, Progress } from '$lib/award/core/engine';
+
+/**
+ * The engine's last report, and when it found the award it reports (`seconds` is when it reported:
+ * a stronger bound comes later for the same award). Null before the first award; absent in rows
+ * written before it was kept.
+ */
+export type StoredProgress = Progress & { awardSeconds?: number | null };
 import type { AwardProblem, AwardRule } from '$lib/award/core/problem';
 import type { Role } from '$lib/roles';
 
@@ -78,7 +85,7 @@ export interface RunRow {
 	/** How often a run (or its explanation) was taken over after its worker stopped. */
 	restarts: number;
 	/** Where the running solve stands, as its worker last wrote it (the engine's Progress). */
-	solve_progress: Progress | null;
+	solve_progress: StoredProgress | null;
 	/** Rule costs, conflicts and sensitivity: worked out after the allocation, by their own job. */
 	explanation: Pick<AwardResult, 'ruleCosts' | 'conflicts' | 'sensitivity'> | null;
 	explanation_status: 'pending' | 'running' | 'done' | 'failed' | 'not_needed';

@@ -56,7 +56,7 @@ export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) 
 			best:
 				run.status === 'running' && run.solve_progress
 					? {
-							afterSeconds: run.solve_progress.seconds,
+							afterSeconds: run.solve_progress.awardSeconds ?? run.solve_progress.seconds,
 							totalCost: run.solve_progress.objective,
 							bound: run.solve_progress.bound,
 							gap:

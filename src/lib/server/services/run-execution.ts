@@ -158,9 +158,14 @@ export async function executeRun(runId: string): Promise<void> {
 			// The engine reports its best award and bound as they improve (at each new award, and a running
 			// MIP at most once a second otherwise): each is written in order, for the run page, while the
 			// run is still this worker's.
+			// With each, when the award it reports was found: a stronger bound for the same award comes later.
 			let writes = Promise.resolve();
+			let award: { objective: number; seconds: number } | null = null;
 			const onProgress = (progress: Progress) => {
-				writes = writes.then(() => recordSolveProgress(db(), run.id, owner, progress)).catch(() => undefined);
+				if (progress.objective !== null && (award === null || progress.objective < award.objective))
+					award = { objective: progress.objective, seconds: progress.seconds };
+				const stored = { ...progress, awardSeconds: award?.seconds ?? null };
+				writes = writes.then(() => recordSolveProgress(db(), run.id, owner, stored)).catch(() => undefined);
 			};
 			const result = await solveAward(parsed.problem, poolSolver(signal), {
 				...RUN_OPTIONS,
