@@ -53,18 +53,25 @@ export function rowsOf(model: AwardModel) {
 	return { rowStarts, rowColumns, rowValues };
 }
 
+/** The problem's items as disjoint sets (union-find): `find` names an item's set, `union` joins two. */
+export function itemSets(problem: AwardProblem) {
+	const parent = new Map<string, string>();
+	for (const item of problem.items) parent.set(item.ref, item.ref);
+	const find = (a: string): string => {
+		let root = a;
+		while (parent.get(root)! !== root) root = parent.get(root)!;
+		parent.set(a, root);
+		return root;
+	};
+	const union = (a: string, b: string) => void parent.set(find(a), find(b));
+	return { find, union };
+}
+
 /** The blocks of a model; columns held fixed (lower = upper) link nothing. */
 export function blocksOf(problem: AwardProblem, model: AwardModel): Blocks {
-	const root = new Map<string, string>();
-	const find = (a: string): string => {
-		let r = a;
-		while (root.get(r)! !== r) r = root.get(r)!;
-		root.set(a, r);
-		return r;
-	};
-	for (const item of problem.items) root.set(item.ref, item.ref);
+	const { find, union } = itemSets(problem);
 	const columnItems = model.columns.map((c) => itemsOfColumn(problem, c));
-	for (const items of columnItems) for (const i of items.slice(1)) root.set(find(i), find(items[0]!));
+	for (const items of columnItems) for (const i of items.slice(1)) union(i, items[0]!);
 	const indexOfRoot = new Map<string, number>();
 	const items: string[][] = [];
 	for (const item of problem.items) {

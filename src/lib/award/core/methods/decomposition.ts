@@ -5,25 +5,13 @@ import { restrictToItems, type AwardProblem } from '../problem';
 import { awardLines } from '../result';
 import type { SolveOptions, Solver } from '../solver';
 import { modelSize, type Solved } from '../types';
+import { itemsOfColumn, itemSets } from './blocks';
 import { solveStepsFreeFirst } from './steps';
 
 /** The groups of items linked by a row or a column of the model, in the problem's order. */
 export function independentItemGroups(model: AwardModel, problem: AwardProblem): string[][] {
-	const parent = new Map<string, string>();
-	const find = (a: string): string => {
-		let root = a;
-		while (parent.get(root)! !== root) root = parent.get(root)!;
-		parent.set(a, root);
-		return root;
-	};
-	const union = (a: string, b: string) => parent.set(find(a), find(b));
-	for (const item of problem.items) parent.set(item.ref, item.ref);
-	const itemOfColumn = model.columns.map((c) => {
-		if (c.kind === 'tier' || c.kind === 'tier_used') return [problem.bids[c.bid]!.item];
-		if (c.kind === 'bundle') return problem.bundles[c.bundle]!.items.map((l) => l.item);
-		if (c.kind === 'wins') return [c.item];
-		return [];
-	});
+	const { find, union } = itemSets(problem);
+	const itemOfColumn = model.columns.map((c) => itemsOfColumn(problem, c));
 	// Group columns by row: walk the column-major matrix once.
 	const firstItemOfRow: (string | undefined)[] = new Array(model.numRows);
 	for (let j = 0; j < model.numCols; j++) {
