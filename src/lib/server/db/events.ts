@@ -179,19 +179,6 @@ export function listItems(db: Db, eventId: string): Promise<ItemRow[]> {
 	return listItemsQuery(db, eventId) as unknown as Promise<ItemRow[]>;
 }
 
-/** One page of the event's items in their order, with the count of all of them. */
-export async function listItemsPage(
-	db: Db,
-	eventId: string,
-	page: { offset: number; limit: number }
-): Promise<{ items: ItemRow[]; total: number }> {
-	const [items, count] = await Promise.all([
-		listItemsQuery(db, eventId).offset(page.offset).limit(page.limit),
-		db('items').where('event_id', eventId).count<{ count: string }[]>('* as count')
-	]);
-	return { items: items as unknown as ItemRow[], total: Number(count[0]?.count ?? 0) };
-}
-
 /** Replaces the event's lots and items in one go (only while the event is a draft). */
 export async function replaceItems(db: Db, eventId: string, items: ItemFields[]): Promise<void> {
 	await db('items').where({ event_id: eventId }).delete();

@@ -4,7 +4,6 @@
 // submitted when, and prices only after the deadline.
 import { createHash, randomUUID } from 'node:crypto';
 import type { SessionUser } from '../auth/session-user';
-import { BoundedCache } from '../bounded-cache';
 import { now } from '../clock';
 import {
 	finishUpload,
@@ -21,7 +20,7 @@ import {
 	type UploadRow,
 	type VisibleBid
 } from '../db/bids';
-import { holdEvent, listItems, listItemsPage, type EventRow, type ItemRow } from '../db/events';
+import { holdEvent, listItems, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
 import { bidReceiptMail, withdrawalMail } from '../mail/templates';
@@ -34,7 +33,6 @@ import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, eventMail, sheetEvent } from './events';
 import type { RequestContext } from './users';
-import { TABULATION_PAGE_ITEMS } from '$lib/paging';
 import { formatInZone } from '$lib/time';
 
 async function supplierEvent(actor: SessionUser, id: string): Promise<EventRow> {
@@ -408,53 +406,6 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 	const access = await eventFor(actor, id);
 	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bidders.', undefined, 403);
 	return listSubmissions(db(), id);
-}
-
-/**
- * Pages of opened events' tabulations, by event, page and every supplier's latest revision: the same page
- * was read again (about nine queries) for every view. Bounded by cells (items x bids): a page of 50 items
- * and 50 bids is 2,550.
- */
-const openedPages = new BoundedCache<Tabulation>(250_000);
-
-export interface Tabulation {
-	sealed: boolean;
-	submissions: Submission[];
-	/** The current bids with the lines of this page's items only (no bundle offers). */
-	bids: VisibleBid[];
-	items: ItemRow[];
-	page: number;
-	pages: number;
-}
-
-/**
- * The Bids tab for staff: who has submitted, and once the deadline has passed one page of items with
- * each current bid's prices for them (one access check; only the page's lines are read).
- */
-export async function tabulation(actor: SessionUser, id: string, askedPage: number): Promise<Tabulation> {
-	const access = await eventFor(actor, id);
-	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bids.', undefined, 403);
-	const sealed = ['draft', 'open'].includes(effectiveState(access.event));
-	if (sealed) {
-		return { sealed, submissions: await listSubmissions(db(), id), bids: [], items: [], page: 1, pages: 1 };
-	}
-	const wanted = Number.isInteger(askedPage) && askedPage > 1 ? askedPage : 1;
-	const received = await listSubmissions(db(), id);
-	// After the deadline an event's items and bids no longer change; were a bid added all the same (a
-	// server clock moved back and forth), its supplier's latest revision number would change the key.
-	const key = `${id}|${wanted}|${received.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
-	const known = openedPages.get(key);
-	if (known) return known;
-	const pageOf = (n: number) =>
-		listItemsPage(db(), id, { offset: (n - 1) * TABULATION_PAGE_ITEMS, limit: TABULATION_PAGE_ITEMS });
-	const asked = await pageOf(wanted);
-	const pages = Math.max(1, Math.ceil(asked.total / TABULATION_PAGE_ITEMS));
-	const page = Math.min(wanted, pages);
-	// A page past the end (a stale link after items were removed) shows the last one.
-	const { items } = page === wanted ? asked : await pageOf(page);
-	const bids = await visibleBids(db(), id, actor.organisationId, now(), { itemIds: items.map((i) => i.id) });
-	const tab = { sealed, submissions: received, bids, items, page, pages };
-	return openedPages.set(key, tab, items.length * (bids.length + 1));
 }
 
 /** Every current bid with prices, for staff, once the deadline has passed; 403 before. */

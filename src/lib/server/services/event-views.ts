@@ -17,7 +17,6 @@ import {
 import { db } from '../db/knex';
 import { now } from '../clock';
 import type { SheetEvent } from '../sheets/bid-sheet';
-import type { Tabulation } from './bids';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, sheetEvent } from './events';
 
@@ -196,53 +195,6 @@ export function bidJson(bid: VisibleBid) {
 			ref: b.ref,
 			price: Number(b.price),
 			items: b.items.map((i) => ({ item: i.item, quantity: Number(i.quantity) }))
-		}))
-	};
-}
-
-const tabulationPrice = new Intl.NumberFormat('en', { minimumFractionDigits: 2, maximumFractionDigits: 6 });
-
-/**
- * One page of the opened-bids tabulation as the page shows it: a column per current bid, a row per item
- * with each bid's unit price and price breaks as text ("—" where the bid has no price). Made here, not in
- * the page, so the page's data is the text it shows and not the bids behind it (the page is rendered on
- * the server for every request, and its size is most of that time).
- */
-export function tabulationJson(tab: Pick<Tabulation, 'bids' | 'items'>) {
-	const known = shapedPages.get(tab);
-	if (known) return known;
-	const shaped = shapeTabulation(tab.bids, tab.items);
-	// A page from the tabulation cache is the same (frozen) object every time: shape it once.
-	if (Object.isFrozen(tab)) shapedPages.set(tab, shaped);
-	return shaped;
-}
-
-const shapedPages = new WeakMap<object, ReturnType<typeof shapeTabulation>>();
-
-function shapeTabulation(bids: VisibleBid[], items: ItemRow[]) {
-	const money = (value: string) => tabulationPrice.format(Number(value));
-	const priceOf = new Map(
-		bids.flatMap((b, column) => b.lines.map((l) => [`${column}|${l.item}`, l] as const))
-	);
-	return {
-		suppliers: bids.map((b) => ({
-			id: b.supplierOrganisationId,
-			name: b.source === 'withdrawal' ? `${b.supplierName} (withdrawn)` : b.supplierName
-		})),
-		rows: items.map((item) => ({
-			ref: item.ref,
-			item: `${item.ref} ${item.description}`,
-			quantity:
-				`${Number(item.quantity)} ${item.unit}` +
-				(item.order_multiple === null ? '' : ` in multiples of ${Number(item.order_multiple)}`),
-			/** Per bid: the unit price, and its pack size and price breaks after a " · " (or ""). */
-			cells: bids.map((_, column): [string, string] => {
-				const line = priceOf.get(`${column}|${item.ref}`);
-				if (!line) return ['—', ''];
-				const notes = line.priceBreaks.map((b) => `${money(b.unitPrice)} from ${Number(b.fromQuantity)}`);
-				if (line.packSize !== null) notes.unshift(`packs of ${Number(line.packSize)}`);
-				return [money(line.unitPrice), notes.length ? ` · ${notes.join(' · ')}` : ''];
-			})
 		}))
 	};
 }

@@ -1,0 +1,38 @@
+// Minor units are ISO 4217's (JPY 0, EUR 2, BHD 3, as DOMAIN.md lists them); the grouping is the English
+// convention Intl.NumberFormat('en') applies (a comma every three digits, a point before the decimals).
+import { describe, expect, it } from 'vitest';
+import {
+	formatChange,
+	formatMoney,
+	formatQuantity,
+	formatShare,
+	formatUnitPrice,
+	minorUnits
+} from './format';
+
+describe('number formats', () => {
+	it('uses each currency’s minor units (ISO 4217)', () => {
+		expect([minorUnits('JPY'), minorUnits('EUR'), minorUnits('BHD')]).toEqual([0, 2, 3]);
+		expect(formatMoney(3248729.094, 'EUR')).toBe('3,248,729.09');
+		expect(formatMoney(3248729.5, 'JPY')).toBe('3,248,730');
+		expect(formatMoney(12.3456, 'BHD')).toBe('12.346');
+	});
+
+	it('keeps a unit price’s extra decimals, up to four beyond the currency’s', () => {
+		expect(formatUnitPrice(1.203, 'EUR')).toBe('1.203');
+		expect(formatUnitPrice(0.5, 'EUR')).toBe('0.50');
+		expect(formatUnitPrice(1.123456789, 'EUR')).toBe('1.123457');
+	});
+
+	it('groups quantities and drops trailing zeros', () => {
+		expect(formatQuantity(1910)).toBe('1,910');
+		expect(formatQuantity(3643.5)).toBe('3,643.5');
+	});
+
+	it('writes shares and changes with a sign', () => {
+		expect(formatShare(0.125)).toBe('12.5%');
+		expect(formatChange(0.042)).toBe('+4.2%');
+		expect(formatChange(-0.03)).toBe('−3.0%');
+		expect(formatChange(0.00001)).toBe('±0.0%');
+	});
+});

@@ -1,0 +1,88 @@
+// Numbers as people read them: thousands separators, a currency's own minor units (ISO 4217: JPY 0, EUR 2,
+// BHD 3, as Intl reports them), unit prices with up to four more decimals than the currency (bids price
+// small parts in fractions of a cent), quantities without trailing zeros. One formatter per shape and
+// currency: making an Intl.NumberFormat costs far more than using it.
+const formatters = new Map<string, Intl.NumberFormat>();
+
+function formatter(key: string, make: () => Intl.NumberFormat): Intl.NumberFormat {
+	let found = formatters.get(key);
+	if (!found) {
+		found = make();
+		if (formatters.size < 1000) formatters.set(key, found);
+	}
+	return found;
+}
+
+/** Decimals of the currency's minor unit (2 where Intl does not know the code). */
+export function minorUnits(currency: string): number {
+	try {
+		return formatter(
+			`minor|${currency}`,
+			() => new Intl.NumberFormat('en', { style: 'currency', currency })
+		).resolvedOptions().maximumFractionDigits!;
+	} catch {
+		return 2;
+	}
+}
+
+/** An amount in the currency's minor units: "3,248,729.09" (the code is shown beside it, once). */
+export function formatMoney(value: number, currency: string): string {
+	const digits = minorUnits(currency);
+	return formatter(
+		`money|${digits}`,
+		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits })
+	).format(value);
+}
+
+/** A unit price: at least the currency's minor units, up to four more where the bid has them. */
+export function formatUnitPrice(value: number, currency: string): string {
+	const digits = minorUnits(currency);
+	return formatter(
+		`unit|${digits}`,
+		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits + 4 })
+	).format(value);
+}
+
+/** A quantity: grouped, up to six decimals, none when whole ("1,910", "12.5"). */
+export function formatQuantity(value: number): string {
+	return formatter('quantity', () => new Intl.NumberFormat('en', { maximumFractionDigits: 6 })).format(value);
+}
+
+/** A share (0.125) as "12.5%". */
+export function formatShare(share: number, digits = 1): string {
+	return formatter(
+		`share|${digits}`,
+		() =>
+			new Intl.NumberFormat('en', {
+				style: 'percent',
+				minimumFractionDigits: digits,
+				maximumFractionDigits: digits
+			})
+	).format(share);
+}
+
+/** A relative change (0.042) as "+4.2%", with a true minus sign ("−3.0%") and "±0.0%" for none. */
+export function formatChange(share: number, digits = 1): string {
+	const text = formatShare(Math.abs(share), digits);
+	if (text === formatShare(0, digits)) return `±${text}`;
+	return `${share > 0 ? '+' : '−'}${text}`;
+}
+
+/** Excel number formats for the same shapes (thousands separators, the currency's decimals). */
+export function excelMoneyFormat(currency: string): string {
+	const digits = minorUnits(currency);
+	return digits ? `#,##0.${'0'.repeat(digits)}` : '#,##0';
+}
+
+/** At least one decimal even for a currency without minor units: a format ending in "." shows a dot. */
+export function excelUnitPriceFormat(currency: string): string {
+	const digits = Math.max(1, minorUnits(currency));
+	return `#,##0.${'0'.repeat(digits)}${'#'.repeat(4)}`;
+}
+
+/** Whole quantities without a decimal point, others with three to six decimals. */
+export function excelQuantityFormat(value: number): string {
+	return Number.isInteger(value) ? '#,##0' : '#,##0.000###';
+}
+
+export const EXCEL_SHARE_FORMAT = '0.0%';
