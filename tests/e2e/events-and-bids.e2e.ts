@@ -169,12 +169,23 @@ describe('an event from set-up to the opening of bids, in a browser', () => {
 		// Before the deadline: the buyer sees who submitted and when, but no price; the API says 403.
 		await signInAsStaff(buyer.email, buyer.password!);
 		await page.goto(`${eventUrl}/bids`);
-		expect(await page.getByTestId('submissions').textContent()).toContain(first.organisation.name);
-		expect(await page.getByTestId('submissions').textContent()).not.toContain(second.organisation.name);
+		const invited = page.getByTestId('invited-bid-status');
+		expect(await invited.getByRole('row', { name: first.organisation.name }).textContent()).toContain(
+			'Bid in'
+		);
+		expect(await invited.getByRole('row', { name: second.organisation.name }).textContent()).toContain(
+			'No bid yet'
+		);
 		expect(await page.getByTestId('sealed-note').isVisible()).toBe(true);
 		expect(await page.locator('main').textContent()).not.toContain('3.02');
 		expect((await page.request.get(`${appUrl()}/api/events/${eventId}/bids`)).status()).toBe(403);
 		await expectAccessible('bids page, sealed');
+		// The reminder goes to the two invited suppliers without a bid; its answer shows beside the button.
+		await page.getByRole('button', { name: 'Remind the 2 suppliers who have not bid' }).click();
+		await expect
+			.poll(() => page.getByRole('status').filter({ hasText: 'Reminder sent' }).textContent())
+			.toContain('at the 2 suppliers that have not bid');
+		await expectAccessible('bids page, reminder sent');
 
 		// After the deadline (the server's clock moved two days on): the prices open to the buyer.
 		writeFileSync(clockFile()!, JSON.stringify({ offsetMs: 2 * 24 * 3600_000 }));
@@ -184,7 +195,8 @@ describe('an event from set-up to the opening of bids, in a browser', () => {
 			const opened = await page.getByTestId('opened-prices').textContent();
 			expect(opened).toContain(first.organisation.name);
 			expect(opened).toContain('3.02');
-			expect(opened).toContain('2.90 from 50');
+			expect(opened).toContain('from 50: 2.90');
+			expect(await page.getByTestId('opened-prices').locator('[data-lowest]').count()).toBeGreaterThan(0);
 			expect((await page.request.get(`${appUrl()}/api/events/${eventId}/bids`)).status()).toBe(200);
 			await expectAccessible('bids page, opened');
 		} finally {

@@ -35,3 +35,16 @@ export async function insertTrailEntry(db: Db, row: TrailRow): Promise<void> {
 export function listTrailRows(db: Db, eventId: string): Promise<TrailRow[]> {
 	return db('trail_entries').where({ event_id: eventId }).orderBy('seq');
 }
+
+/** The newest entry of one action in an event's trail, with the current name of the user who made it. */
+export function latestTrailAction(
+	db: Db,
+	eventId: string,
+	action: string
+): Promise<(Pick<TrailRow, 'at' | 'actor' | 'detail'> & { actor_name: string | null }) | undefined> {
+	return db('trail_entries as t')
+		.leftJoin('users as u', 'u.id', 't.actor_user_id')
+		.where({ 't.event_id': eventId, 't.action': action })
+		.orderBy('t.seq', 'desc')
+		.first('t.at', 't.actor', 't.detail', 'u.name as actor_name');
+}

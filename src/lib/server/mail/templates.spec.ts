@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import {
 	awardNoticeMail,
 	bidReceiptMail,
+	bidReminderMail,
 	invitationMail,
 	regretNoticeMail,
 	signInLinkMail
@@ -38,6 +39,25 @@ describe('mail templates', () => {
 		expect(mail.html).toContain('Osk &amp; Vale');
 		expect(mail.html).toContain('href="http://127.0.0.1/?a=1&amp;b=&quot;2&quot;"');
 		expect(mail.text).toContain('works for 72 hours');
+	});
+
+	it('reminds a supplier of its own missing bid with the deadline, the late-bid rule and the link', () => {
+		const mail = bidReminderMail('s@example.test', {
+			reference: 'EV-9',
+			title: 'Cartons',
+			buyerName: 'Buyer',
+			deadline: '2027-03-02 10:00 (Europe/Berlin)',
+			url: 'http://127.0.0.1/supplier/events/9',
+			trailHead: { seq: 4, hash: 'ef'.repeat(32) }
+		});
+		expect(mail.subject).toBe('Reminder: no bid yet for EV-9 Cartons');
+		for (const part of [mail.text, mail.html]) {
+			expect(part).toContain('your organisation has not yet submitted a bid');
+			expect(part).toContain('Bids close at 2027-03-02 10:00 (Europe/Berlin).');
+			expect(part).toContain('cannot be accepted');
+			expect(part).toContain('http://127.0.0.1/supplier/events/9');
+			expect(part).toContain(`entry 4, SHA-256 ${'ef'.repeat(32)}`);
+		}
 	});
 
 	it('carries the decision trail head in receipts and notices, so it is kept outside the database', () => {

@@ -124,6 +124,24 @@ export function amendmentMail(
 	);
 }
 
+/**
+ * To each user of an invited supplier organisation that has not bid: only its own missing bid, never
+ * another supplier's name or how many have bid.
+ */
+export function bidReminderMail(to: string, event: EventMailContext): OutgoingMail {
+	return notice(
+		to,
+		`Reminder: no bid yet for ${event.reference} ${event.title}`,
+		[
+			`${event.buyerName} reminds you that your organisation has not yet submitted a bid in the sourcing event ${event.reference} “${event.title}”.`,
+			`Bids close at ${event.deadline}. A bid received after that time cannot be accepted.`,
+			`The bid sheet, the terms and the clarifications are on the event's page. If you have bid in the meantime, or do not intend to bid, you can ignore this message.`
+		],
+		{ label: 'Open the event', url: event.url },
+		event
+	);
+}
+
 export function clarificationMail(
 	to: string,
 	event: EventMailContext,

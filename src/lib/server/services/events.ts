@@ -264,7 +264,8 @@ export async function eventMail(
 	return { ...mailContext(event, origin, buyerName), trailHead: await trailHead(from, event.id) };
 }
 
-async function buyerName(from: Db, event: EventRow): Promise<string> {
+/** The buying organisation's name, as event mail gives it. */
+export async function buyerName(from: Db, event: EventRow): Promise<string> {
 	return (await findOrganisation(from, event.organisation_id))?.name ?? 'The buyer';
 }
 

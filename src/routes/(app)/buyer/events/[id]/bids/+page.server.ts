@@ -1,5 +1,7 @@
 import { requireRole } from '$lib/server/auth/guard';
-import { orErrorPage } from '$lib/server/route-errors';
+import { requestContext } from '$lib/server/request-context';
+import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/services/reminders';
 import {
 	comparedFrom,
 	staffTabulation,
@@ -9,7 +11,7 @@ import {
 	tabulationTotals,
 	viewTabulation
 } from '$lib/server/services/tabulation';
-import type { PageServerLoad } from './$types';
+import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
@@ -21,7 +23,10 @@ export const load: PageServerLoad = async (event) => {
 		withdrawn: s.latest_source === 'withdrawal',
 		submittedAt: s.latest_at.toISOString()
 	}));
-	if (found.sealed) return { sealed: true as const, submissions };
+	if (found.sealed) {
+		const status = await orErrorPage(event, () => invitedBidStatus(user, event.params.id));
+		return { sealed: true as const, submissions, bidStatus: bidStatusJson(status) };
+	}
 	const params = event.url.searchParams;
 	const query = tabulationQuery(params);
 	const view = viewTabulation(found.tab, query);
@@ -45,4 +50,20 @@ export const load: PageServerLoad = async (event) => {
 		page: view.page,
 		pages: view.pages
 	};
+};
+
+export const actions: Actions = {
+	remind: async (event) => {
+		const user = requireRole(event, 'buyer');
+		return orFail(
+			async () => {
+				const { suppliers, mailed } = await remindNonBidders(user, event.params.id, requestContext(event));
+				const contacts = `${mailed} contact${mailed === 1 ? '' : 's'}`;
+				const firms = `${suppliers} supplier${suppliers === 1 ? '' : 's'}`;
+				const have = suppliers === 1 ? 'has' : 'have';
+				return { reminded: `Reminder sent to ${contacts} at the ${firms} that ${have} not bid.` };
+			},
+			(v) => ({ remindError: v.message })
+		);
+	}
 };
