@@ -99,7 +99,9 @@ const RUN_VIEW_COLUMNS: (keyof RunView)[] = [
 	'explanation',
 	'explanation_status',
 	'explanation_error',
-	'explanation_sha256'
+	'explanation_sha256',
+	'adjusted_from',
+	'adjustments'
 ];
 
 /** The columns that change over a run's life (status, owner, explanation status…): all but its content. */

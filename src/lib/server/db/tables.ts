@@ -91,6 +91,27 @@ export interface RunRow {
 	explanation_status: 'pending' | 'running' | 'done' | 'failed' | 'not_needed';
 	explanation_error: string | null;
 	explanation_sha256: string | null;
+	/** An adjusted run: the run it was changed from by hand, and the changes (null for a plain run). */
+	adjusted_from: string | null;
+	adjustments: ManualChange[] | null;
+}
+
+/**
+ * One change a buyer made by hand to a run's allocation; the adjusted run is solved again with each as a
+ * fixed rule. `lock`: the supplier gets the whole item; `move`: `quantity` goes from `supplier` to `to`;
+ * `exclude`: the supplier gets none of the item. `costChange`: what the change alone added to the total
+ * of the run it was made on, before the rest was solved again (in the event's currency).
+ */
+export interface ManualChange {
+	kind: 'lock' | 'move' | 'exclude';
+	item: string;
+	supplier: string;
+	to?: string;
+	quantity?: number;
+	justification: string;
+	costChange: number;
+	by: { id: number; name: string };
+	at: string;
 }
 
 /**
@@ -128,6 +149,8 @@ export interface SignoffRow {
 	comment: string | null;
 	superseded_at: Date | null;
 	superseded_reason: string | null;
+	/** Why the author submits this run (the award report prints it); null on submissions made before it was asked. */
+	justification: string | null;
 }
 
 export interface NoticeRow {
