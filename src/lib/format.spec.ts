@@ -4,6 +4,7 @@ import { describe, expect, it } from 'vitest';
 import {
 	formatChange,
 	formatMoney,
+	formatMoneyChange,
 	formatQuantity,
 	formatShare,
 	formatUnitPrice,
@@ -34,5 +35,12 @@ describe('number formats', () => {
 		expect(formatChange(0.042)).toBe('+4.2%');
 		expect(formatChange(-0.03)).toBe('−3.0%');
 		expect(formatChange(0.00001)).toBe('±0.0%');
+	});
+
+	it('signs a difference in money in the currency’s minor units', () => {
+		expect(formatMoneyChange(1250, 'EUR')).toBe('+1,250.00');
+		expect(formatMoneyChange(-310.5, 'EUR')).toBe('−310.50');
+		expect(formatMoneyChange(0.004, 'EUR')).toBe('±0.00');
+		expect(formatMoneyChange(-1234.4, 'JPY')).toBe('−1,234');
 	});
 });

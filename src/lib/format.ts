@@ -68,6 +68,13 @@ export function formatChange(share: number, digits = 1): string {
 	return `${share > 0 ? '+' : '−'}${text}`;
 }
 
+/** A difference in money with its sign: "+1,250.00", "−310.50" (a true minus sign), "±0.00" for none. */
+export function formatMoneyChange(value: number, currency: string): string {
+	const text = formatMoney(Math.abs(value), currency);
+	if (text === formatMoney(0, currency)) return `±${text}`;
+	return `${value > 0 ? '+' : '−'}${text}`;
+}
+
 /** Excel number formats for the same shapes (thousands separators, the currency's decimals). */
 export function excelMoneyFormat(currency: string): string {
 	const digits = minorUnits(currency);

@@ -7,3 +7,6 @@ export const TABULATION_PAGE_ITEMS = 50;
 
 /** Lines of a run's allocation the run page shows at a time. */
 export const ALLOCATION_PAGE_LINES = 50;
+
+/** Items allocated differently that the runs' comparison shows at a time, the largest differences first. */
+export const COMPARISON_PAGE_ITEMS = 200;

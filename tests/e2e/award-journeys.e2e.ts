@@ -105,16 +105,23 @@ describe('the four journeys, in a browser', () => {
 			'No supplier gets more than 70% of any item'
 		);
 		await expectAccessible('run page');
+		await page
+			.getByLabel('Justification', { exact: true })
+			.fill('Dual sourcing at 70% keeps a second supplier on every item.');
 		await page.getByRole('button', { name: 'Submit for sign-off' }).click();
 		await expect
 			.poll(() => page.getByRole('status').first().textContent())
 			.toContain('Submitted for sign-off');
+		await expect.poll(() => page.getByRole('link', { name: 'Award report (PDF)' }).count()).toBe(1);
 
 		// 3. The approver signs it off.
 		await signInAsStaff(approver.email, approver.password!, '/approver');
 		await page.getByTestId('pending-signoffs').getByRole('link').first().click();
 		await page.waitForURL(/\/approver\/runs\//);
 		await expectAccessible('sign-off page');
+		expect(await page.getByTestId('submit-justification').textContent()).toBe(
+			'Dual sourcing at 70% keeps a second supplier on every item.'
+		);
 		const notifiedAfter = new Date();
 		await page.getByLabel('Comment (required to return)').fill('Within budget.');
 		await page.getByRole('button', { name: 'Approve the award' }).click();

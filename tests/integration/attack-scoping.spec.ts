@@ -179,7 +179,7 @@ describe('objects under another object’s address', () => {
 	it('refuses to submit a run of event A through event B’s address', async () => {
 		const response = await firstBuyer.client.postForm(
 			`/buyer/events/${eventB}/award/runs/${runOfA}?/submit`,
-			{},
+			{ justification: 'A justification long enough to be accepted.' },
 			'application/json'
 		);
 		expect(await actionResult(response)).toMatchObject({ type: 'failure', status: 404 });

@@ -207,9 +207,18 @@ describe('award plans, runs, sign-off and notices', () => {
 	});
 
 	it('keeps the author from approving, returns to evaluation on a plan change, and approves for someone else', async () => {
-		expect((await json(await post(buyer.client, `/api/runs/${lowestRun}/submit`, {}))).state).toBe(
-			'awaiting_signoff'
-		);
+		const unjustified = await post(buyer.client, `/api/runs/${lowestRun}/submit`, {
+			justification: ' too short '
+		});
+		expect(unjustified.status).toBe(422);
+		const refusal = await json(unjustified);
+		expect(refusal.field).toBe('justification');
+		expect(refusal.message).toMatch(/^justification: /);
+		expect((await testDb()('signoffs').where({ run_id: lowestRun })).length).toBe(0);
+		const submitted = await post(buyer.client, `/api/runs/${lowestRun}/submit`, {
+			justification: 'The lowest landed cost, and both suppliers keep a share.'
+		});
+		expect((await json(submitted)).state).toBe('awaiting_signoff');
 		// The buyer who submitted now holds the approver role: still the author, still refused.
 		await testDb()('users').where({ id: buyer.user.id }).update({ role: 'approver' });
 		const own = await post(buyer.client, `/api/runs/${lowestRun}/decision`, {
@@ -240,7 +249,9 @@ describe('award plans, runs, sign-off and notices', () => {
 		});
 		expect(late.status).toBe(409);
 
-		await post(buyer.client, `/api/runs/${lowestRun}/submit`, {});
+		await post(buyer.client, `/api/runs/${lowestRun}/submit`, {
+			justification: 'Submitted again after the plan change; the lowest landed cost.'
+		});
 		// B's relay is down when the notices go out; they arrive once it is back.
 		await fetch(`${mailApi()}/outages/${encodeURIComponent(b.user.email)}`, { method: 'PUT' });
 		const approvedAfter = new Date();

@@ -4,7 +4,7 @@ import ExcelJS from 'exceljs';
 import type { AwardResult } from '$lib/award/core/engine';
 import { neutralise } from './sheets/bid-sheet';
 
-/** What a workbook or a comparison needs of a run: the shape services/award-views' runJson returns. */
+/** What a workbook needs of a run: the shape services/award-views' runJson returns. */
 export interface ExportedRun {
 	id: string;
 	number: number;
@@ -88,42 +88,4 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		]);
 	costs.getColumn(1).width = 70;
 	return Buffer.from(await workbook.xlsx.writeBuffer());
-}
-
-/** Two to four runs side by side, and the items whose allocation differs between them. */
-export function compareRuns(runs: ExportedRun[]) {
-	const summaries = runs.map((run) => {
-		const result = run.result;
-		const byItem = new Map<string, Map<string, number>>();
-		for (const l of result?.awards ?? []) {
-			const split = byItem.get(l.item) ?? new Map<string, number>();
-			split.set(l.supplier, (split.get(l.supplier) ?? 0) + l.quantity);
-			byItem.set(l.item, split);
-		}
-		return {
-			id: run.id,
-			number: run.number,
-			plan: run.plan,
-			totalCost: result?.totalCost ?? null,
-			savings: result?.savings ?? null,
-			suppliers: new Set((result?.awards ?? []).filter((l) => l.quantity > 0).map((l) => l.supplier)).size,
-			splitItems: [...byItem.values()].filter((s) => s.size > 1).length,
-			byItem
-		};
-	});
-	const describe = (split: Map<string, number> | undefined) =>
-		split
-			? [...split]
-					.sort(([a], [b]) => a.localeCompare(b))
-					.map(([s, q]) => `${s} ${Math.round(q * 1e6) / 1e6}`)
-					.join(' / ')
-			: '—';
-	const items = [...new Set(summaries.flatMap((s) => [...s.byItem.keys()]))];
-	const differing = items
-		.map((item) => ({ item, allocations: summaries.map((s) => describe(s.byItem.get(item))) }))
-		.filter((row) => new Set(row.allocations).size > 1);
-	return {
-		runs: summaries.map(({ byItem: _b, ...rest }) => (void _b, rest)),
-		differing
-	};
 }

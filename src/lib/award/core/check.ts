@@ -9,6 +9,8 @@ const close = (a: number, b: number, scale = 1) =>
 	Math.abs(a - b) <= TOLERANCE * Math.max(1, Math.abs(scale), Math.abs(a), Math.abs(b));
 const atMost = (a: number, b: number) => a <= b + TOLERANCE * Math.max(1, Math.abs(b));
 const atLeast = (a: number, b: number) => a >= b - TOLERANCE * Math.max(1, Math.abs(b));
+/** Amounts in messages, without the float noise of a difference (0.30000000000000004). */
+const round = (v: number) => Math.round(v * 1e6) / 1e6;
 
 function scheduledPrice(bid: AwardProblem['bids'][number], quantity: number): number {
 	let price = bid.unitPrice;
@@ -170,7 +172,8 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 					const ok = rule.type === 'max_share' ? atMost(mine, limit) : atLeast(mine, limit);
 					if (!ok)
 						violations.push(
-							`${name}: ${suppliers.join('+')} has ${mine} of ${all} in ${items.length === 1 ? items[0] : `${items.length} items`}`
+							`${name}: ${suppliers.join('+')} has ${round(mine)} of ${round(all)} in ${items.length === 1 ? items[0] : `${items.length} items`}, ` +
+								`${rule.type === 'max_share' ? 'above' : 'under'} its ${rule.percent}% (${round(limit)}) by ${round(Math.abs(mine - limit))}`
 						);
 				}
 		}
@@ -183,7 +186,9 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 							const d = itemOf.get(i)!.quantity;
 							const minimum = Math.min(d, rule.quantity ?? ((rule.percentOfItem ?? 0) / 100) * d);
 							if (got > TOLERANCE && !atLeast(got, minimum))
-								violations.push(`${name}: ${s} gets ${got} of ${i}, under ${minimum}`);
+								violations.push(
+									`${name}: ${s} gets ${got} of ${i}, under ${round(minimum)} by ${round(minimum - got)}`
+								);
 						}
 		}
 		if (rule.type === 'supplier_count') {
@@ -192,7 +197,10 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 				const count = winners(items).size;
 				if ((rule.min !== undefined && count < rule.min) || (rule.max !== undefined && count > rule.max)) {
 					violations.push(
-						`${name}: ${count} suppliers in ${items.length === 1 ? items[0] : `${items.length} items`}`
+						`${name}: ${count} suppliers in ${items.length === 1 ? items[0] : `${items.length} items`}, ` +
+							(rule.max !== undefined && count > rule.max
+								? `${count - rule.max} over the most, ${rule.max}`
+								: `${rule.min! - count} under the least, ${rule.min}`)
 					);
 				}
 			}
@@ -202,8 +210,16 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 				for (const suppliers of whos(rule.who)) {
 					const total = spend(suppliers, items);
 					if (!atMost(total, rule.amount))
-						violations.push(`${name}: ${suppliers.join('+')} spend ${total} above ${rule.amount}`);
+						violations.push(
+							`${name}: ${suppliers.join('+')} spend ${round(total)} above ${rule.amount} by ${round(total - rule.amount)}`
+						);
 				}
+		}
+		if (rule.type === 'fixed_quantity') {
+			const [item, supplier] = [rule.scope.item, rule.who.supplier];
+			const got = quantity(supplier, [item]);
+			if (!close(got, rule.quantity, rule.quantity))
+				violations.push(`${name}: ${supplier} gets ${got} of ${item}, not ${rule.quantity}`);
 		}
 		if (rule.type === 'exclude') {
 			for (const items of groups(rule.scope))

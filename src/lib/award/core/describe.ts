@@ -57,6 +57,8 @@ export function describeRule(rule: AwardRule, currency = ''): string {
 			return named(rule.who)
 				? `${named(rule.who)} gets nothing of ${place(rule.scope)}`
 				: `No supplier gets anything of ${place(rule.scope)}`;
+		case 'fixed_quantity':
+			return `${rule.who.supplier} gets exactly ${rule.quantity} of item ${rule.scope.item}`;
 		case 'award_fixed_cost':
 			return rule.per === 'supplier'
 				? `Each supplier awarded anything adds ${money(rule.amount)} for its contract`

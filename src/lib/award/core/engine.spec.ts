@@ -57,6 +57,38 @@ describe('award results', () => {
 		expect(result.uncoveredItems).toEqual([{ item: 'IT-99', reason: 'no bid or bundle offers this item' }]);
 	});
 
+	it('holds a quantity fixed by hand and fills in the rest at least cost', async () => {
+		// Worked by hand: 100 units, S1 at 1 and S2 at 2 a unit; S2 fixed at 30 leaves 70 to S1,
+		// 70 x 1 + 30 x 2 = 130 (the unfixed optimum is 100 x 1 = 100).
+		const result = await solveAward(
+			problemOf({
+				currency: 'EUR',
+				items: [{ ref: 'A', quantity: 100 }],
+				suppliers: [{ ref: 'S1' }, { ref: 'S2' }],
+				bids: [
+					{ supplier: 'S1', item: 'A', unitPrice: 1 },
+					{ supplier: 'S2', item: 'A', unitPrice: 2 }
+				],
+				rules: [
+					{
+						type: 'fixed_quantity',
+						label: 'By hand',
+						scope: { item: 'A' },
+						who: { supplier: 'S2' },
+						quantity: 30
+					}
+				]
+			}),
+			pool
+		);
+		expect(result.status).toBe('optimal');
+		expect(result.totalCost).toBeCloseTo(130, 9);
+		expect(result.awards.map((l) => [l.supplier, l.quantity])).toEqual([
+			['S1', 70],
+			['S2', 30]
+		]);
+	});
+
 	it('applies an all-units price break to the whole quantity once it is reached', async () => {
 		const result = await solveAward(
 			problemOf({

@@ -370,6 +370,13 @@ export function exclusions(ctx: ModelContext, rule: RuleOf<'exclude'>, index: nu
 		}
 }
 
+/** A quantity fixed by hand (an adjusted run): Σ_b q(s,i) = Q over the bids of supplier s for item i. */
+export function fixedQuantities(ctx: ModelContext, rule: RuleOf<'fixed_quantity'>, index: number): void {
+	const [item, supplier] = [rule.scope.item, rule.who.supplier];
+	const terms = ctx.sum(ctx.quantityOf, [supplier], [item]);
+	ctx.elasticRow(ruleRow(index, [item], [supplier], 'quantity'), terms, rule.quantity, rule.quantity);
+}
+
 /**
  * Fixed cost of an award, in the objective, no row: + amount·y[s,i] per supplier and item won, or
  * + amount·v[s,event] per supplier that wins anything.

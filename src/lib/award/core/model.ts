@@ -17,6 +17,7 @@ import {
 	capacities,
 	cover,
 	exclusions,
+	fixedQuantities,
 	feasibilitySlacks,
 	fixedCosts,
 	minimumAwardAmounts,
@@ -64,6 +65,9 @@ export function buildModel(problem: AwardProblem, options: BuildOptions = {}): A
 				break;
 			case 'exclude':
 				exclusions(ctx, rule, index);
+				break;
+			case 'fixed_quantity':
+				fixedQuantities(ctx, rule, index);
 				break;
 			case 'award_fixed_cost':
 				fixedCosts(ctx, rule);

@@ -73,6 +73,16 @@ export const ruleSchema = z.discriminatedUnion('type', [
 		.object({ type: z.literal('max_spend'), label, scope: scopeSchema, who: whoSchema, amount: nonNegative })
 		.strict(),
 	z.object({ type: z.literal('exclude'), label, scope: scopeSchema, who: whoSchema }).strict(),
+	// A quantity fixed by hand on one item for one supplier (the changes of an adjusted run).
+	z
+		.object({
+			type: z.literal('fixed_quantity'),
+			label,
+			scope: z.object({ item: ref }).strict(),
+			who: z.object({ supplier: ref }).strict(),
+			quantity: nonNegative
+		})
+		.strict(),
 	z
 		.object({
 			type: z.literal('award_fixed_cost'),

@@ -44,15 +44,17 @@ describe('the solver pool', { timeout: 30_000 }, () => {
 	});
 
 	it("passes a running MIP's best award and bound to the caller as they improve", async () => {
-		// Item rules and an event-wide supplier count: HiGHS does not finish this in 3 s.
+		// Item rules and an event-wide supplier count: HiGHS does not prove this in seconds, and finds its
+		// first award within about a second alone; 8 s leaves room for a machine busy with other tests (at
+		// 3 s it once found none while the whole unit suite ran beside it).
 		const problem = generateProblem({ items: 300, suppliers: 20, seed: 11, rules: eventBenchmarkRules });
 		const heard: SolveProgress[] = [];
 		const outcome = await pool.solve(buildModel(problem), {
-			timeLimit: 3,
+			timeLimit: 8,
 			gap: 1e-6,
 			onProgress: (p) => heard.push(p)
 		});
-		expect(outcome.status).toBe('feasible');
+		expect(['feasible', 'optimal']).toContain(outcome.status);
 		const awards = heard.filter((p) => p.objective !== null);
 		expect(awards.length).toBeGreaterThan(0);
 		for (const p of awards) expect(p.bound!).toBeLessThanOrEqual(p.objective! * (1 + 1e-9));

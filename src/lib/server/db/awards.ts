@@ -7,7 +7,7 @@ import type { AwardRule } from '$lib/award/core/problem';
 import type { Knex } from 'knex';
 import { BoundedCache } from '../bounded-cache';
 import type { Db } from './knex';
-import type { NoticeRow, PlanRow, RunRow, RunView, SignoffRow, StoredProgress } from './tables';
+import type { ManualChange, NoticeRow, PlanRow, RunRow, RunView, SignoffRow, StoredProgress } from './tables';
 
 export const LOWEST_COST = 'Lowest cost (no rules)';
 
@@ -198,6 +198,8 @@ export async function insertRun(
 		problemSha256: string;
 		options: Record<string, unknown>;
 		createdBy: number;
+		adjustedFrom?: string;
+		adjustments?: ManualChange[];
 	}
 ): Promise<RunRow> {
 	const [row] = await db('award_runs')
@@ -210,7 +212,9 @@ export async function insertRun(
 			problem: JSON.stringify(run.problem),
 			problem_sha256: run.problemSha256,
 			options: JSON.stringify(run.options),
-			created_by: run.createdBy
+			created_by: run.createdBy,
+			adjusted_from: run.adjustedFrom ?? null,
+			adjustments: run.adjustments ? JSON.stringify(run.adjustments) : null
 		})
 		.returning('*');
 	return row as RunRow;
@@ -260,14 +264,15 @@ export async function supersedePendingSignoffs(
 
 export async function insertSignoff(
 	db: Db,
-	signoff: { eventId: string; runId: string; submittedBy: number; boundHash: string }
+	signoff: { eventId: string; runId: string; submittedBy: number; boundHash: string; justification: string }
 ): Promise<SignoffRow> {
 	const [row] = await db('signoffs')
 		.insert({
 			event_id: signoff.eventId,
 			run_id: signoff.runId,
 			submitted_by: signoff.submittedBy,
-			bound_hash: signoff.boundHash
+			bound_hash: signoff.boundHash,
+			justification: signoff.justification
 		})
 		.returning('*');
 	return row as SignoffRow;

@@ -16,7 +16,7 @@ import {
 	type ItemRow
 } from '../db/events';
 import { db, type Db } from '../db/knex';
-import type { RunRow, RunView } from '../db/tables';
+import type { ManualChange, RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { buyerOnly, staffEvent } from './award-plans';
@@ -140,9 +140,24 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			undefined,
 			422
 		);
+	return queueRun(user, event, { id: plan.id, name: plan.name }, problem);
+}
+
+/**
+ * Stores a run of a plan with its problem fixed, and queues its solve, in one transaction with its trail
+ * entry. An adjusted run names the run it was changed from and carries the changes.
+ */
+export async function queueRun(
+	user: SessionUser,
+	event: EventRow,
+	plan: { id: string; name: string },
+	problem: AwardProblem,
+	adjusted?: { from: RunView; changes: ManualChange[] }
+): Promise<RunRow> {
 	const problemHash = sha256(canonicalJson(problem));
 	return db().transaction(async (trx) => {
 		const locked = (await lockEvent(trx, event.id))!;
+		if (locked.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
 		const number = await awards.nextRunNumber(trx, event.id);
 		const run = await awards.insertRun(trx, {
 			eventId: event.id,
@@ -152,15 +167,23 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			problem,
 			problemSha256: problemHash,
 			options: RUN_OPTIONS,
-			createdBy: user.id
+			createdBy: user.id,
+			...(adjusted ? { adjustedFrom: adjusted.from.id, adjustments: adjusted.changes } : {})
 		});
 		if (locked.state === 'closed' || (locked.state === 'open' && effectiveState(locked) === 'closed'))
 			await setEventState(trx, event.id, 'in_evaluation');
 		await appendTrail(trx, {
 			eventId: event.id,
 			actor: user,
-			action: 'award run queued',
-			detail: { run: run.id, number, plan: plan.name, problemSha256: problemHash, options: RUN_OPTIONS }
+			action: adjusted ? 'adjusted award run queued' : 'award run queued',
+			detail: {
+				run: run.id,
+				number,
+				plan: plan.name,
+				problemSha256: problemHash,
+				options: RUN_OPTIONS,
+				...(adjusted ? { adjustedFrom: adjusted.from.number, changes: adjusted.changes } : {})
+			}
 		});
 		await sendJob(trx, QUEUES.awardRun, { runId: run.id } satisfies AwardRunJob, {
 			retryLimit: 2,

@@ -85,6 +85,9 @@ export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) 
 			text: r.label ?? describeRule(r, run.problem.currency)
 		})),
 		currency: run.problem.currency,
+		// An adjusted run: the run it was changed from by hand, and every change with who made it and why.
+		adjustedFrom: run.adjusted_from ?? null,
+		adjustments: run.adjustments ?? [],
 		...(options.problem ? { problem: options.problem } : {})
 	};
 }

@@ -8,6 +8,7 @@ import { lockEvent, setEventState, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { standstillDays } from '../db/organisations';
 import type { RunRow, SignoffRow } from '../db/tables';
+import { justificationSchema } from '$lib/schemas/signoff';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, sha256 } from '../trail';
 import { findRun } from './award-runs';
@@ -24,9 +25,20 @@ const boundHash = (run: Pick<RunRow, 'problem_sha256' | 'result_sha256'>) =>
 const usable = (run: RunRow) =>
 	run.status === 'done' && ['optimal', 'feasible'].includes(String(run.result?.status ?? ''));
 
-export async function submitRun(user: SessionUser, runId: string, eventId?: string): Promise<SignoffRow> {
+/**
+ * Submits a finished run for sign-off with the author's justification (trimmed, 10 to 4,000 characters;
+ * refused with 422 on "justification" otherwise), which the sign-off, the trail and the award report keep.
+ */
+export async function submitRun(
+	user: SessionUser,
+	runId: string,
+	eventId: string | undefined,
+	justification: string
+): Promise<SignoffRow> {
 	const { run, event } = await findRun(user, runId, eventId);
 	if (user.role !== 'buyer') throw new RuleViolation('Only buyers submit runs for sign-off.', undefined, 403);
+	const reason = justificationSchema.safeParse(justification);
+	if (!reason.success) throw new RuleViolation(reason.error.issues[0]!.message, 'justification', 422);
 	if (!usable(run))
 		throw new RuleViolation('Only a finished run with an allocation can be submitted.', undefined, 409);
 	return db().transaction(async (trx) => {
@@ -43,7 +55,8 @@ export async function submitRun(user: SessionUser, runId: string, eventId?: stri
 			eventId: event.id,
 			runId: run.id,
 			submittedBy: user.id,
-			boundHash: boundHash(run)
+			boundHash: boundHash(run),
+			justification: reason.data
 		});
 		await setEventState(trx, event.id, 'awaiting_signoff');
 		await appendTrail(trx, {
@@ -54,6 +67,7 @@ export async function submitRun(user: SessionUser, runId: string, eventId?: stri
 				run: run.id,
 				number: run.number,
 				boundHash: row.bound_hash,
+				justification: reason.data,
 				state: { from: 'in_evaluation', to: 'awaiting_signoff' }
 			}
 		});

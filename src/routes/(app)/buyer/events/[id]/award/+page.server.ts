@@ -63,9 +63,11 @@ export const actions: Actions = {
 	},
 	submit: async (event) => {
 		const user = requireRole(event, 'buyer');
-		const runId = String((await event.request.formData()).get('runId') ?? '');
+		const data = await event.request.formData();
+		const runId = String(data.get('runId') ?? '');
+		const justification = String(data.get('justification') ?? '').slice(0, 8000);
 		return orFail(async () => {
-			await submitRun(user, runId, event.params.id);
+			await submitRun(user, runId, event.params.id, justification);
 			return { ok: 'Submitted for sign-off. An approver other than you decides.' };
 		});
 	},

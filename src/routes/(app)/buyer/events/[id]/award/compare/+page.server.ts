@@ -1,21 +1,15 @@
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
-import { httpError } from '$lib/server/http';
-import { compareRuns } from '$lib/server/run-export';
 import { orErrorPage } from '$lib/server/route-errors';
-import { findRunView } from '$lib/server/services/award-runs';
-import { runJson } from '$lib/server/services/award-views';
+import { compareEventRuns, comparisonQuery } from '$lib/server/services/run-comparison';
 import type { PageServerLoad } from './$types';
 
+/** Fewer than two runs, more than four or an unfinished one: the page says so and offers the chooser. */
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
-	const ids = event.url.searchParams.getAll('run').slice(0, 4);
-	if (ids.length < 2) httpError(400, 'Choose two to four runs to compare.', { path: event.url.pathname });
-	const runs = [];
-	for (const id of ids) {
-		const { run } = await orErrorPage(event, () => findRunView(user, id, event.params.id));
-		runs.push(runJson(run));
-	}
+	const found = await orErrorPage(event, () =>
+		compareEventRuns(user, event.params.id, comparisonQuery(event.url.searchParams))
+	);
 	const cautions: CautionKey[] = ['decisionSupport'];
-	return { comparison: compareRuns(runs), cautions };
+	return { ...found, cautions };
 };
