@@ -13,16 +13,21 @@ function formatter(key: string, make: () => Intl.NumberFormat): Intl.NumberForma
 	return found;
 }
 
+const minor = new Map<string, number>();
+
 /** Decimals of the currency's minor unit (2 where Intl does not know the code). */
 export function minorUnits(currency: string): number {
-	try {
-		return formatter(
-			`minor|${currency}`,
-			() => new Intl.NumberFormat('en', { style: 'currency', currency })
-		).resolvedOptions().maximumFractionDigits!;
-	} catch {
-		return 2;
+	let digits = minor.get(currency);
+	if (digits === undefined) {
+		try {
+			digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()
+				.maximumFractionDigits!;
+		} catch {
+			digits = 2;
+		}
+		if (minor.size < 1000) minor.set(currency, digits);
 	}
+	return digits;
 }
 
 /** An amount in the currency's minor units: "3,248,729.09" (the code is shown beside it, once). */

@@ -199,6 +199,13 @@ describe('an event from set-up to the opening of bids, in a browser', () => {
 			expect(await page.getByTestId('opened-prices').locator('[data-lowest]').count()).toBeGreaterThan(0);
 			expect((await page.request.get(`${appUrl()}/api/events/${eventId}/bids`)).status()).toBe(200);
 			await expectAccessible('bids page, opened');
+			// On a phone the tables scroll in their own boxes, never the page (their hidden "no bid" labels too).
+			await page.setViewportSize({ width: 390, height: 844 });
+			await page.reload();
+			await page.getByTestId('opened-prices').waitFor();
+			expect(await page.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
+			await expectAccessible('bids page, opened, 390 px');
+			await page.setViewportSize({ width: 1440, height: 900 });
 		} finally {
 			rmSync(clockFile()!, { force: true });
 		}

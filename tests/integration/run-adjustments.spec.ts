@@ -104,6 +104,15 @@ describe('changing a run by hand', () => {
 		expect(html).toContain(`${CAP}: ${names.A} has 100 of 100 in IT-1, above its 80% (80) by 20`);
 	});
 
+	it('keeps fixed quantities out of plans: they are changes by hand, made on a run with a justification', async () => {
+		const plan = await post(buyer.client, `/api/events/${event.id}/plans`, {
+			name: 'Pinned',
+			rules: [{ type: 'fixed_quantity', scope: { item: 'IT-1' }, who: { supplier: names.B }, quantity: 100 }]
+		});
+		expect(plan.status).toBe(422);
+		expect(JSON.stringify(await plan.json())).toContain('a fixed quantity is set by changing a run by hand');
+	});
+
 	it('refuses a change the bids do not allow, and a costly change without a justification', async () => {
 		const tooMuch = await adjust({
 			changes: [{ kind: 'move', item: 'IT-2', supplier: names.B, to: names.A, quantity: 500 }]

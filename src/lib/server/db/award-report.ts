@@ -52,11 +52,15 @@ export async function userNames(db: Db, ids: number[]): Promise<Map<number, stri
 	return new Map(rows.map((r) => [r.id, r.name ?? r.email]));
 }
 
-/** The newest finished run of a plan that has an allocation (the comparison's lowest-cost run). */
+/**
+ * The newest run of a plan solved to its proven optimum, not changed by hand (the comparison's lowest-cost
+ * run: an adjusted run or one stopped by the time limit is not the lowest cost).
+ */
 export async function latestUsableRunOfPlan(db: Db, planId: string): Promise<string | undefined> {
 	const row = await db('award_runs')
 		.where({ plan_id: planId, status: 'done' })
-		.whereRaw(`result->>'status' in ('optimal', 'feasible')`)
+		.whereNull('adjusted_from')
+		.whereRaw(`result->>'status' = 'optimal'`)
 		.orderBy('number', 'desc')
 		.first('id');
 	return row?.id as string | undefined;

@@ -112,6 +112,8 @@ export interface ManualChange {
 	costChange: number;
 	by: { id: number; name: string };
 	at: string;
+	/** The run it was made on (an adjusted run changed again keeps the earlier changes). */
+	onRun?: number;
 }
 
 /**

@@ -191,3 +191,16 @@ describe('the award report as a workbook', () => {
 		expect(summary.getRow(total).getCell(2).value).toBe(report.totals.totalCost);
 	});
 });
+
+describe('the PDF writer', () => {
+	it('cuts a word longer than a line into lines that fit, losing no character', async () => {
+		const { ReportPdf } = await import('./pdf-writer');
+		const pdf = new ReportPdf({ title: 't', subject: 's', createdAt: at('2027-03-10T09:30:00Z') });
+		// A justification of 4,000 characters without a space (the submit form allows it).
+		const word = 'x'.repeat(3990) + 'ŁąkaZ';
+		const lines = pdf.wrap(word, 120);
+		expect(lines.join('')).toBe(word);
+		expect(lines.length).toBeGreaterThan(10);
+		for (const line of lines) expect(pdf.measure(line)).toBeLessThanOrEqual(120 + 1e-6);
+	});
+});

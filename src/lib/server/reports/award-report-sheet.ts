@@ -208,7 +208,13 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 			wallClock(s.submittedAt),
 			text(s.justification),
 			s.boundHash,
-			s.decision === 'approve' ? 'approved' : s.decision === 'return' ? 'returned' : 'pending',
+			s.decision === 'approve'
+				? 'approved'
+				: s.decision === 'return'
+					? 'returned'
+					: s.supersededAt
+						? 'superseded before a decision'
+						: 'pending',
 			text(s.decidedBy),
 			wallClock(s.decidedAt),
 			text(s.comment),

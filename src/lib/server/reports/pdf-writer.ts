@@ -134,7 +134,8 @@ export class ReportPdf {
 				(sum, run) => sum + this.doc.font(run.font).fontSize(size).widthOfString(run.text),
 				0
 			);
-			if (this.widths.size < 50_000) this.widths.set(key, width);
+			// Short strings only (words, cells): a long one is rarely measured twice.
+			if (this.widths.size < 50_000 && text.length <= 100) this.widths.set(key, width);
 		}
 		return width;
 	}
@@ -162,12 +163,19 @@ export class ReportPdf {
 					continue;
 				}
 				if (current) lines.push(current);
-				let rest = word;
-				while (this.measure(rest, style) > width && rest.length > 1) {
-					let cut = rest.length - 1;
-					while (cut > 1 && this.measure(rest.slice(0, cut), style) > width) cut--;
-					lines.push(rest.slice(0, cut));
-					rest = rest.slice(cut);
+				// A word wider than the line is cut where its characters, measured one by one, fill it: one
+				// pass, not a measure of every shorter prefix (a 4,000-character word took 32 s that way).
+				let rest = '';
+				let restWidth = 0;
+				for (const char of word) {
+					const w = this.measure(char, style);
+					if (rest && restWidth + w > width) {
+						lines.push(rest);
+						rest = '';
+						restWidth = 0;
+					}
+					rest += char;
+					restWidth += w;
 				}
 				current = rest;
 			}

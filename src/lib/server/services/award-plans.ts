@@ -45,7 +45,10 @@ export function checkRules(
 	const rules: AwardRule[] = [];
 	input.forEach((raw, k) => {
 		const parsed = ruleSchema.safeParse(raw);
-		if (parsed.success) rules.push(parsed.data as AwardRule);
+		// A fixed quantity is a change by hand: it is made on a run, with its justification, never in a plan.
+		if (parsed.success && parsed.data.type === 'fixed_quantity')
+			problems.push(`rules[${k}].type: a fixed quantity is set by changing a run by hand, not in a plan`);
+		else if (parsed.success) rules.push(parsed.data as AwardRule);
 		else
 			problems.push(
 				...parsed.error.issues.map(

@@ -103,6 +103,32 @@ describe('changing an allocation by hand', () => {
 		]);
 	});
 
+	it('asks a justification of every change when together they cost more, fixed costs included', () => {
+		// One supplier per contract costs 50.00. The run: both items to A (100 x 1.00 + 50 x 2.00 = 200.00)
+		// plus one contract, 250.00. D bids 0.99 for IT-1: locking IT-1 to D saves 1.00 on the item but adds
+		// a contract: 299.00, 49.00 more, though the change's own figure is -1.00.
+		const withFixed = {
+			problem: {
+				...problem,
+				suppliers: [...problem.suppliers, { ref: 'D' }],
+				bids: [...problem.bids, { supplier: 'D', item: 'IT-1', unitPrice: 0.99 }],
+				rules: [{ type: 'award_fixed_cost', amount: 50, per: 'supplier' }]
+			} as AwardProblem,
+			result: {
+				...result,
+				totalCost: 250,
+				awards: [
+					{ supplier: 'A', item: 'IT-1', quantity: 100, unitPrice: 1, cost: 100 },
+					{ supplier: 'A', item: 'IT-2', quantity: 50, unitPrice: 2, cost: 100 }
+				]
+			} as AwardResult
+		};
+		const preview = applyChanges(withFixed, [{ kind: 'lock', item: 'IT-1', supplier: 'D' }]);
+		expect(preview.total).toBeCloseTo(299, 9);
+		expect(preview.changes[0]!.costChange).toBeCloseTo(-1, 9);
+		expect(preview.changes[0]!.needsJustification).toBe(true);
+	});
+
 	it('refuses a change the bids do not allow, naming the change and why', () => {
 		const refused = (changes: Parameters<typeof applyChanges>[1]) => {
 			try {
@@ -120,6 +146,10 @@ describe('changing an allocation by hand', () => {
 		);
 		expect(refused([{ kind: 'lock', item: 'IT-2', supplier: 'C' }])).toBe(
 			'Change 1: C did not bid for IT-2.'
+		);
+		// IT-1 is counted in units (C62): half a unit cannot move.
+		expect(refused([{ kind: 'move', item: 'IT-1', supplier: 'A', to: 'B', quantity: 20.5 }])).toBe(
+			'Change 1: B would get 20.5 of IT-1, which goes in whole units.'
 		);
 		expect(refused([{ kind: 'lock', item: 'IT-9', supplier: 'A' }])).toBe(
 			'Change 1: "IT-9" is not an item of this event.'

@@ -5,7 +5,8 @@
 // cost, and stores the result as a new run of the plan that names the run it came from and every change.
 import { z } from 'zod';
 import { allocationCost, checkAllocation } from '$lib/award/core/check';
-import type { AwardProblem, AwardRule } from '$lib/award/core/problem';
+import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
+import { onStep, stepsOf } from '$lib/award/core/units';
 import type { AwardLine } from '$lib/award/core/result';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -93,6 +94,9 @@ export function applyChanges(run: Pick<RunRow, 'problem' | 'result'>, requests: 
 	const result = run.result!;
 	const itemOf = new Map(problem.items.map((i) => [i.ref, i]));
 	const bidOf = new Map(problem.bids.map((b) => [`${b.item}|${b.supplier}`, b]));
+	// Each bid's step (1 for whole units, its pack size, the item's order multiple; 0 for continuous).
+	const { bidStep } = stepsOf(problem);
+	const stepOfBid = new Map(problem.bids.map((b, k) => [b, bidStep[k]!]));
 	const allocation: Allocation = new Map();
 	const bundled = new Set<string>();
 	for (const line of result.awards) {
@@ -141,6 +145,13 @@ export function applyChanges(run: Pick<RunRow, 'problem' | 'result'>, requests: 
 		if (!touched.has(item.ref)) touched.set(item.ref, new Map(split));
 		const before = itemCost(item.ref, split);
 		const fits = (supplier: string, quantity: number) => {
+			const step = stepOfBid.get(bidFor(supplier))!;
+			if (!onStep(quantity, step))
+				throw new RuleViolation(
+					`${number}: ${supplier} would get ${quantity} of ${item.ref}, which goes in ${step === 1 ? 'whole units' : `steps of ${step}`}.`,
+					'changes',
+					422
+				);
 			const max = bidFor(supplier).maxQuantity;
 			if (max !== undefined && quantity > max + QUANTITY_TOLERANCE)
 				throw new RuleViolation(
@@ -168,6 +179,7 @@ export function applyChanges(run: Pick<RunRow, 'problem' | 'result'>, requests: 
 			receives(request.to);
 			fits(request.to, receiving);
 			const left = has - request.quantity;
+			if (left > QUANTITY_TOLERANCE) fits(request.supplier, left);
 			if (left > QUANTITY_TOLERANCE) split.set(request.supplier, left);
 			else split.delete(request.supplier);
 			split.set(request.to, receiving);
@@ -224,11 +236,17 @@ export function applyChanges(run: Pick<RunRow, 'problem' | 'result'>, requests: 
 				cost: quantity * unitPrice(bidOf.get(`${item}|${supplier}`)!, quantity)
 			}))
 			.sort((a, b) => a.supplier.localeCompare(b.supplier));
+	const total = allocationCost(problem, lines);
+	const broken = checkAllocation(problem, lines, uncovered);
+	// Changes that together cost more than the run (fixed costs per award included) or break a rule need
+	// a justification each, whatever each one's own figure.
+	if (total - result.totalCost! > COSTS_MONEY || broken.length)
+		for (const change of priced) change.needsJustification = true;
 	return {
 		runTotal: result.totalCost!,
-		total: allocationCost(problem, lines),
+		total,
 		changes: priced,
-		broken: checkAllocation(problem, lines, uncovered),
+		broken,
 		items: [...touched].map(([item, before]) => ({
 			item,
 			unit: itemOf.get(item)!.unit ?? '',
@@ -242,7 +260,8 @@ export function applyChanges(run: Pick<RunRow, 'problem' | 'result'>, requests: 
 export function changeRules(preview: Preview, number: (k: number) => string): AwardRule[] {
 	const after = new Map(preview.items.map((i) => [i.item, i.after]));
 	return preview.changes.flatMap(({ request, text }, k): AwardRule[] => {
-		const label = `${number(k)}: ${text}`;
+		// Labels are at most 300 characters (problem.ts); long refs and names are cut, never the number.
+		const label = `${number(k)}: ${text}`.slice(0, 300);
 		const quantityOf = (supplier: string) =>
 			after.get(request.item)!.find((s) => s.supplier === supplier)?.quantity ?? 0;
 		const fixed = (supplier: string): AwardRule => ({
@@ -306,8 +325,11 @@ export async function saveAdjustedRun(
 		justification: request.justification?.trim() ?? '',
 		costChange,
 		by: { id: user.id, name: user.name },
-		at
+		at,
+		onRun: run.number
 	}));
+	// An adjusted run changed again keeps the earlier changes: its problem still holds their rules.
+	const inherited = run.adjustments ?? [];
 	const problem: AwardProblem = {
 		...run.problem,
 		rules: [
@@ -315,5 +337,17 @@ export async function saveAdjustedRun(
 			...changeRules(preview, (k) => `Manual change ${k + 1} on run ${run.number}`)
 		]
 	};
-	return queueRun(user, event, { id: run.plan_id, name: run.plan_name }, problem, { from: run, changes });
+	const parsed = parseProblem(problem);
+	if (!parsed.ok)
+		throw new RuleViolation(
+			`These changes cannot be solved: ${parsed.problems.slice(0, 3).join('; ')}`,
+			'changes',
+			422
+		);
+	// Filed under the plan it came from, named so nobody takes it for a plain run of that plan.
+	const name = run.adjusted_from ? run.plan_name : `${run.plan_name} (changed by hand)`;
+	return queueRun(user, event, { id: run.plan_id, name }, problem, {
+		from: run,
+		changes: [...inherited, ...changes]
+	});
 }

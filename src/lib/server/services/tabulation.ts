@@ -181,3 +181,45 @@ export function tabulationLots(tab: Tabulated): { lots: string[]; unlotted: bool
 }
 
 export { viewTabulation };
+
+/** Shaped pages kept per tabulation (a cached tabulation is the same frozen object on every view): the
+ * same filters and page are shaped once, up to this many different ones per tabulation. */
+const SHAPED_PER_TABULATION = 32;
+const shaped = new WeakMap<Tabulated, Map<string, ReturnType<typeof shapeView>>>();
+
+function shapeView(tab: Tabulated, params: URLSearchParams, currency: string) {
+	const query = tabulationQuery(params);
+	const view = viewTabulation(tab, query);
+	const compared = comparedFrom(params);
+	return {
+		query: {
+			lot: params.get('lot') ?? '',
+			bidder: query.bidder ?? '',
+			lowest: query.lowest ?? '',
+			q: query.text ?? '',
+			sort: query.sort ?? 'position',
+			dir: query.descending ? ('desc' as const) : ('asc' as const),
+			show: compared
+		},
+		...tabulationLots(tab),
+		...tabulationPage(tab, view, currency, compared),
+		...tabulationTotals(tab, currency),
+		matched: view.matched,
+		page: view.page,
+		pages: view.pages
+	};
+}
+
+/** The Bids tab's page of the tabulation for a URL's query, shaped as the page shows it. */
+export function tabulationView(tab: Tabulated, params: URLSearchParams, currency: string) {
+	const key = `${currency}|${['lot', 'bidder', 'lowest', 'q', 'sort', 'dir', 'show', 'page'].map((n) => params.get(n) ?? '').join('|')}`;
+	if (!Object.isFrozen(tab)) return shapeView(tab, params, currency);
+	let views = shaped.get(tab);
+	if (!views) shaped.set(tab, (views = new Map()));
+	const known = views.get(key);
+	if (known) return known;
+	const made = shapeView(tab, params, currency);
+	if (views.size >= SHAPED_PER_TABULATION) views.delete(views.keys().next().value!);
+	views.set(key, made);
+	return made;
+}

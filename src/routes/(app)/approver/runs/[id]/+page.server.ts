@@ -18,7 +18,7 @@ export const load: PageServerLoad = async (event) => {
 			cautions,
 			run: runPageJson(run),
 			firstPage: run.status === 'done' ? allocationPage(run.result) : null,
-			event: { reference: row.reference, title: row.title, state: row.state },
+			event: { reference: row.reference, title: row.title, state: row.state, timeZone: row.time_zone },
 			awaiting: pending?.run_id === run.id,
 			justification: pending?.run_id === run.id ? pending.justification : null,
 			ownRun: pending?.submitted_by === user.id || run.created_by === user.id

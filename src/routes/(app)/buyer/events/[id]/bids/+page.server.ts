@@ -2,15 +2,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/services/reminders';
-import {
-	comparedFrom,
-	staffTabulation,
-	tabulationLots,
-	tabulationPage,
-	tabulationQuery,
-	tabulationTotals,
-	viewTabulation
-} from '$lib/server/services/tabulation';
+import { staffTabulation, tabulationView } from '$lib/server/services/tabulation';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -27,28 +19,10 @@ export const load: PageServerLoad = async (event) => {
 		const status = await orErrorPage(event, () => invitedBidStatus(user, event.params.id));
 		return { sealed: true as const, submissions, bidStatus: bidStatusJson(status) };
 	}
-	const params = event.url.searchParams;
-	const query = tabulationQuery(params);
-	const view = viewTabulation(found.tab, query);
-	const compared = comparedFrom(params);
 	return {
 		sealed: false as const,
 		submissions,
-		query: {
-			lot: params.get('lot') ?? '',
-			bidder: query.bidder ?? '',
-			lowest: query.lowest ?? '',
-			q: query.text ?? '',
-			sort: query.sort ?? 'position',
-			dir: query.descending ? ('desc' as const) : ('asc' as const),
-			show: compared
-		},
-		...tabulationLots(found.tab),
-		...tabulationPage(found.tab, view, found.event.currency, compared),
-		...tabulationTotals(found.tab, found.event.currency),
-		matched: view.matched,
-		page: view.page,
-		pages: view.pages
+		...tabulationView(found.tab, event.url.searchParams, found.event.currency)
 	};
 };
 

@@ -14,6 +14,9 @@ import {
 } from '$lib/server/services/run-adjustments';
 import type { Actions, PageServerLoad } from './$types';
 
+/** Changes in one adjusted run, as the API allows. */
+const MOST_CHANGES = 200;
+
 /** Item refs offered as suggestions while typing (a longer list is typed without them). */
 const SUGGESTED_ITEMS = 2000;
 
@@ -52,7 +55,9 @@ function changesOf(form: FormData): ChangeRequest[] {
 	const parsed = storedChanges.safeParse(stored);
 	if (!parsed.success)
 		throw new RuleViolation('The list of changes was damaged; start again from the run.', 'changes', 400);
-	return parsed.data.slice(0, 200).map((change, k) => ({
+	if (parsed.data.length > MOST_CHANGES)
+		throw new RuleViolation(`At most ${MOST_CHANGES} changes at a time; save these first.`, 'changes', 422);
+	return parsed.data.map((change, k) => ({
 		...change,
 		justification: String(form.get(`justification${k}`) ?? change.justification ?? '')
 	}));
@@ -110,6 +115,12 @@ export const actions: Actions = {
 	add: (event) =>
 		answer(event, async (form) => {
 			const changes = changesOf(form);
+			if (changes.length >= MOST_CHANGES)
+				throw new RuleViolation(
+					`At most ${MOST_CHANGES} changes at a time; save these first.`,
+					'changes',
+					422
+				);
 			return [...changes, newChange(form)];
 		}),
 	remove: (event) =>
