@@ -44,15 +44,35 @@ describe('a running award solve', () => {
 		const problem = problemFor('2000x30', 'event');
 		const run = await aStoredRun({ eventId: event.id, createdBy: buyer.id, problem });
 		await boss.send('award-run', { runId: run.id });
-		const running = await until(
-			run.id,
-			(r) => r.status === 'running' && (r.solve_progress as Progress | null)?.objective != null,
-			90
-		);
-		const first = running.solve_progress as Progress;
-		expect(first.bound).not.toBeNull();
+		// The run's summary, as the run page polls it, shows the best award and the bound while it runs.
+		const client = await signedIn(buyer);
+		type Summary = {
+			status: string;
+			progress: {
+				best: { totalCost: number | null; bound: number; gap: number; afterSeconds: number } | null;
+			};
+		};
+		let live: Summary | null = null;
+		for (let k = 0; k < 360 && !live; k++) {
+			const response = await client.request(`/api/runs/${run.id}?summary=1`, { accept: 'application/json' });
+			expect(response.status).toBe(200);
+			const json = (await response.json()) as Summary;
+			if (json.status === 'running' && json.progress.best?.totalCost != null) live = json;
+			else if (json.status !== 'queued' && json.status !== 'running') break;
+			else await new Promise((r) => setTimeout(r, 250));
+		}
+		expect(live, 'the summary showed an award while the run was running').not.toBeNull();
+		const best = live!.progress.best!;
+		expect(best.bound).toBeLessThanOrEqual(best.totalCost!);
+		expect(best.gap).toBeCloseTo((best.totalCost! - best.bound) / best.totalCost!, 9);
+		const first = (await testDb()('award_runs').where({ id: run.id }).first()).solve_progress as Progress;
+		expect(first.objective).not.toBeNull();
 		expect(first.bound!).toBeLessThanOrEqual(first.objective!);
-		// A stronger bound for the same award comes later: the report is newer, the award is not.
+		// "Found after": when the award shown was found, not when the worker last wrote.
+		expect(best.afterSeconds).toBeLessThanOrEqual(first.seconds + 1e-6);
+		if (best.totalCost === first.objective) expect(best.afterSeconds).toBeCloseTo(first.awardSeconds!, 6);
+		// Later reports never show a dearer award; the bound stays below the award. On a busy machine the
+		// 60 s limit can end the run first: then its result is no dearer than the award shown.
 		const later = await until(
 			run.id,
 			(r) => {
@@ -61,28 +81,14 @@ describe('a running award solve', () => {
 			},
 			60
 		);
-		expect(later.status).toBe('running');
-		const stored = later.solve_progress as Progress;
-		expect(stored.objective!).toBeLessThanOrEqual(first.objective!);
-		expect(stored.bound!).toBeLessThanOrEqual(stored.objective!);
-
-		const client = await signedIn(buyer);
-		const response = await client.request(`/api/runs/${run.id}?summary=1`, { accept: 'application/json' });
-		expect(response.status).toBe(200);
-		const json = (await response.json()) as {
-			status: string;
-			progress: { best: { totalCost: number; bound: number; gap: number; afterSeconds: number } | null };
-		};
-		// The first award comes within seconds; the bound work after it takes most of the limit.
-		expect(json.status).toBe('running');
-		const best = json.progress.best!;
-		expect(best).not.toBeNull();
-		// When the award shown was found, not when the worker last wrote.
-		expect(best.afterSeconds).toBeLessThan(stored.seconds);
-		if (best.totalCost === first.objective) expect(best.afterSeconds).toBeCloseTo(first.awardSeconds!, 6);
-		expect(best.totalCost).toBeLessThanOrEqual(stored.objective! + 1e-6);
-		expect(best.bound).toBeLessThanOrEqual(best.totalCost);
-		expect(best.gap).toBeCloseTo((best.totalCost - best.bound) / best.totalCost, 9);
+		if (later.status === 'running') {
+			const stored = later.solve_progress as Progress;
+			expect(stored.objective!).toBeLessThanOrEqual(first.objective!);
+			expect(stored.bound!).toBeLessThanOrEqual(stored.objective!);
+		} else {
+			expect(later.status).toBe('done');
+			expect((later.result as { totalCost: number }).totalCost).toBeLessThanOrEqual(first.objective! + 1e-6);
+		}
 		// Done with it: the buyer's cancel ends the solve within a second or two.
 		await testDb()('award_runs').where({ id: run.id }).update({ cancel_requested: true });
 		const ended = await until(run.id, (r) => r.status !== 'running', 30);
