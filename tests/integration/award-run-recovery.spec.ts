@@ -51,7 +51,7 @@ async function until(runId: string, done: (run: Record<string, unknown>) => bool
 }
 
 describe('award runs survive a worker that dies', () => {
-	it('runs again when the dead worker’s job comes back, and ends done', async () => {
+	it('runs again when the dead worker’s job comes back, and ends done', { timeout: 90_000 }, async () => {
 		const { runId } = await aRunLeftRunning(1);
 		// What pg-boss does once the job of a dead worker expires: it hands the job to a live worker.
 		await boss.send('award-run', { runId });
@@ -63,30 +63,38 @@ describe('award runs survive a worker that dies', () => {
 	// Issue 10 changed this behaviour: such a run used to wait 31 minutes and then fail with "the worker
 	// stopped during the run and it was not retried"; now the workers' sweep finds its stale heartbeat
 	// and starts it again within seconds, and fails it with the reason only after MAX_RESTARTS takeovers.
-	it('takes over a run whose worker died and whose job will not come back, within seconds', async () => {
-		const { runId } = await aRunLeftRunning(120);
-		const run = await until(runId, (r) => r.status === 'done', 60);
-		expect(run).toMatchObject({ status: 'done', attempts: 2, restarts: 1 });
-		expect((run.result as { totalCost: number }).totalCost).toBe(25);
-		const restarted = await testDb()('trail_entries')
-			.where({ action: 'award run restarted' })
-			.whereRaw("detail->>'run' = ?", [runId]);
-		expect(restarted).toHaveLength(1);
-		expect(restarted[0].detail.reason).toBe('the worker stopped; restarting');
-	});
+	it(
+		'takes over a run whose worker died and whose job will not come back, within seconds',
+		{ timeout: 90_000 },
+		async () => {
+			const { runId } = await aRunLeftRunning(120);
+			const run = await until(runId, (r) => r.status === 'done', 60);
+			expect(run).toMatchObject({ status: 'done', attempts: 2, restarts: 1 });
+			expect((run.result as { totalCost: number }).totalCost).toBe(25);
+			const restarted = await testDb()('trail_entries')
+				.where({ action: 'award run restarted' })
+				.whereRaw("detail->>'run' = ?", [runId]);
+			expect(restarted).toHaveLength(1);
+			expect(restarted[0].detail.reason).toBe('the worker stopped; restarting');
+		}
+	);
 
-	it('fails a run whose workers stopped MAX_RESTARTS times, with the reason', async () => {
-		const { runId } = await aRunLeftRunning(120);
-		await testDb()('award_runs').where({ id: runId }).update({ restarts: MAX_RESTARTS });
-		const run = await until(runId, (r) => r.status === 'failed', 60);
-		expect(run.error).toBe(
-			`the worker stopped during the run ${MAX_RESTARTS + 1} times; it was not started again`
-		);
-		const trail = await testDb()('trail_entries')
-			.where({ action: 'award run failed' })
-			.whereRaw("detail->>'run' = ?", [runId]);
-		expect(trail).toHaveLength(1);
-	});
+	it(
+		'fails a run whose workers stopped MAX_RESTARTS times, with the reason',
+		{ timeout: 90_000 },
+		async () => {
+			const { runId } = await aRunLeftRunning(120);
+			await testDb()('award_runs').where({ id: runId }).update({ restarts: MAX_RESTARTS });
+			const run = await until(runId, (r) => r.status === 'failed', 60);
+			expect(run.error).toBe(
+				`the worker stopped during the run ${MAX_RESTARTS + 1} times; it was not started again`
+			);
+			const trail = await testDb()('trail_entries')
+				.where({ action: 'award run failed' })
+				.whereRaw("detail->>'run' = ?", [runId]);
+			expect(trail).toHaveLength(1);
+		}
+	);
 
 	it('cancels a queued run at the buyer’s request, and refuses others', async () => {
 		const { runId, buyer } = await aRunLeftRunning(0, 'queued');
