@@ -51,11 +51,13 @@ async function until(runId: string, done: (run: Record<string, unknown>) => bool
 }
 
 describe('award runs survive a worker that dies', () => {
-	it('runs again when the dead worker’s job comes back, and ends done', { timeout: 90_000 }, async () => {
+	// The stack has one worker, which takes award runs one at a time: this run may wait behind the runs
+	// of other test files, hence the long waits (a deadline for liveness, not a speed target).
+	it('runs again when the dead worker’s job comes back, and ends done', { timeout: 150_000 }, async () => {
 		const { runId } = await aRunLeftRunning(1);
 		// What pg-boss does once the job of a dead worker expires: it hands the job to a live worker.
 		await boss.send('award-run', { runId });
-		const run = await until(runId, (r) => r.status === 'done', 30);
+		const run = await until(runId, (r) => r.status === 'done', 120);
 		expect(run).toMatchObject({ status: 'done', attempts: 2 });
 		expect((run.result as { totalCost: number }).totalCost).toBe(25);
 	});
@@ -65,10 +67,10 @@ describe('award runs survive a worker that dies', () => {
 	// and starts it again within seconds, and fails it with the reason only after MAX_RESTARTS takeovers.
 	it(
 		'takes over a run whose worker died and whose job will not come back, within seconds',
-		{ timeout: 90_000 },
+		{ timeout: 150_000 },
 		async () => {
 			const { runId } = await aRunLeftRunning(120);
-			const run = await until(runId, (r) => r.status === 'done', 60);
+			const run = await until(runId, (r) => r.status === 'done', 120);
 			expect(run).toMatchObject({ status: 'done', attempts: 2, restarts: 1 });
 			expect((run.result as { totalCost: number }).totalCost).toBe(25);
 			const restarted = await testDb()('trail_entries')
@@ -81,11 +83,11 @@ describe('award runs survive a worker that dies', () => {
 
 	it(
 		'fails a run whose workers stopped MAX_RESTARTS times, with the reason',
-		{ timeout: 90_000 },
+		{ timeout: 150_000 },
 		async () => {
 			const { runId } = await aRunLeftRunning(120);
 			await testDb()('award_runs').where({ id: runId }).update({ restarts: MAX_RESTARTS });
-			const run = await until(runId, (r) => r.status === 'failed', 60);
+			const run = await until(runId, (r) => r.status === 'failed', 120);
 			expect(run.error).toBe(
 				`the worker stopped during the run ${MAX_RESTARTS + 1} times; it was not started again`
 			);
