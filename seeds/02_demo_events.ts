@@ -12,12 +12,24 @@ import {
 import { findOrganisationByName } from '../src/lib/server/db/organisations';
 import { appendTrail } from '../src/lib/server/trail';
 import { BUYING_ORGANISATION } from './data/demo-accounts';
-import { packagingBids, packagingItems, uniformItems, type DemoBid, type DemoItem } from './data/demo-events';
+import {
+	packagingBids,
+	packagingItems,
+	palletBids,
+	palletItems,
+	uniformItems,
+	type DemoBid,
+	type DemoItem
+} from './data/demo-events';
 
-// The two demo events: one closed with eight bids in, ready to award, and one open for bids. Made only
-// when missing, so a second `npm start` keeps whatever was done with them.
+// The three demo events: one closed with eight bids in, ready to award; one open for bids; and last
+// year's pallets event, closed with four bids, which 03_demo_award_journey.ts takes through a run, a
+// submission and an approval. Made only when missing, so a second `npm start` keeps whatever was done
+// with them.
 const CLOSED = 'FP-2027-PKG';
 const OPEN = 'FP-2027-PPE';
+export const AWARDED = 'FP-2026-PAL';
+export const AWARDED_PLAN = 'One supplier at most 60% of each lot';
 const DAY = 24 * 3600_000;
 
 async function organisationId(trx: Knex.Transaction, name: string, kind: 'buyer' | 'supplier') {
@@ -193,6 +205,61 @@ export async function seed(knex: Knex): Promise<void> {
 				actor: 'system',
 				action: 'demo data loaded',
 				detail: { items: items.length, lots: 4, bids: bids.length, state: 'closed' }
+			});
+		}
+
+		if (!(await trx('events').where({ organisation_id: buying, reference: AWARDED }).first('id'))) {
+			const items = palletItems();
+			const bids = palletBids(items);
+			const deadline = new Date(now - 45 * DAY);
+			const { id, itemIds } = await makeEvent(
+				trx,
+				buying,
+				{
+					reference: AWARDED,
+					title: 'Pallets and strapping 2026',
+					description: 'Pallets, strapping and corner boards for the three depots, for 2026.',
+					currency: 'EUR',
+					incoterm: 'DAP',
+					deliveryPlace: 'North, Harbour and Uplands depots',
+					deadline,
+					timeZone: 'Europe/Berlin'
+				},
+				{
+					state: 'closed',
+					published_at: new Date(now - 75 * DAY),
+					opened_at: deadline,
+					opening_record: {
+						at: deadline.toISOString(),
+						by: 'demo data',
+						suppliers: bids.length,
+						revisions: bids.length
+					}
+				},
+				items,
+				actor.id
+			);
+			for (const [k, bid] of bids.entries()) {
+				const supplier = await placeBid(trx, id, itemIds, bid, new Date(now - (60 - k) * DAY));
+				await insertInvitation(trx, id, supplier, actor.id);
+			}
+			await trx('award_plans').insert([
+				{ event_id: id, name: 'Lowest cost (no rules)', rules: JSON.stringify([]), lowest_cost: true },
+				{
+					event_id: id,
+					name: AWARDED_PLAN,
+					rules: JSON.stringify([
+						{ type: 'max_share', scope: { lot: 'P1' }, who: 'each_supplier', percent: 60, basis: 'spend' },
+						{ type: 'max_share', scope: { lot: 'P2' }, who: 'each_supplier', percent: 60, basis: 'spend' }
+					]),
+					created_by: actor.id
+				}
+			]);
+			await appendTrail(trx, {
+				eventId: id,
+				actor: 'system',
+				action: 'demo data loaded',
+				detail: { items: items.length, lots: 2, bids: bids.length, state: 'closed' }
 			});
 		}
 

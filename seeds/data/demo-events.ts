@@ -1,4 +1,4 @@
-// The two sourcing events of the invented demo scenario (README, "Demo sign-ins"). Every name, item and
+// The three sourcing events of the invented demo scenario (README, "Demo sign-ins"). Every name, item and
 // price is made up; prices come from a seeded generator, so every `npm start` shows the same numbers.
 
 import { seededRandom as seeded } from '../../src/lib/award/tools/generate';
@@ -173,3 +173,48 @@ export const uniformItems = (): DemoItem[] => {
 		baseline: Math.round((4 + random() * 60) * 100) / 100
 	}));
 };
+
+/** Event 3, awarded: 24 pallets and strapping items in two lots (pallets, strapping and corner boards). */
+export const palletItems = (): DemoItem[] => {
+	const random = seeded(73);
+	const pallets = ['Wooden pallet 1200 x 800', 'Wooden pallet 1200 x 1000', 'Plastic pallet', 'Half pallet'];
+	const strapping = ['PET strapping coil', 'PP strapping coil', 'Strapping seals', 'Corner board'];
+	return Array.from({ length: 24 }, (_, k) => {
+		const lot = k < 12 ? 'P1' : 'P2';
+		const names = lot === 'P1' ? pallets : strapping;
+		return {
+			ref: `PS-${String(k + 1).padStart(3, '0')}`,
+			description: `${names[k % 4]}, ${['North', 'Harbour', 'Uplands'][Math.floor(k / 4) % 3]} depot`,
+			lot,
+			unit: 'C62',
+			quantity: 200 + Math.round(random() * 1800),
+			baseline: Math.round((lot === 'P1' ? 6 + random() * 14 : 0.4 + random() * 30) * 100) / 100
+		};
+	});
+};
+
+/** Four offers on Event 3: one supplier cheapest on most pallets, so a share cap per lot costs money. */
+export function palletBids(items: DemoItem[]): DemoBid[] {
+	const random = seeded(311);
+	const bid = (supplier: string, factor: (item: DemoItem) => number, list = items): DemoBid => ({
+		supplier,
+		capacity: null,
+		bundles: [],
+		lines: list.map((item) => ({
+			item: item.ref,
+			unitPrice: Math.round(item.baseline * (factor(item) + (random() - 0.5) * 0.06) * 100) / 100,
+			maxQuantity: null,
+			breaks: []
+		}))
+	});
+	return [
+		bid('Brackwater Board', (i) => (i.lot === 'P1' ? 0.86 : 0.99)),
+		bid('Osk & Vale Supply', () => 0.95),
+		bid('Sallow Point Industries', () => 1.02),
+		bid(
+			'Corrow Packaging',
+			() => 0.9,
+			items.filter((i) => i.lot === 'P2')
+		)
+	];
+}

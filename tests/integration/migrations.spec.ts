@@ -61,24 +61,6 @@ describe('migrations', () => {
 		}
 	});
 
-	it('loads the demo seeds twice without duplicating anything', async () => {
-		await admin(`drop database if exists ${scratchName}`);
-		await admin(`create database ${scratchName} owner ${ownerRole()}`);
-		dbScript('migrate');
-		dbScript('seed');
-		dbScript('seed');
-		const db = knex({ client: 'pg', connection: scratchUrl() });
-		try {
-			const users = (await db('users').count({ n: '*' }).first())?.n;
-			const organisations = (await db('organisations').count({ n: '*' }).first())?.n;
-			// seeds/data/demo-accounts.ts: 5 staff and 8 supplier users in 1 buying and 8 supplier organisations
-			expect(Number(users)).toBe(13);
-			expect(Number(organisations)).toBe(9);
-		} finally {
-			await db.destroy();
-		}
-	});
-
 	it("give the app's role the product's tables and pg-boss's, but only INSERT and SELECT on the trail", async () => {
 		await admin(`drop database if exists ${scratchName}`);
 		await admin(`create database ${scratchName} owner ${ownerRole()}`);
