@@ -225,7 +225,10 @@ describe('the decision trail against a hostile database owner', () => {
 });
 
 describe('the trail head outside the database', () => {
-	it("puts the trail's newest entry and hash into the bid receipt the supplier keeps", async () => {
+	const headIn = (text: string) =>
+		/Decision trail of \S+ at this moment: newest entry SHA-256 ([0-9a-f]{64})\./.exec(text)?.[1];
+
+	it("puts the hash of the trail's newest entry into the bid receipt the supplier keeps", async () => {
 		const buyer = await aSignedInUser('buyer');
 		const { organisation, user } = await aSupplierOrganisationWithUser();
 		const supplier = await signedIn(user);
@@ -235,11 +238,38 @@ describe('the trail head outside the database', () => {
 		expect((await uploadSheet(supplier, event.id, await fillSheet(sheet, { 'IT-1': [2] }))).status).toBe(201);
 		const receipt = await latestMailTo(user.email, { after: before });
 		expect(receipt.subject).toMatch(/^Bid received/);
-		const head = /Decision trail of \S+ at this moment: entry (\d+), SHA-256 ([0-9a-f]{64})\./.exec(
-			receipt.text
-		);
-		expect(head, receipt.text).not.toBeNull();
+		const hash = headIn(receipt.text);
+		expect(hash, receipt.text).toBeDefined();
 		const { entries } = await trailOf(buyer.client, event.id);
-		expect(entries.find((e) => e.seq === Number(head![1]))?.hash).toBe(head![2]);
+		expect(entries.at(-1)?.hash).toBe(hash);
+	});
+
+	// The head's number counted every entry, so a supplier comparing two of its receipts learnt how many
+	// bids and withdrawals other suppliers made in between, while the bids are sealed.
+	it('tells a supplier nothing of the bids others made between two of its receipts', async () => {
+		const buyer = await aSignedInUser('buyer');
+		const [a, b] = [await aSupplierOrganisationWithUser(), await aSupplierOrganisationWithUser()];
+		const event = await anOpenEvent({
+			createdBy: buyer.user.id,
+			invite: [a.organisation.id, b.organisation.id]
+		});
+		const bid = async (who: typeof a, price: number) => {
+			const client = await signedIn(who.user);
+			const sheet = Buffer.from(await (await client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
+			const before = new Date();
+			expect((await uploadSheet(client, event.id, await fillSheet(sheet, { 'IT-1': [price] }))).status).toBe(
+				201
+			);
+			return latestMailTo(who.user.email, { after: before });
+		};
+		const first = await bid(a, 3);
+		await bid(b, 2.9);
+		await bid(b, 2.8);
+		const second = await bid(a, 2.7);
+		for (const receipt of [first, second]) {
+			expect(headIn(receipt.text), receipt.text).toBeDefined();
+			expect(receipt.text).not.toMatch(/\bentry \d/);
+			expect(receipt.html).not.toMatch(/\bentry \d/);
+		}
 	});
 });

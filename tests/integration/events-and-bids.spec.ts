@@ -489,7 +489,7 @@ describe('setting up an event', () => {
 			expect(mail.subject).toMatch(/Amendment 1/);
 			expect(mail.text).toContain('New depot, Test town');
 			// The notice carries the trail's head, so the chain is anchored outside the database.
-			expect(mail.text).toContain(`entry ${head.seq}, SHA-256 ${String(head.hash).trim()}`);
+			expect(mail.text).toContain(`newest entry SHA-256 ${String(head.hash).trim()}`);
 		}
 		const [amendment] = await testDb()('amendments').where({ event_id: open.id });
 		expect(amendment.detail.deliveryPlace).toEqual({ before: 'Test town', after: 'New depot, Test town' });

@@ -48,7 +48,7 @@ describe('mail templates', () => {
 			buyerName: 'Buyer',
 			deadline: '2027-03-02 10:00 (Europe/Berlin)',
 			url: 'http://127.0.0.1/supplier/events/9',
-			trailHead: { seq: 4, hash: 'ef'.repeat(32) }
+			trailHead: { hash: 'ef'.repeat(32) }
 		});
 		expect(mail.subject).toBe('Reminder: no bid yet for EV-9 Cartons');
 		for (const part of [mail.text, mail.html]) {
@@ -68,9 +68,9 @@ describe('mail templates', () => {
 			deadline: '2027-03-02 10:00 (UTC)',
 			url: 'http://127.0.0.1/supplier/events/1',
 			currency: 'EUR',
-			trailHead: { seq: 7, hash: 'ab'.repeat(32) }
+			trailHead: { hash: 'ab'.repeat(32) }
 		};
-		const head = `Decision trail of EV-1 at this moment: entry 7, SHA-256 ${'ab'.repeat(32)}.`;
+		const head = `Decision trail of EV-1 at this moment: newest entry SHA-256 ${'ab'.repeat(32)}.`;
 		const mails = [
 			bidReceiptMail('s@example.test', event, {
 				revision: 2,

@@ -52,9 +52,12 @@ export function invitationMail(
 	};
 }
 
-/** The newest entry of the event's decision trail when the message was made. */
+/**
+ * The newest entry of the event's decision trail when the message was made: its hash only. Its number
+ * would tell a supplier how many entries (other suppliers' bids and withdrawals among them) came between
+ * two of its messages; the hash names the entry just as well, and tells nothing of the others.
+ */
 export interface TrailHead {
-	seq: number;
 	hash: string;
 }
 
@@ -63,7 +66,7 @@ export interface TrailHead {
  * message can show that the trail later lacked that entry or had a different one there.
  */
 export const trailHeadLine = (reference: string, head: TrailHead) =>
-	`Decision trail of ${reference} at this moment: entry ${head.seq}, SHA-256 ${head.hash}. Keep this message: it lets an auditor check that the trail was not cut short or rewritten afterwards.`;
+	`Decision trail of ${reference} at this moment: newest entry SHA-256 ${head.hash}. Keep this message: it lets an auditor check that the trail was not cut short or rewritten afterwards.`;
 
 /** A plain notice: paragraphs and one link. Values are escaped by the layout. */
 function notice(

@@ -261,7 +261,8 @@ export async function eventMail(
 	origin: string,
 	buyerName: string
 ): Promise<EventMailContext> {
-	return { ...mailContext(event, origin, buyerName), trailHead: await trailHead(from, event.id) };
+	const head = await trailHead(from, event.id);
+	return { ...mailContext(event, origin, buyerName), trailHead: head && { hash: head.hash } };
 }
 
 /** The buying organisation's name, as event mail gives it. */

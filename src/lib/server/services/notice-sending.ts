@@ -60,10 +60,11 @@ export async function sendNotice(noticeId: string): Promise<void> {
 	if (!run || !event || !supplier)
 		throw new Error(`notice ${noticeId}: its run, event or supplier is missing`);
 	const buyer = await findOrganisation(db(), event.organisation_id);
+	const head = await trailHead(db(), notice.event_id);
 	const context = {
 		...mailContext(event, publicOrigin(), buyer?.name ?? 'The buyer'),
 		currency: event.currency,
-		trailHead: await trailHead(db(), notice.event_id)
+		trailHead: head && { hash: head.hash }
 	};
 	const lines = ownLines(run.result, supplier.name);
 	const standstill = String(
