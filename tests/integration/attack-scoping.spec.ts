@@ -3,7 +3,17 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browserless } from '../support/http';
 import { aUser, anOrganisation, closeTestDb, testDb, type TestUser } from '../support/factories';
-import { aSignedInUser, aSupplierOrganisationWithUser, anOpenEvent } from '../support/events';
+import {
+	aSignedInUser,
+	aStoredRun,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	fillSheet,
+	signedIn,
+	TWO_BID_PROBLEM,
+	untilPast,
+	uploadSheet
+} from '../support/events';
 
 afterAll(closeTestDb);
 
@@ -234,5 +244,52 @@ describe('a supplier that works with both buying organisations', () => {
 		}
 		const row = await testDb()('users').where({ id: shared.user.id }).first('deactivated_at', 'role');
 		expect(row).toEqual({ deactivated_at: null, role: 'supplier' });
+	});
+});
+
+// Issue 12's review: an admin of the buying organisation read opened prices, runs and the trail through
+// the staff API, though the role's duty is users (src/lib/roles.ts roleDuties). Separation of duties
+// keeps commercial content to those who evaluate it (common practice in public and private buying).
+describe('an admin of the buying organisation', () => {
+	it('reads no opened bids, tabulation, plans, runs, reports or trail; a buyer does', async () => {
+		const deadline = new Date(Date.now() + 4_000);
+		const event = await anOpenEvent({
+			createdBy: firstBuyer.user.id,
+			invite: [firstSupplier.organisation.id],
+			deadline
+		});
+		const supplier = await signedIn(firstSupplier.user);
+		const sheet = Buffer.from(await (await supplier.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
+		expect((await uploadSheet(supplier, event.id, await fillSheet(sheet, { 'IT-1': [4.25] }))).status).toBe(
+			201
+		);
+		await untilPast(deadline);
+		const run = await aStoredRun({
+			eventId: event.id,
+			createdBy: firstBuyer.user.id,
+			problem: TWO_BID_PROBLEM,
+			fields: { status: 'done', result: JSON.stringify({ status: 'optimal', totalCost: 25, awards: [] }) }
+		});
+		const paths = [
+			`/api/events/${event.id}/bids`,
+			`/api/events/${event.id}/tabulation`,
+			`/api/events/${event.id}/plans`,
+			`/api/events/${event.id}/runs?run=${run.id}`,
+			`/api/events/${event.id}/trail`,
+			`/api/runs/${run.id}`,
+			`/api/runs/${run.id}/lines`,
+			`/api/runs/${run.id}/export`,
+			`/api/runs/${run.id}/report?format=pdf`
+		];
+		for (const path of paths) {
+			const response = await firstAdmin.client.get(path, 'application/json');
+			const body = await response.text();
+			expect(response.status, path).toBe(403);
+			expect(body, path).toContain('Administrators manage users');
+			expect(body, path).not.toContain('4.25');
+		}
+		const buyerSees = await firstBuyer.client.get(`/api/events/${event.id}/bids`, 'application/json');
+		expect(buyerSees.status).toBe(200);
+		expect(await buyerSees.text()).toContain('4.25');
 	});
 });

@@ -11,17 +11,13 @@ import { db, type Db } from '../db/knex';
 import type { PlanRow } from '../db/tables';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
-import { eventFor } from './events';
+import { evaluationEvent } from './events';
 
 export { LOWEST_COST } from '../db/awards';
 
 /** The event, for the staff of its buying organisation only. */
-export async function staffEvent(user: SessionUser, id: string): Promise<EventRow> {
-	const access = await eventFor(user, id);
-	if (access.view !== 'staff')
-		throw new RuleViolation('Award plans are for the buying organisation.', undefined, 403);
-	return access.event;
-}
+export const staffEvent = (user: SessionUser, id: string): Promise<EventRow> =>
+	evaluationEvent(user, id, 'Award plans are for the buying organisation.');
 
 /** The event, for its buyers only. */
 export async function buyerOnly(user: SessionUser, id: string): Promise<EventRow> {

@@ -31,7 +31,7 @@ import { deleteObject } from '../storage';
 import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
-import { effectiveState, eventFor, eventMail, sheetEvent } from './events';
+import { effectiveState, evaluationEvent, eventFor, eventMail, sheetEvent } from './events';
 import type { RequestContext } from './users';
 import { formatInZone } from '$lib/time';
 
@@ -410,11 +410,10 @@ export async function submissions(actor: SessionUser, id: string): Promise<Submi
 
 /** Every current bid with prices, for staff, once the deadline has passed; 403 before. */
 export async function openedBids(actor: SessionUser, id: string): Promise<VisibleBid[]> {
-	const access = await eventFor(actor, id);
-	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bids.', undefined, 403);
-	if (['draft', 'open'].includes(effectiveState(access.event))) {
+	const event = await evaluationEvent(actor, id);
+	if (['draft', 'open'].includes(effectiveState(event))) {
 		throw new RuleViolation(
-			`Bids are sealed until the deadline, ${formatInZone(access.event.deadline, access.event.time_zone)} (${access.event.time_zone}).`,
+			`Bids are sealed until the deadline, ${formatInZone(event.deadline, event.time_zone)} (${event.time_zone}).`,
 			undefined,
 			403
 		);

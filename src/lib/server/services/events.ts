@@ -107,6 +107,26 @@ async function accessTo(from: Db, user: SessionUser, event: EventRow): Promise<E
 	return { event, view: 'supplier', canEdit: false };
 }
 
+/**
+ * The event, for those who evaluate its bids: its buyers, approvers and auditors. Its administrators
+ * manage users and never read prices, runs or reports (403, as suppliers get with `supplierMessage`).
+ */
+export async function evaluationEvent(
+	user: SessionUser,
+	id: string,
+	supplierMessage = 'Suppliers do not see other bids.'
+): Promise<EventRow> {
+	const access = await eventFor(user, id);
+	if (access.view !== 'staff') throw new RuleViolation(supplierMessage, undefined, 403);
+	if (user.role === 'admin')
+		throw new RuleViolation(
+			'Administrators manage users; bids, award plans and runs are for buyers, approvers and auditors.',
+			undefined,
+			403
+		);
+	return access.event;
+}
+
 const onlyBuyers = () => new RuleViolation('Only buyers change events.', undefined, 403);
 
 export async function buyerEvent(user: SessionUser, id: string): Promise<EventRow> {

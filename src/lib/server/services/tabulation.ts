@@ -14,8 +14,7 @@ import {
 	type TabulationQuery,
 	type TabulationView
 } from '../tabulation';
-import { RuleViolation } from './errors';
-import { effectiveState, eventFor } from './events';
+import { effectiveState, evaluationEvent } from './events';
 import { formatChange, formatMoney, formatQuantity, formatShare, formatUnitPrice } from '$lib/format';
 import { TABULATION_PAGE_ITEMS } from '$lib/paging';
 
@@ -32,9 +31,7 @@ export type StaffTabulation =
 	| { sealed: false; event: EventRow; submissions: Submission[]; tab: Tabulated };
 
 export async function staffTabulation(actor: SessionUser, id: string): Promise<StaffTabulation> {
-	const access = await eventFor(actor, id);
-	if (access.view !== 'staff') throw new RuleViolation('Suppliers do not see other bids.', undefined, 403);
-	const event = access.event;
+	const event = await evaluationEvent(actor, id);
 	const submissions = await listSubmissions(db(), id);
 	if (['draft', 'open'].includes(effectiveState(event))) return { sealed: true, event, submissions };
 	const key = `${id}|${submissions.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;

@@ -2,8 +2,7 @@ import type { SessionUser } from '../auth/session-user';
 import { db } from '../db/knex';
 import { InvalidCheckpoint, latestCheckpoint } from '../storage/trail-checkpoints';
 import { configuredMacKeys, listTrail, trailWorkbook, verifyTrail, type AnchorState } from '../trail';
-import { RuleViolation } from './errors';
-import { eventFor } from './events';
+import { evaluationEvent } from './events';
 
 /** What the verification can and cannot find, said the same way on the page, in JSON and in the workbook. */
 export const TRAIL_GUARANTEES = {
@@ -31,11 +30,9 @@ async function anchorOf(eventId: string): Promise<AnchorState> {
 	}
 }
 
-/** The trail of an event and whether its chain holds: for staff of the buying organisation only. */
+/** The trail of an event and whether its chain holds: for its buyers, approvers and auditors only. */
 export async function eventTrail(user: SessionUser, id: string) {
-	const { event, view } = await eventFor(user, id);
-	if (view !== 'staff')
-		throw new RuleViolation('The decision trail is for the buying organisation.', undefined, 403);
+	const event = await evaluationEvent(user, id, 'The decision trail is for the buying organisation.');
 	const [entries, anchor] = await Promise.all([listTrail(db(), id), anchorOf(id)]);
 	return {
 		event,
