@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import type { VisibleBid } from './db/bids';
 import type { ItemRow } from './db/events';
-import { priceAtQuantity, tabulate, viewTabulation } from './tabulation';
+import { tabulate, viewTabulation } from './tabulation';
 
 const item = (ref: string, quantity: number, more: Partial<ItemRow> = {}): ItemRow => ({
 	id: `id-${ref}`,
@@ -110,14 +110,6 @@ describe('the tabulation', () => {
 		const none = tabulate([item('IT-1', 5)], [bid('A', [line('IT-1', '2')])]);
 		expect(none.summary.baselineTotal).toBeNull();
 		expect(none.suppliers[0]!.baselineShare).toBeNull();
-	});
-
-	it('reaches the last break at or below the quantity, in any order', () => {
-		const breaks = [
-			{ fromQuantity: 500, unitPrice: 7 },
-			{ fromQuantity: 100, unitPrice: 8 }
-		];
-		expect([99, 100, 499, 500, 10_000].map((q) => priceAtQuantity(9, breaks, q))).toEqual([9, 8, 8, 7, 7]);
 	});
 });
 

@@ -7,6 +7,7 @@
 // quantity (or the bid's maximum quantity, if lower) reaches it, and the item's freight and duty adders are
 // added (landed cost, as the award runs price it). Capacities, maximum quantities and award rules are not
 // applied: the cherry-picking total is the lowest figure before any of them (common practice).
+import { priceAtQuantity } from '$lib/award/core/prices';
 import type { VisibleBid } from './db/bids';
 import type { ItemRow } from './db/events';
 
@@ -90,22 +91,6 @@ export interface Tabulated {
 /** Two prices this close (relative) are the same lowest price: ties are marked on every bid. */
 const TIE = 1e-9;
 
-/** The all-units tier a quantity reaches: the last break at or below it, else the bid's own price. */
-export function priceAtQuantity(
-	unitPrice: number,
-	breaks: readonly { fromQuantity: number; unitPrice: number }[],
-	quantity: number
-): number {
-	let price = unitPrice;
-	let reached = -Infinity;
-	for (const b of breaks)
-		if (b.fromQuantity <= quantity && b.fromQuantity > reached) {
-			reached = b.fromQuantity;
-			price = b.unitPrice;
-		}
-	return price;
-}
-
 export function tabulate(itemRows: readonly ItemRow[], bids: readonly VisibleBid[]): Tabulated {
 	const num = (v: string | null) => (v === null ? null : Number(v));
 	const items: TabulatedItem[] = itemRows.map((i) => ({
@@ -138,7 +123,7 @@ export function tabulate(itemRows: readonly ItemRow[], bids: readonly VisibleBid
 			}));
 			const maxQuantity = num(line.maxQuantity);
 			const reached = Math.min(item.quantity, maxQuantity ?? Infinity);
-			prices[r * width + c] = priceAtQuantity(base, breaks, reached) + item.adder;
+			prices[r * width + c] = priceAtQuantity({ unitPrice: base, priceBreaks: breaks }, reached) + item.adder;
 			const packSize = num(line.packSize);
 			if (breaks.length || maxQuantity !== null || packSize !== null)
 				notes[r * width + c] = { breaks, basePrice: base, maxQuantity, packSize };

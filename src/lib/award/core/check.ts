@@ -1,5 +1,6 @@
 // An independent check of an allocation against the problem itself (not against the model that
 // produced it): cover, bids and their limits, price breaks, bundles, capacities and every rule.
+import { priceAtQuantity } from './prices';
 import type { AwardProblem, Scope, Who } from './problem';
 import type { AwardLine } from './result';
 import { countedWhole, onStep, stepsOf } from './units';
@@ -11,12 +12,6 @@ const atMost = (a: number, b: number) => a <= b + TOLERANCE * Math.max(1, Math.a
 const atLeast = (a: number, b: number) => a >= b - TOLERANCE * Math.max(1, Math.abs(b));
 /** Amounts in messages, without the float noise of a difference (0.30000000000000004). */
 const round = (v: number) => Math.round(v * 1e6) / 1e6;
-
-function scheduledPrice(bid: AwardProblem['bids'][number], quantity: number): number {
-	let price = bid.unitPrice;
-	for (const b of bid.priceBreaks ?? []) if (quantity >= b.fromQuantity - TOLERANCE) price = b.unitPrice;
-	return price;
-}
 
 export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncovered: Set<string>): string[] {
 	const violations: string[] = [];
@@ -52,7 +47,7 @@ export function checkAllocation(problem: AwardProblem, lines: AwardLine[], uncov
 					: `${line.supplier} gets ${line.quantity} of ${line.item}, not a multiple of ${step}`
 			);
 		}
-		const price = scheduledPrice(bid, line.quantity);
+		const price = priceAtQuantity(bid, line.quantity, TOLERANCE);
 		if (!close(line.unitPrice, price, price)) {
 			violations.push(
 				`${line.supplier} is paid ${line.unitPrice} a unit for ${line.quantity} of ${line.item}; its bid says ${price}`

@@ -2,6 +2,27 @@
 // each item's reference price, and how a bundle's price splits over its items.
 import type { AwardProblem } from './problem';
 
+/**
+ * The all-units price of a bid for `quantity`: the price of the highest break the quantity reaches, else
+ * the bid's own price; the breaks may come in any order. A quantity less than `tolerance` (absolute)
+ * below a break reaches it: the checker allows a solver's rounding there.
+ * The one reading of a price schedule for the checker, the tabulation and changes made by hand.
+ */
+export function priceAtQuantity(
+	bid: { unitPrice: number; priceBreaks?: readonly { fromQuantity: number; unitPrice: number }[] },
+	quantity: number,
+	tolerance = 0
+): number {
+	let price = bid.unitPrice;
+	let reached = -Infinity;
+	for (const b of bid.priceBreaks ?? [])
+		if (quantity >= b.fromQuantity - tolerance && b.fromQuantity > reached) {
+			reached = b.fromQuantity;
+			price = b.unitPrice;
+		}
+	return price;
+}
+
 /** The price of each tier of a bid: tier 0 from zero, then each break from its quantity (all-units). */
 export function tiersOf(bid: AwardProblem['bids'][number]): { from: number; unitPrice: number }[] {
 	return [

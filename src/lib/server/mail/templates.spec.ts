@@ -56,7 +56,7 @@ describe('mail templates', () => {
 			expect(part).toContain('Bids close at 2027-03-02 10:00 (Europe/Berlin).');
 			expect(part).toContain('cannot be accepted');
 			expect(part).toContain('http://127.0.0.1/supplier/events/9');
-			expect(part).toContain(`entry 4, SHA-256 ${'ef'.repeat(32)}`);
+			expect(part).toContain(`newest entry SHA-256 ${'ef'.repeat(32)}`);
 		}
 	});
 

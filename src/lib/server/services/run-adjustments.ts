@@ -5,6 +5,7 @@
 // cost, and stores the result as a new run of the plan that names the run it came from and every change.
 import { z } from 'zod';
 import { allocationCost, checkAllocation } from '$lib/award/core/check';
+import { priceAtQuantity } from '$lib/award/core/prices';
 import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
 import { onStep, stepsOf } from '$lib/award/core/units';
 import type { AwardLine } from '$lib/award/core/result';
@@ -61,12 +62,8 @@ interface Split {
 type Allocation = Map<string, Map<string, number>>;
 
 /** The price a bid charges for a quantity: its own, or the all-units break that quantity reaches. */
-function unitPrice(bid: AwardProblem['bids'][number], quantity: number): number {
-	let price = bid.unitPrice;
-	for (const b of bid.priceBreaks ?? [])
-		if (quantity >= b.fromQuantity - QUANTITY_TOLERANCE) price = b.unitPrice;
-	return price;
-}
+const unitPrice = (bid: AwardProblem['bids'][number], quantity: number) =>
+	priceAtQuantity(bid, quantity, QUANTITY_TOLERANCE);
 
 function describeChange(change: ChangeRequest, unit: string): string {
 	if (change.kind === 'lock') return `${change.item}: all of it to ${change.supplier}`;
