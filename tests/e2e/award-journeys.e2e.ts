@@ -134,7 +134,7 @@ describe('the four journeys, in a browser', () => {
 		// 4. The supplier gets its award e-mail with its own quantities, and sees the same in its portal.
 		const notice = await latestMailTo(first.user.email, { after: notifiedAfter, timeoutMs: 30_000 });
 		expect(notice.subject).toMatch(/^Award notice/);
-		expect(notice.text).toContain('IT-1: 70 at 4 EUR');
+		expect(notice.text).toContain('IT-1: 70 at 4.00 EUR = 280.00 EUR');
 		expect(notice.text).not.toContain(second.organisation.name);
 		await signInBySupplierLink(first.user.email);
 		await page.goto(`${appUrl()}/supplier/events/${event.id}`);

@@ -264,8 +264,8 @@ describe('award plans, runs, sign-off and notices', () => {
 
 		const award = await latestMailTo(a.user.email, { after: approvedAfter, timeoutMs: 20_000 });
 		expect(award.subject).toMatch(/^Award notice/);
-		expect(award.text).toContain('IT-1: 100 at 4.5 EUR');
-		expect(award.text).toContain('IT-3: 300 at 6 EUR');
+		expect(award.text).toContain('IT-1: 100 at 4.50 EUR = 450.00 EUR');
+		expect(award.text).toContain('IT-3: 300 at 6.00 EUR = 1,800.00 EUR');
 		expect(award.text).not.toContain('IT-2');
 		expect(award.text).not.toContain(b.name);
 		expect(award.attachments.map((x) => x.filename)).toEqual([`award-${event.reference}.xlsx`]);
@@ -283,7 +283,7 @@ describe('award plans, runs, sign-off and notices', () => {
 		await fetch(`${mailApi()}/outages/${encodeURIComponent(b.user.email)}`, { method: 'DELETE' });
 		const later = await latestMailTo(b.user.email, { after: approvedAfter, timeoutMs: 60_000 });
 		expect(later.subject).toMatch(/^Award notice/);
-		expect(later.text).toContain('IT-2: 200 at 4.9 EUR');
+		expect(later.text).toContain('IT-2: 200 at 4.90 EUR = 980.00 EUR');
 		expect(later.text).not.toContain(a.name);
 
 		const mine = await json(await a.client.get(`/api/events/${event.id}/my-result`, 'application/json'));

@@ -104,4 +104,38 @@ describe('mail templates', () => {
 			).text
 		).not.toContain('Decision trail');
 	});
+
+	// ISO 4217: the yen has no minor unit, the Bahraini dinar three; thousands grouped as in English.
+	it('writes the award notice’s amounts in the currency’s minor units, with thousands separators', () => {
+		const event = {
+			reference: 'EV-2',
+			title: 'Bolts',
+			buyerName: 'Buyer',
+			deadline: '2027-03-02 10:00 (UTC)',
+			url: 'http://127.0.0.1/supplier/events/2'
+		};
+		const line = { item: 'IT-1', quantity: 12_500, unitPrice: 1_234.5, cost: 15_431_250 };
+		const yen = awardNoticeMail(
+			's@example.test',
+			{ ...event, currency: 'JPY' },
+			{
+				supplierName: 'S',
+				lines: [line],
+				standstillEndsOn: '2027-03-12'
+			}
+		).text;
+		expect(yen).toContain('IT-1: 12,500 at 1,234.5 JPY = 15,431,250 JPY');
+		expect(yen).toContain('Total: 15,431,250 JPY');
+		const dinar = awardNoticeMail(
+			's@example.test',
+			{ ...event, currency: 'BHD' },
+			{
+				supplierName: 'S',
+				lines: [{ item: 'IT-1', quantity: 3, unitPrice: 0.125, cost: 0.375 }],
+				standstillEndsOn: '2027-03-12'
+			}
+		).text;
+		expect(dinar).toContain('IT-1: 3 at 0.125 BHD = 0.375 BHD');
+		expect(dinar).toContain('Total: 0.375 BHD');
+	});
 });

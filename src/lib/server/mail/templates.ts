@@ -1,4 +1,5 @@
 // Plain messages with a text part and a simple HTML part; every inserted value is escaped.
+import { formatMoney, formatQuantity, formatUnitPrice } from '$lib/format';
 import type { OutgoingMail } from './index';
 
 const escape = (value: string) =>
@@ -218,7 +219,7 @@ export function awardNoticeMail(
 	const total = notice.lines.reduce((a, l) => a + l.cost, 0);
 	const table = notice.lines.map(
 		(l) =>
-			`${l.item}: ${l.quantity} at ${l.unitPrice} ${event.currency} = ${l.cost.toFixed(2)} ${event.currency}`
+			`${l.item}: ${formatQuantity(l.quantity)} at ${formatUnitPrice(l.unitPrice, event.currency)} ${event.currency} = ${formatMoney(l.cost, event.currency)} ${event.currency}`
 	);
 	return notice_(
 		to,
@@ -226,7 +227,7 @@ export function awardNoticeMail(
 		[
 			`${event.buyerName} intends to award ${notice.supplierName} the following lines of ${event.reference} “${event.title}”. Your lines are attached as a spreadsheet too.`,
 			...table,
-			`Total: ${total.toFixed(2)} ${event.currency} (landed cost where the buyer added freight or duty).`,
+			`Total: ${formatMoney(total, event.currency)} ${event.currency} (landed cost where the buyer added freight or duty).`,
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules); the contract is not concluded before then. This notice is not itself a contract.`
 		],
 		{ label: 'See your result', url: event.url },

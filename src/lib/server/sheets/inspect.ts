@@ -7,6 +7,7 @@
 // so a 10 KB workbook with one cell in row 1,048,576 costs gigabytes once parsed.
 import type { Readable } from 'node:stream';
 import JSZip from 'jszip';
+import { formatQuantity } from '../../format';
 
 export const UPLOAD_LIMITS = {
 	bytes: 5 * 1024 * 1024,
@@ -35,7 +36,7 @@ export type Inspection =
 	| { ok: true; kind: 'csv'; text: string }
 	| { ok: false; message: string };
 
-const count = (n: number) => n.toLocaleString('en-GB');
+const count = formatQuantity;
 const SAVE_AS_CSV =
 	'To fix it: open the file in your spreadsheet program, choose "Save as", pick "CSV UTF-8 (comma delimited)" as the type, and upload the new file.';
 
