@@ -97,4 +97,10 @@ export function excelQuantityFormat(value: number): string {
 	return Number.isInteger(value) ? '#,##0' : '#,##0.000###';
 }
 
+/** One format for a column of quantities: whole numbers when every one is whole. */
+export function excelQuantityColumnFormat(values: Iterable<number>): string {
+	for (const v of values) if (!Number.isInteger(v)) return excelQuantityFormat(v);
+	return excelQuantityFormat(0);
+}
+
 export const EXCEL_SHARE_FORMAT = '0.0%';

@@ -2,7 +2,20 @@
 // from data is neutralised, so a spreadsheet never reads a supplier's or item's name as a formula.
 import ExcelJS from 'exceljs';
 import type { AwardResult } from '$lib/award/core/engine';
+import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
 import { neutralise } from './sheets/bid-sheet';
+
+/** A table sheet's finish: the header row bold and frozen, an autofilter over it, and column formats. */
+function finishTable(sheet: ExcelJS.Worksheet, formats: (string | null)[], widths: number[]): void {
+	sheet.getRow(1).font = { bold: true };
+	sheet.views = [{ state: 'frozen', ySplit: 1 }];
+	sheet.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: formats.length } };
+	formats.forEach((format, k) => {
+		const column = sheet.getColumn(k + 1);
+		column.width = widths[k] ?? 20;
+		if (format) column.numFmt = format;
+	});
+}
 
 /** What a workbook needs of a run: the shape services/award-views' runJson returns. */
 export interface ExportedRun {
@@ -20,6 +33,7 @@ export interface ExportedRun {
 
 export async function runWorkbook(reference: string, run: ExportedRun): Promise<Buffer> {
 	const result = run.result;
+	const money = excelMoneyFormat(run.currency);
 	const workbook = new ExcelJS.Workbook();
 	workbook.creator = 'Tenderloom';
 	const summary = workbook.addWorksheet('Summary');
@@ -38,6 +52,7 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		['Solver', run.solverVersion ?? ''],
 		['Note', 'An optimised allocation is decision support, not a legal award.']
 	]);
+	for (const row of [7, 8, 9]) summary.getRow(row).getCell(2).numFmt = money;
 	run.rules.forEach((r) => summary.addRow([`Rule ${r.index + 1}`, neutralise(r.text)]));
 	summary.getColumn(1).width = 24;
 	summary.getColumn(2).width = 80;
@@ -50,9 +65,7 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		`Unit price (${run.currency})`,
 		`Cost (${run.currency})`,
 		'Bundle'
-	]).font = {
-		bold: true
-	};
+	]);
 	for (const l of result?.awards ?? [])
 		allocation.addRow([
 			neutralise(l.item),
@@ -62,13 +75,28 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 			l.cost,
 			neutralise(l.bundle ?? '')
 		]);
-	allocation.columns.forEach((c) => (c.width = 20));
+	finishTable(
+		allocation,
+		[
+			null,
+			null,
+			excelQuantityColumnFormat((result?.awards ?? []).map((l) => l.quantity)),
+			excelUnitPriceFormat(run.currency),
+			money,
+			null
+		],
+		[16, 28, 14, 18, 18, 16]
+	);
 
 	const totals = workbook.addWorksheet('Suppliers');
-	totals.addRow(['Supplier', 'Quantity', `Cost (${run.currency})`, 'Lines']).font = { bold: true };
+	totals.addRow(['Supplier', 'Quantity', `Cost (${run.currency})`, 'Lines']);
 	for (const t of result?.supplierTotals ?? [])
 		totals.addRow([neutralise(t.supplier), t.quantity, t.cost, t.items]);
-	totals.columns.forEach((c) => (c.width = 22));
+	finishTable(
+		totals,
+		[null, excelQuantityColumnFormat((result?.supplierTotals ?? []).map((t) => t.quantity)), money, '#,##0'],
+		[28, 16, 18, 10]
+	);
 
 	const costs = workbook.addWorksheet('Rule costs');
 	costs.addRow([
@@ -77,7 +105,7 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		`Added on top of the rules above (${run.currency})`,
 		`Running total (${run.currency})`,
 		`Within ± (${run.currency})`
-	]).font = { bold: true };
+	]);
 	for (const c of result?.ruleCosts ?? [])
 		costs.addRow([
 			neutralise(run.rules[c.rule]?.text ?? c.label),
@@ -86,6 +114,6 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 			c.runningTotal,
 			c.tolerance
 		]);
-	costs.getColumn(1).width = 70;
+	finishTable(costs, [null, money, money, money, '0.000000'], [70, 22, 22, 22, 16]);
 	return Buffer.from(await workbook.xlsx.writeBuffer());
 }

@@ -22,6 +22,7 @@ import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/temp
 import { neutralise } from '../sheets/bid-sheet';
 import { appendTrail, trailHead } from '../trail';
 import { ownLines } from './award-views';
+import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
 import { mailContext } from './events';
 import { deliverOnce, type DeliveryOutcome } from './mail-delivery';
 
@@ -41,7 +42,18 @@ export async function ownLinesWorkbook(
 	sheet.addRow([`Award lines of ${neutralise(reference)} for ${neutralise(supplierName)}`]);
 	sheet.addRow(['Item', 'Quantity', `Unit price (${currency})`, `Cost (${currency})`]).font = { bold: true };
 	for (const l of lines) sheet.addRow([neutralise(l.item), l.quantity, l.unitPrice, l.cost]);
-	sheet.columns.forEach((c) => (c.width = 20));
+	sheet.views = [{ state: 'frozen', ySplit: 2 }];
+	const formats = [
+		null,
+		excelQuantityColumnFormat(lines.map((l) => l.quantity)),
+		excelUnitPriceFormat(currency),
+		excelMoneyFormat(currency)
+	];
+	formats.forEach((format, k) => {
+		const column = sheet.getColumn(k + 1);
+		column.width = 20;
+		if (format) column.numFmt = format;
+	});
 	return Buffer.from(await workbook.xlsx.writeBuffer());
 }
 
