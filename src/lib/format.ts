@@ -2,6 +2,8 @@
 // BHD 3, as Intl reports them), unit prices with up to four more decimals than the currency (bids price
 // small parts in fractions of a cent), quantities without trailing zeros. One formatter per shape and
 // currency: making an Intl.NumberFormat costs far more than using it.
+import { formatInZone } from './time';
+
 const formatters = new Map<string, Intl.NumberFormat>();
 
 function formatter(key: string, make: () => Intl.NumberFormat): Intl.NumberFormat {
@@ -104,3 +106,12 @@ export function excelQuantityColumnFormat(values: Iterable<number>): string {
 }
 
 export const EXCEL_SHARE_FORMAT = '0.0%';
+
+/**
+ * A moment as people read it, to the minute, in a time zone named beside it: "2027-03-01 17:00
+ * (Europe/Berlin)". Event times use the event's zone, so a supplier abroad reads the deadline as the
+ * buyer set it.
+ */
+export function formatTime(at: Date | string, timeZone: string, options: { seconds?: boolean } = {}): string {
+	return `${formatInZone(at instanceof Date ? at : new Date(at), timeZone, options.seconds)} (${timeZone})`;
+}

@@ -138,13 +138,33 @@ describe('award plans, runs, sign-off and notices', () => {
 		expect([403, 404]).toContain(refused.status);
 	});
 
+	it('refuses at save a plan that names an item, lot or supplier the event lacks, by the rule’s number', async () => {
+		const name = 'Names nobody';
+		const bad = await post(buyer.client, `/api/events/${event.id}/plans`, {
+			name,
+			rules: [
+				{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 },
+				{ type: 'max_share', scope: { item: 'NO-SUCH-ITEM' }, who: 'each_supplier', percent: 60 },
+				{ type: 'exclude', scope: 'event', who: { supplier: 'Nobody Trading' } },
+				{ type: 'max_share', scope: { lot: 'L9' }, who: 'each_supplier', percent: 50 }
+			]
+		});
+		expect(bad.status).toBe(422);
+		const message = String((await json(bad)).message);
+		expect(message).toContain('Rule 2 (scope.item): this event has no item “NO-SUCH-ITEM”');
+		expect(message).toContain('Rule 3 (who.supplier): “Nobody Trading” is not invited to this event');
+		expect(message).toContain('Rule 4 (scope.lot): this event has no lot “L9”');
+		expect(message).not.toContain('Rule 1');
+		expect(await testDb()('award_plans').where({ event_id: event.id, name }).first()).toBeUndefined();
+	});
+
 	it('refuses a plan with a bad rule, naming it, and runs a plan with a share cap', async () => {
 		const bad = await post(buyer.client, `/api/events/${event.id}/plans`, {
 			name: 'Broken',
 			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 160 }]
 		});
 		expect(bad.status).toBe(422);
-		expect(JSON.stringify(await bad.json())).toContain('rules[0].percent');
+		expect(JSON.stringify(await bad.json())).toContain('Rule 1 (percent)');
 		const made = await post(buyer.client, `/api/events/${event.id}/plans`, {
 			name: 'Dual sourcing',
 			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]

@@ -467,6 +467,33 @@ describe('setting up an event', () => {
 		expect(csv).toContain(`'@cmd`);
 	});
 
+	// 2031-03-30 is the last Sunday of March: Berlin's clocks go from 02:00 to 03:00 (IANA tz rules).
+	it('refuses a deadline the event’s time zone skips, on the deadline field, and stores nothing', async () => {
+		const reference = `DST-${Date.now()}`;
+		const response = await cast.buyer.client.postForm(
+			'/buyer/events/new',
+			{
+				reference,
+				title: 'Clock change',
+				description: '',
+				currency: 'EUR',
+				incoterm: 'DAP',
+				deliveryPlace: '',
+				deadlineLocal: '2031-03-30T02:30',
+				timeZone: 'Europe/Berlin',
+				bidValidityDays: '90'
+			},
+			'application/json'
+		);
+		const answer = (await response.json()) as { type: string; status: number; data: string };
+		expect(answer).toMatchObject({ type: 'failure', status: 422 });
+		const { form } = devalue.parse(answer.data) as { form: { errors: Record<string, string[]> } };
+		expect(form.errors.deadlineLocal).toEqual([
+			'2031-03-30 02:30 does not exist in Europe/Berlin: the clocks go forward then. Choose a time outside the change, such as an hour later.'
+		]);
+		expect(await testDb()('events').where({ reference }).first()).toBeUndefined();
+	});
+
 	it('mails every invited supplier an amendment after publishing and records it', async () => {
 		const [one, two] = [await aSupplier(), await aSupplier()];
 		const open = await anOpenEvent({

@@ -303,6 +303,7 @@ export interface AwaitingSignoffRow {
 	title: string;
 	submitted_at: Date;
 	submitted_by: string;
+	time_zone: string;
 }
 
 /** Undecided sign-offs of an organisation's events, oldest first. */
@@ -321,6 +322,7 @@ export function listAwaitingSignoff(db: Db, organisationId: string): Promise<Awa
 			'r.plan_name',
 			'e.reference',
 			'e.title',
+			'e.time_zone',
 			's.submitted_at',
 			'u.name as submitted_by'
 		);

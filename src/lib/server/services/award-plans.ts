@@ -6,7 +6,14 @@ import { ruleSchema, type AwardRule } from '$lib/award/core/problem';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';
-import { lockEvent, setEventState, type EventRow } from '../db/events';
+import {
+	listInvitations,
+	listItems,
+	lockEvent,
+	setEventState,
+	type EventRow,
+	type InvitationRow
+} from '../db/events';
 import { db, type Db } from '../db/knex';
 import type { PlanRow } from '../db/tables';
 import { appendTrail } from '../trail';
@@ -43,16 +50,47 @@ export function checkRules(
 		const parsed = ruleSchema.safeParse(raw);
 		// A fixed quantity is a change by hand: it is made on a run, with its justification, never in a plan.
 		if (parsed.success && parsed.data.type === 'fixed_quantity')
-			problems.push(`rules[${k}].type: a fixed quantity is set by changing a run by hand, not in a plan`);
+			problems.push(`Rule ${k + 1} (type): a fixed quantity is set by changing a run by hand, not in a plan`);
 		else if (parsed.success) rules.push(parsed.data as AwardRule);
 		else
 			problems.push(
 				...parsed.error.issues.map(
-					(i) => `rules[${k}]${i.path.length ? `.${i.path.join('.')}` : ''}: ${i.message}`
+					(i) => `Rule ${k + 1}${i.path.length ? ` (${i.path.join('.')})` : ''}: ${i.message}`
 				)
 			);
 	});
 	return problems.length ? { ok: false, problems } : { ok: true, rules };
+}
+
+/**
+ * What a plan's rules name that the event does not have: an item, a lot, an invited supplier or a tag of
+ * one; each problem names the rule by its number as the plan lists it (from 1).
+ */
+export function unknownReferences(
+	rules: readonly AwardRule[],
+	event: { items: readonly { ref: string; lot_ref: string | null }[]; invitations: readonly InvitationRow[] }
+): string[] {
+	const items = new Set(event.items.map((i) => i.ref));
+	const lots = new Set(event.items.flatMap((i) => (i.lot_ref ? [i.lot_ref] : [])));
+	const suppliers = new Set(event.invitations.map((i) => i.supplier_name));
+	const tags = new Set(event.invitations.flatMap((i) => i.tags));
+	const problems: string[] = [];
+	rules.forEach((rule, k) => {
+		const at = `Rule ${k + 1}`;
+		if ('scope' in rule && typeof rule.scope === 'object') {
+			if ('item' in rule.scope && !items.has(rule.scope.item))
+				problems.push(`${at} (scope.item): this event has no item “${rule.scope.item}”`);
+			if ('lot' in rule.scope && !lots.has(rule.scope.lot))
+				problems.push(`${at} (scope.lot): this event has no lot “${rule.scope.lot}”`);
+		}
+		if ('who' in rule && typeof rule.who === 'object') {
+			if ('supplier' in rule.who && !suppliers.has(rule.who.supplier))
+				problems.push(`${at} (who.supplier): “${rule.who.supplier}” is not invited to this event`);
+			if ('tag' in rule.who && !tags.has(rule.who.tag))
+				problems.push(`${at} (who.tag): no invited supplier has the tag “${rule.who.tag}”`);
+		}
+	});
+	return problems;
 }
 
 /** Sends an event awaiting sign-off back to evaluation, superseding the pending sign-off. */
@@ -83,6 +121,9 @@ export async function savePlan(
 		const event = (await lockEvent(trx, eventId))!;
 		if (['awarded', 'cancelled'].includes(event.state))
 			throw new RuleViolation('The event is awarded: its plans are final.', undefined, 409);
+		const [items, invitations] = await Promise.all([listItems(trx, eventId), listInvitations(trx, eventId)]);
+		const unknown = unknownReferences(plan.rules, { items, invitations });
+		if (unknown.length) throw new RuleViolation(unknown.join('; '), 'rules', 422);
 		let row: PlanRow;
 		if (plan.id) {
 			const existing = await awards.findEventPlan(trx, eventId, plan.id);

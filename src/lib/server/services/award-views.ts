@@ -232,6 +232,7 @@ export async function awaitingSignoff(user: SessionUser) {
 		plan: r.plan_name,
 		event: `${r.reference} · ${r.title}`,
 		submittedAt: r.submitted_at.toISOString(),
+		timeZone: r.time_zone,
 		submittedBy: r.submitted_by
 	}));
 }

@@ -58,6 +58,20 @@ describe('the bid sheet', () => {
 		expect(workbook.getWorksheet('Terms')!.getCell('B4').value).toBe(90);
 	});
 
+	// Brussels is on CET (+01:00) in March 2027, by the IANA rules: 12:00 UTC is 13:00 on its wall clock.
+	it('states the deadline on the wall clock of the event’s time zone, as the event page does', async () => {
+		const workbook = new ExcelJS.Workbook();
+		await workbook.xlsx.load((await buildBidSheet(event(), 'Supplier One')) as unknown as ArrayBuffer);
+		const texts: string[] = [];
+		for (const sheet of ['Instructions', 'Terms'])
+			workbook
+				.getWorksheet(sheet)!
+				.eachRow((row) => row.eachCell((cell) => void texts.push(String(cell.value))));
+		const all = texts.join('\n');
+		expect(all).toContain('2027-03-01 13:00 (Europe/Brussels)');
+		expect(all).not.toContain('2027-03-01T12:00');
+	});
+
 	it('leaves out the break, capacity and bundle parts when the event does not allow them', async () => {
 		const plain = event({ allowPriceBreaks: false, allowCapacity: false, allowBundles: false });
 		const workbook = new ExcelJS.Workbook();

@@ -4,6 +4,7 @@
 import ExcelJS from 'exceljs';
 import { parse as parseCsv } from 'csv-parse/sync';
 import { countedWhole } from '$lib/award/core/units';
+import { formatTime } from '$lib/format';
 import type { BidLine, ParsedBid, SheetProblem } from '../shapes';
 
 export interface SheetItem {
@@ -104,7 +105,7 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 			? 'You may offer bundles (all or nothing) on the "Bundles" sheet: one row per item of the bundle, its price on the first row.'
 			: '',
 		'Type numbers, not formulas. Do not add, remove or rename sheets, rows or columns.',
-		`Upload the sheet before the deadline: ${event.deadline.toISOString()} (${event.timeZone}). You can upload again until then; the latest accepted upload is your bid.`
+		`Upload the sheet before the deadline: ${formatTime(event.deadline, event.timeZone)}. You can upload again until then; the latest accepted upload is your bid.`
 	].filter(Boolean);
 	lines.forEach((text, i) => (instructions.getCell(`A${i + 1}`).value = text));
 	instructions.getColumn(1).width = 120;
@@ -115,7 +116,7 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 		['Event', event.title],
 		['Currency', event.currency],
 		['Bid validity (days)', event.bidValidityDays],
-		['Bid deadline', `${event.deadline.toISOString()} (${event.timeZone})`],
+		['Bid deadline', formatTime(event.deadline, event.timeZone)],
 		['Supplier', supplierName]
 	]);
 	terms.getColumn(1).width = 24;

@@ -3,12 +3,19 @@ import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { amendmentSchema } from '$lib/schemas/events';
 import { requireRole } from '$lib/server/auth/guard';
-import { currencies, eventSchema, fieldsFromForm, formFromEvent, timeZones } from '$lib/server/event-form';
+import {
+	currencies,
+	deadlineFrom,
+	eventSchema,
+	fieldsFromForm,
+	formFromEvent,
+	timeZones
+} from '$lib/server/event-form';
 import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail, orFieldError } from '$lib/server/route-errors';
 import { eventDetail } from '$lib/server/services/event-views';
 import { amend, buyerEvent, publish, updateDraft } from '$lib/server/services/events';
-import { fromLocalInput, toLocalInput } from '$lib/time';
+import { toLocalInput } from '$lib/time';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -42,7 +49,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(eventSchema), { id: 'event' });
 		if (!form.valid) return fail(400, { form });
-		return orFieldError(form, { known: [], fallback: 'reference' }, async () => {
+		return orFieldError(form, { known: ['deadlineLocal'], fallback: 'reference' }, async () => {
 			await updateDraft(user, event.params.id, fieldsFromForm(form.data));
 			return message(form, 'Saved.');
 		});
@@ -76,7 +83,7 @@ export const actions: Actions = {
 					deadline:
 						form.data.deadlineLocal === toLocalInput(row.deadline, row.time_zone)
 							? row.deadline
-							: fromLocalInput(form.data.deadlineLocal, row.time_zone)
+							: deadlineFrom(form.data.deadlineLocal, row.time_zone)
 				},
 				requestContext(event)
 			);

@@ -34,7 +34,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(eventSchema));
 		if (!form.valid) return fail(400, { form });
-		return orFieldError(form, { known: [], fallback: 'reference' }, async () => {
+		return orFieldError(form, { known: ['deadlineLocal'], fallback: 'reference' }, async () => {
 			const { id } = await createEvent(user, fieldsFromForm(form.data));
 			redirect(303, `/buyer/events/${id}/items`);
 		});
