@@ -1,54 +1,11 @@
 // Numbers as people read them: thousands separators, a currency's own minor units (ISO 4217: JPY 0, EUR 2,
 // BHD 3, as Intl reports them), unit prices with up to four more decimals than the currency (bids price
-// small parts in fractions of a cent), quantities without trailing zeros. One formatter per shape and
-// currency: making an Intl.NumberFormat costs far more than using it.
+// small parts in fractions of a cent), quantities without trailing zeros, shares, changes and times. The
+// amounts live in award/core/money.ts, where the engine's own sentences use them too.
+import { formatMoney, formatter, formatUnitPrice, minorUnits } from './award/core/money';
 import { formatInZone } from './time';
 
-const formatters = new Map<string, Intl.NumberFormat>();
-
-function formatter(key: string, make: () => Intl.NumberFormat): Intl.NumberFormat {
-	let found = formatters.get(key);
-	if (!found) {
-		found = make();
-		if (formatters.size < 1000) formatters.set(key, found);
-	}
-	return found;
-}
-
-const minor = new Map<string, number>();
-
-/** Decimals of the currency's minor unit (2 where Intl does not know the code). */
-export function minorUnits(currency: string): number {
-	let digits = minor.get(currency);
-	if (digits === undefined) {
-		try {
-			digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()
-				.maximumFractionDigits!;
-		} catch {
-			digits = 2;
-		}
-		if (minor.size < 1000) minor.set(currency, digits);
-	}
-	return digits;
-}
-
-/** An amount in the currency's minor units: "3,248,729.09" (the code is shown beside it, once). */
-export function formatMoney(value: number, currency: string): string {
-	const digits = minorUnits(currency);
-	return formatter(
-		`money|${digits}`,
-		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits })
-	).format(value);
-}
-
-/** A unit price: at least the currency's minor units, up to four more where the bid has them. */
-export function formatUnitPrice(value: number, currency: string): string {
-	const digits = minorUnits(currency);
-	return formatter(
-		`unit|${digits}`,
-		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits + 4 })
-	).format(value);
-}
+export { formatMoney, formatUnitPrice, minorUnits };
 
 /** A quantity: grouped, up to six decimals, none when whole ("1,910", "12.5"). */
 export function formatQuantity(value: number): string {
@@ -114,4 +71,18 @@ export const EXCEL_SHARE_FORMAT = '0.0%';
  */
 export function formatTime(at: Date | string, timeZone: string, options: { seconds?: boolean } = {}): string {
 	return `${formatInZone(at instanceof Date ? at : new Date(at), timeZone, options.seconds)} (${timeZone})`;
+}
+
+/** A solve's outcome in a buyer's words, short enough for a list of runs. */
+export function outcomeLabel(status: string | null | undefined): string {
+	const words: Record<string, string> = {
+		optimal: 'best possible',
+		feasible: 'keeps every rule, not proven best',
+		infeasible: 'no allocation keeps every rule',
+		no_solution_in_time: 'nothing found in time',
+		unbounded: 'the problem is incomplete',
+		solver_error: 'the solver failed',
+		invalid_input: 'the problem is invalid'
+	};
+	return status ? (words[status] ?? status) : '';
 }

@@ -92,7 +92,7 @@ describe('the four journeys, in a browser', () => {
 		await page.getByRole('button', { name: 'Run the plan Dual sourcing' }).click();
 		await expect
 			.poll(() => page.getByTestId('runs').textContent(), { timeout: 30_000 })
-			.toContain('Done (optimal)');
+			.toContain('Done (best possible)');
 		await page.getByRole('link', { name: 'Run 1' }).click();
 		await page.waitForURL(/\/award\/runs\//);
 		await expect.poll(() => page.getByTestId('allocation').textContent()).toContain(first.organisation.name);

@@ -62,7 +62,7 @@ describe('the evaluation desk, in a browser', () => {
 			.click();
 		await expect
 			.poll(() => page.getByTestId('runs').textContent(), { timeout: 60_000 })
-			.toContain('Done (optimal)');
+			.toContain('Done (best possible)');
 		await page.getByRole('link', { name: 'Run 1' }).click();
 		await page.waitForURL(/\/award\/runs\/[0-9a-f-]+$/);
 		const original = page.url();

@@ -262,7 +262,7 @@ describe('sensitivity', () => {
 		const losing = result.sensitivity!.losingBids.find((b) => b.supplier === 'S2');
 		expect(result.sensitivity!.local).toBe(false);
 		expect(losing).toMatchObject({ item: 'IT-17', unitPrice: 4.5, winsBelow: 4 });
-		expect(losing!.text).toBe('S2 would start to win IT-17 below 4 EUR');
+		expect(losing!.text).toBe('S2 would start to win IT-17 below 4.00 EUR');
 	});
 
 	it('flags shadow prices of a MIP as local', async () => {

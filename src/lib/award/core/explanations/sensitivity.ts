@@ -7,8 +7,7 @@ import type { AwardProblem } from '../problem';
 import type { AwardLine } from '../result';
 import type { Solver } from '../solver';
 import type { AwardOptions, AwardResult, Sensitivity } from '../types';
-
-const money = (value: number) => Math.round(value * 100) / 100;
+import { formatUnitPrice } from '../money';
 
 /** The full model with each integer column fixed at the value the allocation's lines imply. */
 function fixedAtAllocation(problem: AwardProblem, lines: AwardLine[]): AwardModel {
@@ -47,6 +46,8 @@ export async function sensitivity(
 	const found: Sensitivity = { local, coverPrices: [], capacityPrices: [], losingBids: [] };
 	if (!outcome.rowDuals || !outcome.reducedCosts || !outcome.columns) return found;
 	const c = problem.currency;
+	// Unit amounts in the currency's minor units and up to four more decimals, with thousands separators.
+	const money = (value: number) => formatUnitPrice(value, c);
 	model.rows.forEach((meaning, row) => {
 		const dual = outcome.rowDuals![row]!;
 		if (meaning.kind === 'cover') {

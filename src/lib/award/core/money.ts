@@ -1,0 +1,50 @@
+// Amounts in a currency as people read them: thousands separators and the currency's own minor units
+// (ISO 4217: JPY 0, EUR 2, BHD 3, as Intl reports them). Here, pure, so the engine's sentences use them;
+// the app reads them through $lib/format, beside quantities, shares and times. One formatter per shape
+// and currency: making an Intl.NumberFormat costs far more than using it.
+const formatters = new Map<string, Intl.NumberFormat>();
+
+/** The cached formatter of `key`, made by `make` the first time. */
+export function formatter(key: string, make: () => Intl.NumberFormat): Intl.NumberFormat {
+	let found = formatters.get(key);
+	if (!found) {
+		found = make();
+		if (formatters.size < 1000) formatters.set(key, found);
+	}
+	return found;
+}
+
+const minor = new Map<string, number>();
+
+/** Decimals of the currency's minor unit (2 where Intl does not know the code). */
+export function minorUnits(currency: string): number {
+	let digits = minor.get(currency);
+	if (digits === undefined) {
+		try {
+			digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()
+				.maximumFractionDigits!;
+		} catch {
+			digits = 2;
+		}
+		if (minor.size < 1000) minor.set(currency, digits);
+	}
+	return digits;
+}
+
+/** An amount in the currency's minor units: "3,248,729.09" (the code is shown beside it, once). */
+export function formatMoney(value: number, currency: string): string {
+	const digits = minorUnits(currency);
+	return formatter(
+		`money|${digits}`,
+		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits })
+	).format(value);
+}
+
+/** A unit price: at least the currency's minor units, up to four more where the bid has them. */
+export function formatUnitPrice(value: number, currency: string): string {
+	const digits = minorUnits(currency);
+	return formatter(
+		`unit|${digits}`,
+		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits + 4 })
+	).format(value);
+}

@@ -1,0 +1,214 @@
+// Every page of every role, at a desktop's width (1440 px) and a phone's (390 px): the page never scrolls
+// sideways on the phone (a wide table scrolls inside its own region), each Tab stop shows a visible focus
+// indicator (WCAG 2.2 SC 2.4.7: the computed outline or box shadow is not none; axe does not test it), and
+// axe finds nothing. A screenshot of each page at each width goes to test-results/screens/ (git-ignored),
+// so anyone can look at the pages after a test run.
+import { mkdirSync } from 'node:fs';
+import { join } from 'node:path';
+import type { Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { accessibilityViolations, browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
+import { appUrl } from '../support/env';
+import {
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	fillSheet,
+	signedIn,
+	untilPast,
+	uploadSheet,
+	type TestEvent
+} from '../support/events';
+import { aUser, closeTestDb, type TestUser } from '../support/factories';
+import { finished, post } from '../support/runs';
+
+const SCREENS = join(process.cwd(), 'test-results', 'screens');
+const WIDTHS = [1440, 390] as const;
+const TAB_STOPS = 12;
+
+let browser: OpenBrowser;
+const { signInAsStaff, signInBySupplierLink } = browserHelpers(() => browser);
+const staff: Record<'buyer' | 'approver' | 'auditor' | 'admin', TestUser> = {} as never;
+let supplier: TestUser;
+let event: TestEvent;
+let openEvent: TestEvent;
+const runs: string[] = [];
+
+const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
+
+beforeAll(async () => {
+	browser = await openBrowser();
+	mkdirSync(SCREENS, { recursive: true });
+	for (const role of ['buyer', 'approver', 'auditor', 'admin'] as const) staff[role] = await aUser(role);
+	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
+	supplier = bidders[0].user;
+	const deadline = new Date(Date.now() + 12_000);
+	event = await anOpenEvent({
+		createdBy: staff.buyer.id,
+		invite: bidders.map((b) => b.organisation.id),
+		deadline
+	});
+	openEvent = await anOpenEvent({ createdBy: staff.buyer.id, invite: [bidders[0].organisation.id] });
+	for (const [k, prices] of [
+		[0, [4, 5, 6]],
+		[1, [4.2, 4.9, 6.5]]
+	] as const) {
+		const client = await signedIn(bidders[k].user);
+		const sheet = Buffer.from(await (await client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
+		const filled = await fillSheet(sheet, { 'IT-1': [prices[0]], 'IT-2': [prices[1]], 'IT-3': [prices[2]] });
+		expect((await uploadSheet(client, event.id, filled)).status).toBe(201);
+	}
+	await untilPast(deadline);
+	const buyer = await signedIn(staff.buyer);
+	const plans = (await json(await buyer.get(`/api/events/${event.id}/plans`, 'application/json'))).plans as {
+		id: string;
+		lowestCost: boolean;
+	}[];
+	const made = await json(
+		await post(buyer, `/api/events/${event.id}/plans`, {
+			name: 'Two suppliers',
+			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]
+		})
+	);
+	for (const planId of [plans.find((p) => p.lowestCost)!.id, (made.plan as { id: string }).id]) {
+		const started = await json(await post(buyer, `/api/plans/${planId}/runs`, {}));
+		runs.push(String((await finished(buyer, started.runId as string)).id));
+	}
+	const submitted = await post(buyer, `/api/runs/${runs[1]}/submit`, {
+		justification: 'Two suppliers on every item keep supply safe.'
+	});
+	expect(submitted.status).toBe(200);
+}, 120_000);
+
+afterAll(async () => {
+	await browser?.close();
+	await closeTestDb();
+});
+
+/** What is wrong with the page in view at this width; empty when nothing is. */
+async function problemsOf(page: Page, name: string, width: number): Promise<string[]> {
+	const problems: string[] = [];
+	const overflow = await page.evaluate(
+		() => document.documentElement.scrollWidth - document.documentElement.clientWidth
+	);
+	if (overflow > 1) problems.push(`${name} at ${width} px: the page scrolls sideways by ${overflow} px`);
+	for (const v of await accessibilityViolations(page))
+		problems.push(
+			`${name} at ${width} px: axe ${v.id} at ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`
+		);
+	if (width === WIDTHS[0]) {
+		await page.locator('body').focus();
+		for (let stop = 0; stop < TAB_STOPS; stop++) {
+			await page.keyboard.press('Tab');
+			const focus = await page.evaluate(() => {
+				const element = document.activeElement as HTMLElement | null;
+				if (!element || element === document.body) return null;
+				const style = getComputedStyle(element);
+				return {
+					what: `${element.tagName.toLowerCase()} “${(element.textContent ?? '').trim().slice(0, 30)}”`,
+					visible: style.outlineStyle !== 'none' || style.boxShadow !== 'none'
+				};
+			});
+			if (!focus) break;
+			if (!focus.visible) problems.push(`${name}: no visible focus on ${focus.what} (Tab stop ${stop + 1})`);
+		}
+	}
+	return problems;
+}
+
+/** Visits each page at each width; returns every problem found, so one run lists them all. */
+async function walk(role: string, pages: [string, string][]): Promise<string[]> {
+	const { page } = browser;
+	const problems: string[] = [];
+	for (const width of WIDTHS) {
+		await page.setViewportSize({ width, height: 900 });
+		for (const [name, path] of pages) {
+			const response = await page.goto(`${appUrl()}${path}`);
+			await page.waitForLoadState('networkidle', { timeout: 10_000 }).catch(() => undefined);
+			if (!response || response.status() >= 400) {
+				problems.push(`${name}: answered ${response?.status()}`);
+				continue;
+			}
+			await page.screenshot({ path: join(SCREENS, `${role}-${name}-${width}.png`), fullPage: true });
+			problems.push(...(await problemsOf(page, name, width)));
+		}
+	}
+	return problems;
+}
+
+describe('every page of every role, at 1440 px and 390 px', () => {
+	it('the buyer’s pages', async () => {
+		await signInAsStaff(staff.buyer.email, staff.buyer.password!);
+		const at = `/buyer/events/${event.id}`;
+		const problems = await walk('buyer', [
+			['home', '/buyer'],
+			['events', '/buyer/events'],
+			['new-event', '/buyer/events/new'],
+			['event', at],
+			['items', `${at}/items`],
+			['suppliers', `${at}/suppliers`],
+			['questions', `${at}/questions`],
+			['bids', `${at}/bids`],
+			['bids-before-deadline', `/buyer/events/${openEvent.id}/bids`],
+			['award', `${at}/award`],
+			['run', `${at}/award/runs/${runs[0]}`],
+			['compare', `${at}/award/compare?run=${runs[0]}&run=${runs[1]}`],
+			['trail', `/events/${event.id}/trail`],
+			['account', '/account']
+		]);
+		expect(problems).toEqual([]);
+	});
+
+	// The checks above would pass on any page if they could not see a fault: here they must see two.
+	it('finds a focus ring taken away and a page that scrolls sideways (the checks themselves)', async () => {
+		const { page } = browser;
+		await page.setViewportSize({ width: WIDTHS[0], height: 900 });
+		await page.goto(`${appUrl()}/buyer/events`);
+		await page.addStyleTag({
+			content: '*:focus, *:focus-visible { outline: none !important; box-shadow: none !important; }'
+		});
+		await page.evaluate(() => {
+			const wide = document.createElement('div');
+			wide.style.width = '3000px';
+			wide.style.height = '1px';
+			document.querySelector('main')?.append(wide);
+		});
+		const problems = await problemsOf(page, 'events', WIDTHS[0]);
+		expect(problems.some((p) => /^events at 1440 px: the page scrolls sideways by \d+ px$/.test(p))).toBe(
+			true
+		);
+		expect(problems.some((p) => p.startsWith('events: no visible focus on '))).toBe(true);
+	});
+
+	it('the approver’s, the auditor’s and the administrator’s pages', async () => {
+		const problems: string[] = [];
+		await signInAsStaff(staff.approver.email, staff.approver.password!);
+		problems.push(
+			...(await walk('approver', [
+				['home', '/approver'],
+				['sign-off', `/approver/runs/${runs[1]}`],
+				['trail', `/events/${event.id}/trail`]
+			]))
+		);
+		await signInAsStaff(staff.auditor.email, staff.auditor.password!);
+		problems.push(...(await walk('auditor', [['home', '/audit']])));
+		await signInAsStaff(staff.admin.email, staff.admin.password!);
+		problems.push(
+			...(await walk('admin', [
+				['home', '/admin'],
+				['users', '/admin/users']
+			]))
+		);
+		expect(problems).toEqual([]);
+	});
+
+	it('the supplier’s pages', async () => {
+		await signInBySupplierLink(supplier.email);
+		const problems = await walk('supplier', [
+			['home', '/supplier'],
+			['events', '/supplier/events'],
+			['opened-event', `/supplier/events/${event.id}`],
+			['open-event', `/supplier/events/${openEvent.id}`]
+		]);
+		expect(problems).toEqual([]);
+	});
+});
