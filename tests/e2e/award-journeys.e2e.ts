@@ -128,7 +128,8 @@ describe('the four journeys, in a browser', () => {
 		);
 		const notifiedAfter = new Date();
 		await page.getByLabel('Comment (required to return)').fill('Within budget.');
-		await page.getByRole('button', { name: 'Approve the award' }).click();
+		await page.getByText('Approve the award…').click();
+		await page.getByRole('button', { name: 'Yes, approve and send the notices' }).click();
 		await page.waitForURL('**/approver');
 
 		// 4. The supplier gets its award e-mail with its own quantities, and sees the same in its portal.

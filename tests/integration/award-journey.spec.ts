@@ -281,6 +281,13 @@ describe('award plans, runs, sign-off and notices', () => {
 		});
 		expect(approved.status).toBe(200);
 		expect((await json(approved)).notices).toBe(2);
+		// The approver's home keeps the decision (issue 13: the approver had no history).
+		const home = (await (await approver.client.get('/approver')).text())
+			.replace(/<!--[\s\S]*?-->/g, '')
+			.replace(/<[^>]+>/g, '')
+			.replace(/\s+/g, ' ');
+		expect(home).toContain('Your decisions');
+		expect(home).toMatch(new RegExp(`${event.reference} · [^:]+: run \\d+ \\(.*?\\), approved \\d{4}-`));
 
 		const award = await latestMailTo(a.user.email, { after: approvedAfter, timeoutMs: 20_000 });
 		expect(award.subject).toMatch(/^Award notice/);

@@ -328,6 +328,46 @@ export function listAwaitingSignoff(db: Db, organisationId: string): Promise<Awa
 		);
 }
 
+/** The sign-offs an approver decided, newest first: the approver's history on the home page. */
+export function listDecidedBy(
+	db: Db,
+	organisationId: string,
+	userId: number,
+	limit = 20
+): Promise<
+	{
+		run_id: string;
+		event_id: string;
+		number: number;
+		plan_name: string;
+		reference: string;
+		title: string;
+		time_zone: string;
+		decision: 'approve' | 'return';
+		decided_at: Date;
+	}[]
+> {
+	return db('signoffs as s')
+		.join('award_runs as r', 'r.id', 's.run_id')
+		.join('events as e', 'e.id', 's.event_id')
+		.where('e.organisation_id', organisationId)
+		.where('s.decided_by', userId)
+		.whereNotNull('s.decision')
+		.orderBy('s.decided_at', 'desc')
+		.limit(limit)
+		.select(
+			'r.id as run_id',
+			'e.id as event_id',
+			'r.number',
+			'r.plan_name',
+			'e.reference',
+			'e.title',
+			'e.time_zone',
+			's.decision',
+			's.decided_at'
+		);
+}
+
 // Notices
 
 export function insertNotices(

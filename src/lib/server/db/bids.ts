@@ -471,3 +471,15 @@ export async function visibleBids(
 		};
 	});
 }
+
+/** A supplier's latest revision in each event it has bid in: number, source and time, never a price. */
+export function latestOwnRevisions(
+	db: Db,
+	supplierOrganisationId: string
+): Promise<{ event_id: string; number: number; source: RevisionRow['source']; submitted_at: Date }[]> {
+	return db('bid_revisions')
+		.distinctOn('event_id')
+		.where({ supplier_organisation_id: supplierOrganisationId })
+		.orderBy([{ column: 'event_id' }, { column: 'number', order: 'desc' }])
+		.select('event_id', 'number', 'source', 'submitted_at');
+}

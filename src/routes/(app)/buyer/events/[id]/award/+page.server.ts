@@ -58,7 +58,7 @@ export const actions: Actions = {
 		const planId = String((await event.request.formData()).get('planId') ?? '');
 		return orFail(async () => {
 			const run = await startRun(user, planId, event.params.id);
-			return { ok: `Run ${run.number} is queued.`, runId: run.id };
+			return { ok: `Run ${run.number} started: its status is in the list of runs below.`, runId: run.id };
 		});
 	},
 	submit: async (event) => {
