@@ -86,3 +86,35 @@ export function outcomeLabel(status: string | null | undefined): string {
 	};
 	return status ? (words[status] ?? status) : '';
 }
+
+/**
+ * Short names of the UN/CEFACT Recommendation 20 codes people meet most (names as the recommendation
+ * gives them, shortened: "one" is a unit); any other code is shown as it is.
+ */
+const UNIT_NAMES: Record<string, string> = {
+	C62: 'units',
+	H87: 'pieces',
+	EA: 'each',
+	SET: 'sets',
+	PR: 'pairs',
+	KGM: 'kg',
+	TNE: 't',
+	MTR: 'm',
+	MTK: 'm²',
+	MTQ: 'm³',
+	LTR: 'l',
+	HUR: 'h',
+	DAY: 'days',
+	MON: 'months',
+	KWH: 'kWh'
+};
+
+/** A unit code as people read it: "units" for C62, "kg" for KGM; an unknown code as given. */
+export function unitName(code: string): string {
+	return UNIT_NAMES[code] ?? code;
+}
+
+/** A quantity with its unit: "2,360 units", "12.5 kg". */
+export function formatQuantityIn(value: number, unitCode: string): string {
+	return `${formatQuantity(value)} ${unitName(unitCode)}`;
+}

@@ -59,7 +59,7 @@ describe('the decision trail', () => {
 		// The trail is readable before the deadline: it holds hashes and counts, never a price.
 		expect(JSON.stringify(trail)).not.toMatch(/"1\.9"|1\.9[,}]/);
 		const page = await (await buyer.client.get(`/events/${event.id}/trail`)).text();
-		expect(page).toContain('intact, 3 entries');
+		expect(page).toContain('The chain is intact: 3 entries');
 		// The page says plainly what the check finds and what it cannot, and no longer claims more.
 		expect(page).toContain('What it cannot find');
 		expect(page).toContain('a step that was never written to the trail');

@@ -264,7 +264,7 @@ export function verifyTrail(
 		anchoredTo,
 		unanchored,
 		unsigned,
-		text: `intact, ${count} entries${anchorText}${unsignedText}`
+		text: `intact, ${count} ${count === 1 ? 'entry' : 'entries'}${anchorText}${unsignedText}`
 	};
 }
 

@@ -36,7 +36,13 @@ export function formatMoney(value: number, currency: string): string {
 	const digits = minorUnits(currency);
 	return formatter(
 		`money|${digits}`,
-		() => new Intl.NumberFormat('en', { minimumFractionDigits: digits, maximumFractionDigits: digits })
+		() =>
+			new Intl.NumberFormat('en', {
+				minimumFractionDigits: digits,
+				maximumFractionDigits: digits,
+				// No "-0.00" for an amount that rounds to zero.
+				signDisplay: 'negative'
+			})
 	).format(value);
 }
 
