@@ -38,7 +38,15 @@ describe('who may reach what', () => {
 		const { client } = await signedInSupplier();
 		const response = await client.get('/buyer');
 		expect(response.status).toBe(403);
-		expect(await response.text()).toContain('Your role does not give access to this page.');
+		const page = await response.text();
+		expect(page).toContain('<h1>This page could not be shown</h1>');
+		expect(page).toContain('Your role does not give access to this page.');
+		// Issue 13: this page was set in another font. It loads the app's own Public Sans, served here.
+		const font = /url\('(\/fonts\/public-sans-latin-400-normal\.woff2)'\)/.exec(page)?.[1];
+		expect(font).toBeDefined();
+		const file = await client.get(font!);
+		expect(file.status).toBe(200);
+		expect(file.headers.get('content-type')).toBe('font/woff2');
 	});
 
 	it('refuses a supplier on a buyer API route with 403', async () => {
