@@ -573,6 +573,10 @@ describe('bidding on screen and withdrawing', () => {
 		await own.client.postForm(`/supplier/events/${screen.id}?/withdraw`, {}, 'application/json');
 		const after = await json(await own.client.get(`/api/events/${screen.id}/bids`, 'application/json'));
 		expect(after.bids).toMatchObject([{ revision: 2, withdrawn: true, lines: [] }]);
+		// Issue 13: the on-screen grid was empty after a withdrawal; it keeps the last prices to bid again.
+		const page = await (await own.client.get(`/supplier/events/${screen.id}`)).text();
+		expect(page).toContain('value="1.5"');
+		expect(page).toContain('value="2.75"');
 		const submissions = await json(
 			await cast.buyer.client.get(`/api/events/${screen.id}/submissions`, 'application/json')
 		);

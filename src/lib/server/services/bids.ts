@@ -381,6 +381,8 @@ export async function withdraw(
 
 export interface SupplierBidView {
 	current: VisibleBid | null;
+	/** After a withdrawal, the last revision with prices: the on-screen grid starts from it again. */
+	lastPriced: VisibleBid | null;
 	revisions: RevisionRow[];
 	/** The latest uploads (at most 50), and how many there are in all. */
 	uploads: UploadRow[];
@@ -398,7 +400,19 @@ export async function ownBid(actor: SessionUser, id: string, revision?: number):
 		listOwnRevisions(db(), event.id, actor.organisationId),
 		listUploads(db(), event.id, actor.organisationId)
 	]);
-	return { current: current[0] ?? null, revisions, uploads, uploadCount: uploads[0]?.uploads_in_all ?? 0 };
+	const latest = current[0] ?? null;
+	const priced =
+		latest?.source === 'withdrawal' ? revisions.find((r) => r.source !== 'withdrawal')?.number : undefined;
+	const lastPriced =
+		priced === undefined
+			? null
+			: ((
+					await visibleBids(db(), event.id, actor.organisationId, now(), {
+						supplierOrganisationId: actor.organisationId,
+						revision: priced
+					})
+				)[0] ?? null);
+	return { current: latest, lastPriced, revisions, uploads, uploadCount: uploads[0]?.uploads_in_all ?? 0 };
 }
 
 /** Who submitted and when, for the buying organisation's staff; never prices, never files. */

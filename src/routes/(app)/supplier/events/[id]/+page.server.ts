@@ -28,6 +28,7 @@ export const load: PageServerLoad = async (event) => {
 			// The columns a supplier types, after the item columns of the sheet.
 			priceColumns: priceColumns(sheet).slice(5),
 			current: own.current ? bidJson(own.current) : null,
+			lastPriced: own.lastPriced ? bidJson(own.lastPriced) : null,
 			revisions: own.revisions.map((r) => ({
 				number: r.number,
 				source: r.source,
