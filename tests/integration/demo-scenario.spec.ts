@@ -1,55 +1,25 @@
-import { spawnSync } from 'node:child_process';
 import ExcelJS from 'exceljs';
 import knex, { type Knex } from 'knex';
-import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { formatMoney } from '../../src/lib/format';
-import { databaseAdminUrl, databaseOwnerUrl, databaseUrl } from '../support/env';
+import { scratchDatabase } from '../support/scratch-database';
 import { pdfText } from '../support/pdf';
 
 // The demo scenario as `npm start` loads it (seeds/), in a scratch database: loaded twice, it holds each
 // thing once; and the award report of its awarded event's approved run carries that run's figures. The
 // other tests never rely on the demo; this one runs the seeds as `npm run db:seed` does, with tsx, and
 // then reads the report in this process, through the app's services pointed at the scratch database.
-const scratchName = `tenderloom_demo_${process.pid}`;
-const scratch = (base: string) => {
-	const url = new URL(base);
-	url.pathname = `/${scratchName}`;
-	return url.toString();
-};
-const ownerRole = () => new URL(databaseOwnerUrl()).username;
-
-async function admin(sql: string) {
-	const client = new pg.Client({ connectionString: databaseAdminUrl() });
-	await client.connect();
-	try {
-		await client.query(sql);
-	} finally {
-		await client.end();
-	}
-}
-
-function dbScript(command: string) {
-	const result = spawnSync(process.execPath, ['--import', 'tsx', 'docker-free-fakes/db.ts', command], {
-		env: {
-			...process.env,
-			MIGRATION_DATABASE_URL: scratch(databaseOwnerUrl()),
-			DATABASE_URL: scratch(databaseUrl())
-		},
-		encoding: 'utf8'
-	});
-	expect(result.status, result.stderr).toBe(0);
-	return result.stdout;
-}
+const scratch = scratchDatabase(`tenderloom_demo_${process.pid}`);
+const dbScript = (command: string) => scratch.script(command, { app: true });
 
 let db: Knex;
 const testDatabaseUrl = process.env.DATABASE_URL;
 
 beforeAll(async () => {
-	await admin(`drop database if exists ${scratchName}`);
-	await admin(`create database ${scratchName} owner ${ownerRole()}`);
+	await scratch.drop();
+	await scratch.create();
 	dbScript('migrate');
-	db = knex({ client: 'pg', connection: scratch(databaseOwnerUrl()), pool: { min: 0, max: 2 } });
+	db = knex({ client: 'pg', connection: scratch.url(), pool: { min: 0, max: 2 } });
 }, 60_000);
 
 afterAll(async () => {
@@ -57,7 +27,7 @@ afterAll(async () => {
 	await closeDb();
 	process.env.DATABASE_URL = testDatabaseUrl;
 	await db?.destroy();
-	await admin(`drop database if exists ${scratchName}`);
+	await scratch.drop();
 });
 
 const count = async (table: string) => Number((await db(table).count({ n: '*' }).first())?.n);
@@ -137,7 +107,7 @@ describe('the demo scenario', () => {
 			};
 			// The app's services read DATABASE_URL once, at their first query: point them at the scratch
 			// database, as the app's role (this file runs in a process of its own).
-			process.env.DATABASE_URL = scratch(databaseUrl());
+			process.env.DATABASE_URL = scratch.appUrl();
 			report = await import('../../src/lib/server/reports/award-report');
 		});
 

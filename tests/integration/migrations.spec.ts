@@ -1,44 +1,19 @@
-import { spawnSync } from 'node:child_process';
 import knex from 'knex';
-import pg from 'pg';
 import { afterAll, describe, expect, it } from 'vitest';
-import { databaseAdminUrl, databaseOwnerUrl, databaseUrl } from '../support/env';
+import { databaseUrl } from '../support/env';
+import { scratchDatabase } from '../support/scratch-database';
 
-// Migrations are TypeScript, which Node inside vitest cannot import: run them as `npm run db:*` does, with tsx.
 // The scratch database is made by the cluster's superuser for the owner, who migrates it, as in `npm start`.
-const scratchName = `tenderloom_migrations_${process.pid}`;
-const scratchUrl = () => {
-	const url = new URL(databaseOwnerUrl());
-	url.pathname = `/${scratchName}`;
-	return url.toString();
-};
-const ownerRole = () => new URL(databaseOwnerUrl()).username;
+const scratch = scratchDatabase(`tenderloom_migrations_${process.pid}`);
+const scratchUrl = () => scratch.url();
 const appRole = () => new URL(databaseUrl()).username;
+const dbScript = (command: string) => scratch.script(command);
 
-async function admin(sql: string) {
-	const client = new pg.Client({ connectionString: databaseAdminUrl() });
-	await client.connect();
-	try {
-		await client.query(sql);
-	} finally {
-		await client.end();
-	}
-}
-
-function dbScript(command: string) {
-	const result = spawnSync(process.execPath, ['--import', 'tsx', 'docker-free-fakes/db.ts', command], {
-		env: { ...process.env, MIGRATION_DATABASE_URL: scratchUrl() },
-		encoding: 'utf8'
-	});
-	expect(result.status, result.stderr).toBe(0);
-	return result.stdout;
-}
-
-afterAll(() => admin(`drop database if exists ${scratchName}`));
+afterAll(() => scratch.drop());
 
 describe('migrations', () => {
 	it('run up, all the way down, and up again on an empty database', async () => {
-		await admin(`create database ${scratchName} owner ${ownerRole()}`);
+		await scratch.create();
 		const db = knex({ client: 'pg', connection: scratchUrl() });
 		const tables = async () =>
 			(
@@ -62,8 +37,8 @@ describe('migrations', () => {
 	});
 
 	it("give the app's role the product's tables and pg-boss's, but only INSERT and SELECT on the trail", async () => {
-		await admin(`drop database if exists ${scratchName}`);
-		await admin(`create database ${scratchName} owner ${ownerRole()}`);
+		await scratch.drop();
+		await scratch.create();
 		dbScript('migrate');
 		const db = knex({ client: 'pg', connection: scratchUrl() });
 		const can = async (table: string, privilege: string) =>
