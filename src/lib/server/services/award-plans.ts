@@ -3,6 +3,7 @@
 // 20261204010000 made it for the events opened before), so listing plans only reads. A changed plan sends
 // an event awaiting sign-off back to evaluation.
 import { ruleSchema, type AwardRule } from '$lib/award/core/problem';
+import { namesById, rulesBySupplierId, suppliersNamed, type InvitedSupplier } from '$lib/plan-suppliers';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';
@@ -63,16 +64,18 @@ export function checkRules(
 }
 
 /**
- * What a plan's rules name that the event does not have: an item, a lot, an invited supplier or a tag of
- * one; each problem names the rule by its number as the plan lists it (from 1).
+ * What a plan's rules name that the event does not have: an item, a lot, an invited supplier (by
+ * organisation id or exact name) or a tag of one; each problem names the rule by its number as the plan
+ * lists it (from 1). Given none, the rules as stored: suppliers by organisation id.
  */
-export function unknownReferences(
+export function checkReferences(
 	rules: readonly AwardRule[],
 	event: { items: readonly { ref: string; lot_ref: string | null }[]; invitations: readonly InvitationRow[] }
-): string[] {
+): { ok: true; rules: AwardRule[] } | { ok: false; problems: string[] } {
 	const items = new Set(event.items.map((i) => i.ref));
 	const lots = new Set(event.items.flatMap((i) => (i.lot_ref ? [i.lot_ref] : [])));
-	const suppliers = new Set(event.invitations.map((i) => i.supplier_name));
+	const bySupplierId = rulesBySupplierId(rules, invitedSuppliers(event.invitations));
+	const supplierProblems = bySupplierId.ok ? [] : bySupplierId.problems;
 	const tags = new Set(event.invitations.flatMap((i) => i.tags));
 	const problems: string[] = [];
 	rules.forEach((rule, k) => {
@@ -84,13 +87,23 @@ export function unknownReferences(
 				problems.push(`${at} (scope.lot): this event has no lot “${rule.scope.lot}”`);
 		}
 		if ('who' in rule && typeof rule.who === 'object') {
-			if ('supplier' in rule.who && !suppliers.has(rule.who.supplier))
-				problems.push(`${at} (who.supplier): “${rule.who.supplier}” is not invited to this event`);
+			if ('supplier' in rule.who) problems.push(...supplierProblems.filter((p) => p.startsWith(`${at} (`)));
 			if ('tag' in rule.who && !tags.has(rule.who.tag))
 				problems.push(`${at} (who.tag): no invited supplier has the tag “${rule.who.tag}”`);
 		}
 	});
-	return problems;
+	return problems.length || !bySupplierId.ok
+		? { ok: false, problems }
+		: { ok: true, rules: bySupplierId.rules };
+}
+
+export const invitedSuppliers = (invitations: readonly InvitationRow[]): InvitedSupplier[] =>
+	invitations.map((i) => ({ id: i.supplier_organisation_id, name: i.supplier_name }));
+
+/** The event's invited suppliers, by name: what a plan's rules may name (by id), and how they read. */
+export async function planSuppliers(user: SessionUser, eventId: string): Promise<InvitedSupplier[]> {
+	await staffEvent(user, eventId);
+	return invitedSuppliers(await listInvitations(db(), eventId));
 }
 
 /** Sends an event awaiting sign-off back to evaluation, superseding the pending sign-off. */
@@ -122,26 +135,32 @@ export async function savePlan(
 		if (['awarded', 'cancelled'].includes(event.state))
 			throw new RuleViolation('The event is awarded: its plans are final.', undefined, 409);
 		const [items, invitations] = await Promise.all([listItems(trx, eventId), listInvitations(trx, eventId)]);
-		const unknown = unknownReferences(plan.rules, { items, invitations });
-		if (unknown.length) throw new RuleViolation(unknown.join('; '), 'rules', 422);
+		const checked = checkReferences(plan.rules, { items, invitations });
+		if (!checked.ok) throw new RuleViolation(checked.problems.join('; '), 'rules', 422);
+		const rules = checked.rules;
 		let row: PlanRow;
 		if (plan.id) {
 			const existing = await awards.findEventPlan(trx, eventId, plan.id);
 			if (!existing) throw new RuleViolation('There is no such plan in this event.', undefined, 404);
 			if (existing.lowest_cost)
 				throw new RuleViolation('The lowest-cost plan has no rules by definition.', undefined, 409);
-			row = await awards.updatePlan(trx, plan.id, plan);
+			row = await awards.updatePlan(trx, plan.id, { name: plan.name, rules });
 			await backToEvaluation(trx, event, user, `plan “${plan.name}” changed`);
 		} else {
 			if (await awards.findPlanByName(trx, eventId, plan.name))
 				throw new RuleViolation(`A plan named “${plan.name}” exists already.`, 'name', 409);
-			row = await awards.insertPlan(trx, { eventId, name: plan.name, rules: plan.rules, createdBy: user.id });
+			row = await awards.insertPlan(trx, { eventId, name: plan.name, rules, createdBy: user.id });
 		}
 		await appendTrail(trx, {
 			eventId,
 			actor: user,
 			action: plan.id ? 'plan changed' : 'plan created',
-			detail: { plan: row.id, name: plan.name, rules: plan.rules }
+			detail: {
+				plan: row.id,
+				name: plan.name,
+				rules,
+				suppliers: suppliersNamed(rules, namesById(invitedSuppliers(invitations)))
+			}
 		});
 		return row;
 	});

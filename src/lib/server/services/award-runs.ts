@@ -2,6 +2,7 @@
 // the plan's rules into an award problem, stores it with its SHA-256 and queues its solve (pg-boss queue
 // "award-run", sent in the same transaction as the run row: a run is queued with its job or not at all).
 import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
+import { namesById, rulesBySupplierName } from '$lib/plan-suppliers';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';
@@ -19,7 +20,7 @@ import { db, type Db } from '../db/knex';
 import type { ManualChange, RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
-import { buyerOnly, staffEvent } from './award-plans';
+import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
 import { RuleViolation } from './errors';
 import { effectiveState } from './events';
 
@@ -38,7 +39,7 @@ const round = (n: number) => Math.round(n * 1e6) / 1e6;
 /**
  * The event's bids (withdrawn ones left out) at landed cost: each unit price, price break and bundle
  * carries the item's freight and duty adders (landed = price + freight + duty per unit); suppliers carry
- * the buyer's tags of their invitation; the plan's rules come as they are.
+ * the buyer's tags of their invitation; the rules come as they are, suppliers named as in the refs.
  */
 export function snapshotProblem(
 	event: Pick<EventRow, 'currency'>,
@@ -132,7 +133,11 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 		visibleBids(db(), event.id, event.organisation_id, now()),
 		listInvitations(db(), event.id)
 	]);
-	const problem = snapshotProblem(event, { items, bids, invitations }, plan.rules);
+	// The plan names suppliers by organisation id, the engine by name (snapshotProblem's refs).
+	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
+	if (!named.ok)
+		throw new RuleViolation(`The plan does not fit the bids: ${named.problems.join('; ')}`, undefined, 422);
+	const problem = snapshotProblem(event, { items, bids, invitations }, named.rules);
 	const parsed = parseProblem(problem);
 	if (!parsed.ok)
 		throw new RuleViolation(

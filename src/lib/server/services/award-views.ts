@@ -3,6 +3,7 @@
 import { ruleCostsAsStored } from '$lib/award/core/explanations/rule-costs';
 import { ALLOCATION_PAGE_LINES } from '$lib/paging';
 import { describeRule } from '$lib/award/core/describe';
+import { ruleForReading, suppliersNamed } from '$lib/plan-suppliers';
 import type { AwardResult } from '$lib/award/core/engine';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -16,13 +17,15 @@ import { STALE_SECONDS } from './run-execution';
 
 type AwardLine = AwardResult['awards'][number];
 
-export function planJson(plan: PlanRow, currency: string) {
+/** `names`: the invited suppliers' names by organisation id; rules are stored with the ids. */
+export function planJson(plan: PlanRow, currency: string, names: ReadonlyMap<string, string>) {
 	return {
 		id: plan.id,
 		name: plan.name,
 		lowestCost: plan.lowest_cost,
 		rules: plan.rules,
-		preview: plan.rules.map((r) => r.label ?? describeRule(r, currency)),
+		suppliers: suppliersNamed(plan.rules, names),
+		preview: plan.rules.map((r) => r.label ?? describeRule(ruleForReading(r, names), currency)),
 		updatedAt: plan.updated_at.toISOString()
 	};
 }

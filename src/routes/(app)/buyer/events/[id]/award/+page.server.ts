@@ -1,11 +1,12 @@
 import { fail } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
+import { namesById } from '$lib/plan-suppliers';
 import { planFormSchema } from '$lib/schemas/events';
 import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail, orFieldError } from '$lib/server/route-errors';
-import { checkRules, listPlans, savePlan } from '$lib/server/services/award-plans';
+import { checkRules, listPlans, planSuppliers, savePlan } from '$lib/server/services/award-plans';
 import { cancelRun, listRuns, startRun } from '$lib/server/services/award-runs';
 import { planJson, runSummary } from '$lib/server/services/award-views';
 import { planRefs } from '$lib/server/services/event-views';
@@ -16,18 +17,21 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
 	const row = await orErrorPage(event, () => buyerEvent(user, event.params.id));
-	const [plans, runs, refs] = await Promise.all([
+	const [plans, runs, refs, suppliers] = await Promise.all([
 		listPlans(user, row.id),
 		listRuns(user, row.id),
-		planRefs(user, row.id)
+		planRefs(user, row.id),
+		planSuppliers(user, row.id)
 	]);
 	const cautions: CautionKey[] = ['decisionSupport', 'lateRuleChange'];
+	const names = namesById(suppliers);
 	return {
 		cautions,
 		planForm: await superValidate(zod4(planFormSchema), { id: 'plan' }),
-		plans: plans.map((p) => planJson(p, row.currency)),
+		plans: plans.map((p) => planJson(p, row.currency, names)),
 		runs: runs.map(runSummary),
-		refs
+		refs,
+		suppliers
 	};
 };
 
