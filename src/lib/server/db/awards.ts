@@ -368,6 +368,62 @@ export function listDecidedBy(
 		);
 }
 
+/** A run as a list shows it: its outcome and total, read in the database, never its allocation. */
+export interface RunOutlineRow {
+	id: string;
+	event_id: string;
+	number: number;
+	plan_name: string;
+	status: RunRow['status'];
+	/** The engine's status of a finished run (optimal, infeasible…); null before it ends. */
+	outcome: string | null;
+	total_cost: number | null;
+}
+
+/** The runs of some events, each event's newest first (the auditor's home). */
+export function listRunOutlines(db: Db, eventIds: string[]): Promise<RunOutlineRow[]> {
+	return db('award_runs')
+		.whereIn('event_id', eventIds)
+		.orderBy([{ column: 'event_id' }, { column: 'number', order: 'desc' }])
+		.select(
+			'id',
+			'event_id',
+			'number',
+			'plan_name',
+			'status',
+			db.raw(`case when status = 'done' then result->>'status' end as outcome`),
+			db.raw(`case when status = 'done' then (result->>'totalCost')::float8 end as total_cost`)
+		);
+}
+
+export interface EventSignoffRow extends Pick<
+	SignoffRow,
+	'run_id' | 'event_id' | 'submitted_at' | 'bound_hash' | 'decision' | 'decided_at' | 'superseded_at'
+> {
+	submitted_by_name: string;
+	decided_by_name: string | null;
+}
+
+/** Every sign-off of some events, superseded ones too, oldest first, with the people's names. */
+export function listEventSignoffs(db: Db, eventIds: string[]): Promise<EventSignoffRow[]> {
+	return db('signoffs as s')
+		.join('users as submitter', 'submitter.id', 's.submitted_by')
+		.leftJoin('users as decider', 'decider.id', 's.decided_by')
+		.whereIn('s.event_id', eventIds)
+		.orderBy('s.submitted_at')
+		.select(
+			's.run_id',
+			's.event_id',
+			's.submitted_at',
+			's.bound_hash',
+			's.decision',
+			's.decided_at',
+			's.superseded_at',
+			db.raw('coalesce(submitter.name, submitter.email) as submitted_by_name'),
+			db.raw('coalesce(decider.name, decider.email) as decided_by_name')
+		);
+}
+
 // Notices
 
 export function insertNotices(

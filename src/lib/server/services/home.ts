@@ -1,11 +1,12 @@
 // What each role's home page lists: the work waiting for the person signed in, with the next step.
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
-import { listDecidedBy } from '../db/awards';
+import { listDecidedBy, listEventSignoffs, listRunOutlines, type EventSignoffRow } from '../db/awards';
 import { latestOwnRevisions } from '../db/bids';
-import { listInvitedEvents, listOrganisationEvents } from '../db/events';
+import { listInvitedEvents, listOrganisationEvents, type EventRow } from '../db/events';
 import { db } from '../db/knex';
-import { effectiveState } from './events';
+import { RuleViolation } from './errors';
+import { closeIfDue, effectiveState, isPastDeadline } from './events';
 
 export interface SupplierHomeEvent {
 	id: string;
@@ -117,4 +118,127 @@ export async function approverHistory(user: SessionUser) {
 		decidedAt: r.decided_at.toISOString(),
 		timeZone: r.time_zone
 	}));
+}
+
+export interface AuditHomeSignoff {
+	submittedBy: string;
+	submittedAt: string;
+	/** null while it awaits a decision. */
+	decision: 'approve' | 'return' | null;
+	decidedBy: string | null;
+	decidedAt: string | null;
+	/** What the approval is bound to: SHA-256 over the run's problem and result hashes. */
+	boundHash: string;
+}
+
+export interface AuditHomeRun {
+	id: string;
+	number: number;
+	plan: string;
+	status: string;
+	outcome: string | null;
+	totalCost: number | null;
+	/** The run's current sign-off (superseded ones are in the trail), or null if never submitted. */
+	signoff: AuditHomeSignoff | null;
+	/** Whether the award report is made for it: awaiting sign-off or approved (as awardReport checks). */
+	hasReport: boolean;
+}
+
+export interface AuditHomeEvent {
+	id: string;
+	reference: string;
+	title: string;
+	state: string;
+	deadline: string;
+	timeZone: string;
+}
+
+export interface AuditClosedEvent extends AuditHomeEvent {
+	currency: string;
+	/** The opening record: suppliers with a bid and their revisions; null if the bids were never opened. */
+	opened: { at: string; suppliers: number; revisions: number } | null;
+	runs: AuditHomeRun[];
+	approved: { runNumber: number; plan: string; by: string; at: string; boundHash: string } | null;
+}
+
+/**
+ * An auditor's work: the organisation's events past their deadline (newest deadline first) with the
+ * opening, the runs and the sign-off; events before their deadline only by name, state and deadline,
+ * since nothing derived from a bid may be shown before the opening. Drafts are not published: left out.
+ */
+export async function auditorHome(
+	user: SessionUser
+): Promise<{ closed: AuditClosedEvent[]; sealed: AuditHomeEvent[] }> {
+	if (!['auditor', 'buyer', 'approver'].includes(user.role))
+		throw new RuleViolation('The audit view is for auditors.', undefined, 403);
+	const at = now();
+	const events = (await listOrganisationEvents(db(), user.organisationId)).filter((e) => e.state !== 'draft');
+	const base = (e: EventRow): AuditHomeEvent => ({
+		id: e.id,
+		reference: e.reference,
+		title: e.title,
+		state: effectiveState(e, at),
+		deadline: e.deadline.toISOString(),
+		timeZone: e.time_zone
+	});
+	const sealed = events
+		.filter((e) => !isPastDeadline(e, at))
+		.map(base)
+		.sort((a, b) => a.deadline.localeCompare(b.deadline));
+	const past: EventRow[] = [];
+	for (const e of events.filter((e) => isPastDeadline(e, at)))
+		// The first read after the deadline opens the bids, as eventFor does, so the opening record is there.
+		past.push(e.state === 'open' ? ((await closeIfDue(e.id, 'first read after the deadline')) ?? e) : e);
+	const ids = past.map((e) => e.id);
+	const [runs, signoffs] = ids.length
+		? await Promise.all([listRunOutlines(db(), ids), listEventSignoffs(db(), ids)])
+		: [[], []];
+	const current = new Map<string, EventSignoffRow>();
+	for (const s of signoffs) if (!s.superseded_at) current.set(s.run_id, s);
+	const closed = past.map((e): AuditClosedEvent => {
+		const eventRuns = runs
+			.filter((r) => r.event_id === e.id)
+			.map((r): AuditHomeRun => {
+				const s = current.get(r.id);
+				return {
+					id: r.id,
+					number: r.number,
+					plan: r.plan_name,
+					status: r.status,
+					outcome: r.outcome,
+					totalCost: r.total_cost,
+					signoff: s
+						? {
+								submittedBy: s.submitted_by_name,
+								submittedAt: s.submitted_at.toISOString(),
+								decision: s.decision,
+								decidedBy: s.decided_by_name,
+								decidedAt: s.decided_at?.toISOString() ?? null,
+								boundHash: s.bound_hash.trim()
+							}
+						: null,
+					hasReport: Boolean(s && s.decision !== 'return')
+				};
+			});
+		const approvedRun = eventRuns.find((r) => r.signoff?.decision === 'approve');
+		const record = e.opened_at ? e.opening_record : null;
+		return {
+			...base(e),
+			currency: e.currency,
+			opened: record ? { at: record.at, suppliers: record.suppliers, revisions: record.revisions } : null,
+			runs: eventRuns,
+			approved:
+				approvedRun && approvedRun.signoff
+					? {
+							runNumber: approvedRun.number,
+							plan: approvedRun.plan,
+							by: approvedRun.signoff.decidedBy ?? '',
+							at: approvedRun.signoff.decidedAt ?? '',
+							boundHash: approvedRun.signoff.boundHash
+						}
+					: null
+		};
+	});
+	closed.sort((a, b) => b.deadline.localeCompare(a.deadline));
+	return { closed, sealed };
 }

@@ -1,0 +1,173 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { formatMoney } from '../../src/lib/format';
+import type { Browserless } from '../support/http';
+import {
+	anOrganisation,
+	closeTestDb,
+	testDb,
+	theBuyingOrganisation,
+	unique,
+	type TestUser
+} from '../support/factories';
+import {
+	aSignedInUser,
+	aSupplierOrganisationWithUser,
+	anOpenEvent,
+	fillSheet,
+	signedIn,
+	untilPast,
+	uploadSheet,
+	type TestEvent
+} from '../support/events';
+import { finished, post } from '../support/runs';
+
+afterAll(closeTestDb);
+
+/** A page's text as a reader gets it: no rendering markers, each tag a space (table cells), white space collapsed. */
+const textOf = (html: string) =>
+	html
+		.replace(/<!--[\s\S]*?-->/g, '')
+		.replace(/<[^>]+>/g, ' ')
+		.replace(/\s+/g, ' ');
+const hrefsOf = (html: string) =>
+	[...html.matchAll(/href="([^"]+)"/g)].map((m) => m[1]!.replace(/&amp;/g, '&'));
+const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
+
+type Staff = { user: TestUser; client: Browserless };
+let buyer: Staff;
+let approver: Staff;
+let auditor: Staff;
+let closed: TestEvent;
+let sealed: TestEvent;
+let elsewhere: TestEvent;
+let lowestRun: { id: string; totalCost: number };
+let approvedRun: { id: string; totalCost: number };
+
+// The auditor's home listed every event with a link to its trail and nothing else: not the opening, the
+// runs, the sign-off or the files an auditor reads. Its own buying organisation keeps the page to this test.
+beforeAll(async () => {
+	// The tests' shared buying organisation is the oldest: made first, it is never this test's own.
+	const shared = await theBuyingOrganisation();
+	const organisation = await anOrganisation('buyer');
+	const staff = { organisationId: organisation.id };
+	[buyer, approver, auditor] = await Promise.all([
+		aSignedInUser('buyer', staff),
+		aSignedInUser('approver', staff),
+		aSignedInUser('auditor', staff)
+	]);
+	approver.user.name = unique('Approver');
+	await testDb()('users').where({ id: approver.user.id }).update({ name: approver.user.name });
+	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
+	const invite = bidders.map((b) => b.organisation.id);
+	const deadline = new Date(Date.now() + 10_000);
+	[closed, sealed, elsewhere] = await Promise.all([
+		anOpenEvent({ createdBy: buyer.user.id, invite, deadline, organisationId: organisation.id }),
+		anOpenEvent({ createdBy: buyer.user.id, invite, organisationId: organisation.id }),
+		// Another buying organisation's event, past its deadline too.
+		anOpenEvent({ createdBy: buyer.user.id, invite, deadline, organisationId: shared.id })
+	]);
+	for (const [k, bidder] of bidders.entries()) {
+		const client = await signedIn(bidder.user);
+		for (const event of [closed, sealed]) {
+			const sheet = Buffer.from(await (await client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
+			const filled = await fillSheet(sheet, { 'IT-1': [4 + k], 'IT-2': [5 - k], 'IT-3': [6] });
+			expect((await uploadSheet(client, event.id, filled)).status).toBe(201);
+		}
+	}
+	await untilPast(deadline);
+
+	const plans = (await json(await buyer.client.get(`/api/events/${closed.id}/plans`, 'application/json')))
+		.plans as { id: string; lowestCost: boolean }[];
+	const dual = (
+		await json(
+			await post(buyer.client, `/api/events/${closed.id}/plans`, {
+				name: 'Dual sourcing',
+				rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]
+			})
+		)
+	).plan as { id: string };
+	const run = async (planId: string) => {
+		const started = await json(await post(buyer.client, `/api/plans/${planId}/runs`, {}));
+		const done = (await finished(buyer.client, started.runId as string)) as {
+			id: string;
+			result: { totalCost: number };
+		};
+		return { id: done.id, totalCost: done.result.totalCost };
+	};
+	lowestRun = await run(plans.find((p) => p.lowestCost)!.id);
+	approvedRun = await run(dual.id);
+	const justification = 'Two suppliers on every item keep supply safe.';
+	expect((await post(buyer.client, `/api/runs/${approvedRun.id}/submit`, { justification })).status).toBe(
+		200
+	);
+	const decided = await post(approver.client, `/api/runs/${approvedRun.id}/decision`, {
+		decision: 'approve',
+		comment: 'Agreed.'
+	});
+	expect(decided.status).toBe(200);
+}, 120_000);
+
+describe('the auditor’s home', () => {
+	it('lists a closed event with its opening, its runs, the approval and its files', async () => {
+		const html = await (await auditor.client.get('/audit')).text();
+		const page = textOf(html);
+		const from = page.indexOf(closed.reference);
+		expect(from).toBeGreaterThan(-1);
+		const section = page.slice(from, page.indexOf('Before the deadline'));
+		expect(section).toContain('Awarded');
+		expect(section).toMatch(/Deadline \d{4}-\d{2}-\d{2} \d{2}:\d{2} \(Europe\/Berlin\)/);
+		expect(section).toContain('Bids opened 2 bids (2 revisions)');
+		expect(section).toContain(`Approved Run 2 (Dual sourcing) by ${approver.user.name}`);
+		expect(section).toContain(
+			`Run 1 Lowest cost (no rules) Done (best possible) ${formatMoney(lowestRun.totalCost, 'EUR')} Not submitted`
+		);
+		expect(section).toContain(`Run 2 Dual sourcing Done (`);
+		expect(section).toContain(formatMoney(approvedRun.totalCost, 'EUR'));
+		expect(section).toContain(`Approved by ${approver.user.name}`);
+
+		const links = hrefsOf(html);
+		expect(links).toEqual(
+			expect.arrayContaining([
+				`/events/${closed.id}/trail`,
+				`/api/events/${closed.id}/tabulation?format=xlsx`,
+				`/api/runs/${lowestRun.id}/export`,
+				`/api/runs/${approvedRun.id}/export`,
+				`/api/runs/${approvedRun.id}/report?format=pdf`
+			])
+		);
+		// The report is made only for a run submitted for sign-off.
+		expect(links).not.toContain(`/api/runs/${lowestRun.id}/report?format=pdf`);
+	});
+
+	it('links only to what the auditor may read', async () => {
+		const html = await (await auditor.client.get('/audit')).text();
+		const links = hrefsOf(html).filter((href) => href.startsWith('/events/') || href.startsWith('/api/'));
+		expect(links.length).toBeGreaterThanOrEqual(6);
+		for (const href of links) expect([href, (await auditor.client.get(href)).status]).toEqual([href, 200]);
+	});
+
+	it('shows an event still open for bids by name, state and deadline only', async () => {
+		const html = await (await auditor.client.get('/audit')).text();
+		const page = textOf(html);
+		const from = page.indexOf(sealed.reference);
+		expect(from).toBeGreaterThan(page.indexOf('Before the deadline'));
+		const row = page.slice(from, from + 120);
+		expect(row).toMatch(/Open for bids \d{4}-\d{2}-\d{2} \d{2}:\d{2} \(Europe\/Berlin\)/);
+		expect(row).not.toMatch(/\bbids? opened|revision|\b2 bids/i);
+		expect(hrefsOf(html).some((href) => href.includes(sealed.id))).toBe(false);
+	});
+
+	it('leaves out another organisation’s events', async () => {
+		const html = await (await auditor.client.get('/audit')).text();
+		expect(html).not.toContain(elsewhere.reference);
+		expect(html).not.toContain(elsewhere.id);
+	});
+
+	it('says what will appear, and when, to an auditor of an organisation without events', async () => {
+		const organisation = await anOrganisation('buyer');
+		const { client } = await aSignedInUser('auditor', { organisationId: organisation.id });
+		const page = textOf(await (await client.get('/audit')).text());
+		expect(page).toContain(`No event of ${organisation.name} has been published yet.`);
+		expect(page).toContain('after the deadline with the bids opened, the award runs');
+	});
+});
