@@ -105,12 +105,14 @@ describe('the four journeys, in a browser', () => {
 			'No supplier gets more than 70% of any item'
 		);
 		await expectAccessible('run page');
+		await page.getByText('Submit for sign-off…').click();
 		await page
 			.getByLabel('Justification', { exact: true })
 			.fill('Dual sourcing at 70% keeps a second supplier on every item.');
-		await page.getByRole('button', { name: 'Submit for sign-off' }).click();
+		await page.getByRole('button', { name: 'Yes, submit for sign-off' }).click();
+		// The result sits beside the sign-off form that caused it (a status, read out), not at the page's top.
 		await expect
-			.poll(() => page.getByRole('status').first().textContent())
+			.poll(() => page.getByRole('region', { name: 'Sign-off' }).getByRole('status').textContent())
 			.toContain('Submitted for sign-off');
 		await expect.poll(() => page.getByRole('link', { name: 'Award report (PDF)' }).count()).toBe(1);
 

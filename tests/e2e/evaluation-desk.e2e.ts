@@ -133,8 +133,9 @@ describe('the evaluation desk, in a browser', () => {
 
 		// Submitted, then the award report downloaded.
 		await page.goto(adjusted);
+		await page.getByText('Submit for sign-off…').click();
 		await page.getByLabel('Justification').fill('Keeps approved tooling and a second source at 152.00 more.');
-		await page.getByRole('button', { name: 'Submit for sign-off' }).click();
+		await page.getByRole('button', { name: 'Yes, submit for sign-off' }).click();
 		await expect
 			.poll(() => page.getByRole('link', { name: 'Award report (PDF)' }).count(), { timeout: 20_000 })
 			.toBe(1);

@@ -2,7 +2,8 @@
 // names or the number of other invited suppliers.
 import { isStaff } from '$lib/roles';
 import type { SessionUser } from '../auth/session-user';
-import type { VisibleBid } from '../db/bids';
+import { listEventSignoffs, listRunOutlines } from '../db/awards';
+import { listSubmissions, type VisibleBid } from '../db/bids';
 import {
 	listAmendments,
 	listInvitations,
@@ -107,6 +108,49 @@ export async function eventHeader(user: SessionUser, id: string) {
 	const { event, view, canEdit } = await eventFor(user, id);
 	return { view, canEdit, event: eventJson(event) };
 }
+
+/**
+ * The figures at the top of an event's pages, for its buying organisation: items and lots, the
+ * baseline's total, who has bid out of who is invited (names and times only: nothing derived from a
+ * bid's contents, so it may show before the opening), and the cheapest finished run and the run awaiting
+ * or given sign-off. Staff only.
+ */
+export async function eventSummary(user: SessionUser, id: string) {
+	const { view } = await eventFor(user, id);
+	if (view !== 'staff')
+		throw new RuleViolation('The summary is for the buying organisation.', undefined, 403);
+	const [items, invitations, submissions, runs, signoffs] = await Promise.all([
+		listItems(db(), id),
+		listInvitations(db(), id),
+		listSubmissions(db(), id),
+		listRunOutlines(db(), [id]),
+		listEventSignoffs(db(), [id])
+	]);
+	const baselineKnown = items.length > 0 && items.every((i) => i.baseline_unit_price !== null);
+	const finished = runs.filter((r) => r.status === 'done' && r.total_cost !== null);
+	const cheapest = finished.reduce<(typeof finished)[number] | null>(
+		(best, r) => (best === null || r.total_cost! < best.total_cost! ? r : best),
+		null
+	);
+	const signoff = signoffs.filter((s) => !s.superseded_at && s.decision !== 'return').at(-1);
+	const signed = signoff ? runs.find((r) => r.id === signoff.run_id) : undefined;
+	return {
+		items: items.length,
+		lots: new Set(items.flatMap((i) => (i.lot_ref ? [i.lot_ref] : []))).size,
+		baselineTotal: baselineKnown
+			? items.reduce((sum, i) => sum + Number(i.quantity) * Number(i.baseline_unit_price), 0)
+			: null,
+		invited: invitations.length,
+		bidders: submissions.filter((s) => s.latest_source !== 'withdrawal').length,
+		runs: finished.length,
+		cheapestRun: cheapest ? { id: cheapest.id, number: cheapest.number, total: cheapest.total_cost! } : null,
+		signedRun:
+			signed && signed.total_cost !== null
+				? { id: signed.id, number: signed.number, total: signed.total_cost, decision: signoff!.decision }
+				: null
+	};
+}
+export type EventSummaryJson = Awaited<ReturnType<typeof eventSummary>>;
 
 export async function eventDetail(user: SessionUser, id: string) {
 	const { event, view, canEdit } = await eventFor(user, id);

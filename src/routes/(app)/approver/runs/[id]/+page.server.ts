@@ -35,9 +35,13 @@ export const actions: Actions = {
 			return fail(400, { error: 'Choose approve or return.' });
 		const comment = String(data.get('comment') ?? '').slice(0, 4000);
 		// Returning without a comment is refused by decide (422 on "comment").
-		return orFail(async () => {
-			await decide(user, event.params.id, decision, comment);
-			redirect(303, '/approver');
-		});
+		// The refusal names its field (comment) so the page shows it there; the comment comes back as typed.
+		return orFail(
+			async () => {
+				await decide(user, event.params.id, decision, comment);
+				redirect(303, '/approver');
+			},
+			(v) => ({ error: v.message, field: v.field ?? null, comment })
+		);
 	}
 };
