@@ -3,6 +3,7 @@
 // queues one notice per bidding supplier, with their jobs, in the same transaction.
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
+import { listRunSignoffs } from '../db/award-report';
 import * as awards from '../db/awards';
 import { lockEvent, setEventState, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
@@ -79,6 +80,49 @@ export async function submitRun(
 export async function pendingSignoff(user: SessionUser, eventId: string): Promise<SignoffRow | undefined> {
 	await staffEvent(user, eventId);
 	return awards.pendingSignoff(db(), eventId);
+}
+
+export interface RunSignoffRecord {
+	submittedBy: string;
+	submittedAt: string;
+	/** null on submissions made before a justification was asked for. */
+	justification: string | null;
+	/** What an approval is bound to: SHA-256 over the run's problem and result hashes. */
+	boundHash: string;
+	/** null while it awaits a decision (or once superseded undecided). */
+	decision: 'approve' | 'return' | null;
+	decidedBy: string | null;
+	decidedAt: string | null;
+	comment: string | null;
+	/** Set aside undecided, when the event went back to evaluation (a plan changed). */
+	superseded: { at: string; reason: string | null } | null;
+}
+
+/**
+ * Every sign-off of a run of the event (returned and superseded ones too), oldest first, with the
+ * people's names: for the event's buyers, approvers and auditors.
+ */
+export async function runSignoffs(
+	user: SessionUser,
+	eventId: string,
+	runId: string
+): Promise<RunSignoffRecord[]> {
+	await staffEvent(user, eventId);
+	if (!/^[0-9a-f-]{36}$/i.test(runId)) return [];
+	const rows = await listRunSignoffs(db(), runId);
+	return rows
+		.filter((s) => s.event_id === eventId)
+		.map((s) => ({
+			submittedBy: s.submitted_by_name ?? '',
+			submittedAt: s.submitted_at.toISOString(),
+			justification: s.justification,
+			boundHash: s.bound_hash.trim(),
+			decision: s.decision,
+			decidedBy: s.decided_by_name,
+			decidedAt: s.decided_at?.toISOString() ?? null,
+			comment: s.comment,
+			superseded: s.superseded_at ? { at: s.superseded_at.toISOString(), reason: s.superseded_reason } : null
+		}));
 }
 
 /**
