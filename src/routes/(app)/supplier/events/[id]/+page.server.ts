@@ -57,29 +57,40 @@ export const actions: Actions = {
 			entries = JSON.parse(String(data.get('entries') ?? '[]'));
 			if (!Array.isArray(entries)) throw new Error('not a list');
 		} catch {
-			return fail(400, { error: 'The price table could not be read.' });
+			return fail(400, { action: 'prices' as const, error: 'The price table could not be read.' });
 		}
 		const capacity = data.get('capacity');
-		return orFail(async () => {
-			const outcome = await submitScreen(
-				user,
-				event.params.id,
-				entries,
-				typeof capacity === 'string' ? capacity : null,
-				requestContext(event)
-			);
-			if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
-			return {
-				accepted: `Accepted as revision ${outcome.revision.number} at ${outcome.revision.submitted_at.toISOString()}.`
-			};
-		});
+		return orFail(
+			async () => {
+				const outcome = await submitScreen(
+					user,
+					event.params.id,
+					entries,
+					typeof capacity === 'string' ? capacity : null,
+					requestContext(event)
+				);
+				if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
+				return {
+					action: 'prices' as const,
+					accepted: `Accepted as revision ${outcome.revision.number}.`,
+					at: outcome.revision.submitted_at.toISOString()
+				};
+			},
+			(v) => ({ action: 'prices' as const, error: v.message })
+		);
 	},
 	withdraw: async (event) => {
 		const user = requireRole(event, 'supplier');
-		return orFail(async () => {
-			const revision = await withdraw(user, event.params.id, requestContext(event));
-			return { accepted: `Your bid is withdrawn (revision ${revision.number}).` };
-		});
+		return orFail(
+			async () => {
+				const revision = await withdraw(user, event.params.id, requestContext(event));
+				return {
+					action: 'withdraw' as const,
+					accepted: `Your bid is withdrawn (revision ${revision.number}).`
+				};
+			},
+			(v) => ({ action: 'withdraw' as const, error: v.message })
+		);
 	},
 	ask: async (event) => {
 		const user = requireRole(event, 'supplier');
