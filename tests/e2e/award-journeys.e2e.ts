@@ -93,7 +93,7 @@ describe('the four journeys, in a browser', () => {
 		await expect
 			.poll(() => page.getByTestId('runs').textContent(), { timeout: 30_000 })
 			.toContain('Done (best possible)');
-		await page.getByRole('link', { name: 'Run 1' }).click();
+		await page.getByRole('link', { name: 'Run 1', exact: true }).click();
 		await page.waitForURL(/\/award\/runs\//);
 		await expect.poll(() => page.getByTestId('allocation').textContent()).toContain(first.organisation.name);
 		// IT-1 (100 units): the first supplier at 4 is capped at 70; the rival gets 30.

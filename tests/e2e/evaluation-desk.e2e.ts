@@ -63,7 +63,7 @@ describe('the evaluation desk, in a browser', () => {
 		await expect
 			.poll(() => page.getByTestId('runs').textContent(), { timeout: 60_000 })
 			.toContain('Done (best possible)');
-		await page.getByRole('link', { name: 'Run 1' }).click();
+		await page.getByRole('link', { name: 'Run 1', exact: true }).click();
 		await page.waitForURL(/\/award\/runs\/[0-9a-f-]+$/);
 		const original = page.url();
 		await expectAccessible('the run page');

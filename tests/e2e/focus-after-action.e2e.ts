@@ -7,6 +7,7 @@ import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
 import { appUrl } from '../support/env';
+import type { Browserless } from '../support/http';
 import {
 	aSupplierOrganisationWithUser,
 	anOpenEvent,
@@ -39,17 +40,22 @@ beforeAll(async () => {
 	const deadline = new Date(Date.now() + 12_000);
 	event = await anOpenEvent({ createdBy: buyer.id, invite: bidders.map((b) => b.organisation.id), deadline });
 	openEvent = await anOpenEvent({ createdBy: buyer.id, invite: [bidders[0].organisation.id] });
+	// One client per supplier, kept: signing in again would read the newest mail to the address, which may
+	// be the receipt of the upload just made rather than the sign-in link.
+	const clients: Browserless[] = [];
 	for (const [k, prices] of [
 		[0, [4, 5, 6]],
 		[1, [4.2, 4.9, 6.5]]
 	] as const) {
-		const client = await signedIn(bidders[k].user);
+		const client = (clients[k] = await signedIn(bidders[k].user));
 		const blank = Buffer.from(await (await client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
 		const filled = await fillSheet(blank, { 'IT-1': [prices[0]], 'IT-2': [prices[1]], 'IT-3': [prices[2]] });
 		expect((await uploadSheet(client, event.id, filled)).status).toBe(201);
 	}
-	const client = await signedIn(supplier);
-	const blank = Buffer.from(await (await client.get(`/api/events/${openEvent.id}/bid-sheet`)).arrayBuffer());
+	const client = clients[0]!;
+	const blankSheet = await client.get(`/api/events/${openEvent.id}/bid-sheet`);
+	expect(blankSheet.status, await blankSheet.clone().text()).toBe(200);
+	const blank = Buffer.from(await blankSheet.arrayBuffer());
 	sheet = await fillSheet(blank, { 'IT-1': [3], 'IT-2': [4], 'IT-3': [5] });
 	await untilPast(deadline);
 	const api = await signedIn(buyer);
@@ -99,6 +105,15 @@ describe('the focus after an action', () => {
 		await press(page, page.getByRole('button', { name: 'Save the plan' }));
 		await page.getByRole('status').filter({ hasText: /saved/i }).waitFor();
 		expect(await focusAfter(page), 'after saving a plan').not.toBeNull();
+
+		// A run started from its plan: the answer sits under that plan and follows the run until it is done
+		// (it said "queued" for good before).
+		await press(page, page.getByRole('button', { name: /^Run the plan Lowest cost/ }));
+		const plans = page.getByTestId('plans');
+		await expect
+			.poll(() => plans.getByRole('status').textContent(), { timeout: 60_000 })
+			.toMatch(/Run 2: done \(/);
+		expect(await focusAfter(page), 'after starting a run').not.toBeNull();
 
 		await page.goto(`${appUrl()}/buyer/events/${event.id}/award/runs/${runs[0]}`);
 		await press(page, page.getByText('Submit for sign-off…'));

@@ -60,10 +60,14 @@ export const actions: Actions = {
 	run: async (event) => {
 		const user = requireRole(event, 'buyer');
 		const planId = String((await event.request.formData()).get('planId') ?? '');
-		return orFail(async () => {
-			const run = await startRun(user, planId, event.params.id);
-			return { ok: `Run ${run.number} started: its status is in the list of runs below.`, runId: run.id };
-		});
+		// The answer names the plan, so the page shows it under that plan's Run button.
+		return orFail(
+			async () => {
+				const run = await startRun(user, planId, event.params.id);
+				return { action: 'run' as const, planId, ok: `Run ${run.number} started.`, runId: run.id };
+			},
+			(v) => ({ action: 'run' as const, planId, error: v.message })
+		);
 	},
 	submit: async (event) => {
 		const user = requireRole(event, 'buyer');
@@ -78,9 +82,16 @@ export const actions: Actions = {
 	cancel: async (event) => {
 		const user = requireRole(event, 'buyer');
 		const runId = String((await event.request.formData()).get('runId') ?? '');
-		return orFail(async () => {
-			await cancelRun(user, runId, event.params.id);
-			return { ok: 'Cancelling the run.' };
-		});
+		return orFail(
+			async () => {
+				await cancelRun(user, runId, event.params.id);
+				return {
+					action: 'cancel' as const,
+					runId,
+					ok: 'Cancelling the run: its status below shows when it stops.'
+				};
+			},
+			(v) => ({ action: 'cancel' as const, runId, error: v.message })
+		);
 	}
 };
