@@ -40,8 +40,7 @@ beforeAll(async () => {
 	const deadline = new Date(Date.now() + 12_000);
 	event = await anOpenEvent({ createdBy: buyer.id, invite: bidders.map((b) => b.organisation.id), deadline });
 	openEvent = await anOpenEvent({ createdBy: buyer.id, invite: [bidders[0].organisation.id] });
-	// One client per supplier, kept: signing in again would read the newest mail to the address, which may
-	// be the receipt of the upload just made rather than the sign-in link.
+	// One signed-in client per supplier, kept for the set-up below.
 	const clients: Browserless[] = [];
 	for (const [k, prices] of [
 		[0, [4, 5, 6]],
@@ -144,6 +143,20 @@ describe('the focus after an action', () => {
 		await signInBySupplierLink(supplier.email);
 		await page.goto(`${appUrl()}/supplier/events/${openEvent.id}`);
 		await page.waitForLoadState('networkidle');
+		// A refused on-screen price: the focus goes to the list of problems (above the table, far from the
+		// button), which names the item and the column, and the cell is marked invalid.
+		const cell = page.getByRole('textbox', { name: /IT-1$/ }).first();
+		await cell.fill('12,07');
+		await press(page, page.getByRole('button', { name: 'Save the prices as a new revision' }));
+		const problems = page.getByTestId('problems');
+		await problems.waitFor();
+		expect(await page.evaluate(() => document.activeElement?.getAttribute('data-testid'))).toBe('problems');
+		expect(await problems.textContent()).toContain(
+			'IT-1 Test item 1, Unit price (EUR): "12,07" is not a number: write the decimal mark as a point (12.07)'
+		);
+		expect(await cell.getAttribute('aria-invalid')).toBe('true');
+		await cell.fill('');
+
 		await page.locator('input[type="file"]').setInputFiles({
 			name: 'bid.xlsx',
 			mimeType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',

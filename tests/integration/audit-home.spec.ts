@@ -20,17 +20,10 @@ import {
 	type TestEvent
 } from '../support/events';
 import { finished, post } from '../support/runs';
+import { hrefsOf, textOf } from '../support/html';
 
 afterAll(closeTestDb);
 
-/** A page's text as a reader gets it: no rendering markers, each tag a space (table cells), white space collapsed. */
-const textOf = (html: string) =>
-	html
-		.replace(/<!--[\s\S]*?-->/g, '')
-		.replace(/<[^>]+>/g, ' ')
-		.replace(/\s+/g, ' ');
-const hrefsOf = (html: string) =>
-	[...html.matchAll(/href="([^"]+)"/g)].map((m) => m[1]!.replace(/&amp;/g, '&'));
 const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
 
 type Staff = { user: TestUser; client: Browserless };

@@ -16,15 +16,9 @@ import {
 import { closeTestDb, testDb } from '../support/factories';
 import type { Browserless } from '../support/http';
 import { finished, post } from '../support/runs';
+import { textOf } from '../support/html';
 
 afterAll(closeTestDb);
-
-/** A page's text as a reader gets it: no rendering markers, each tag a space, white space collapsed. */
-const textOf = (html: string) =>
-	html
-		.replace(/<!--[\s\S]*?-->/g, '')
-		.replace(/<[^>]+>/g, ' ')
-		.replace(/\s+/g, ' ');
 
 let buyer: { client: Browserless; user: { id: number } };
 let bidders: Awaited<ReturnType<typeof aSupplierOrganisationWithUser>>[];

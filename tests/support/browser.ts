@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { expect } from 'vitest';
 import { appUrl, chromiumPath } from './env';
-import { latestMailTo, linkIn } from './mail';
+import { latestMailTo, linkIn, SIGN_IN_SUBJECT } from './mail';
 
 const require = createRequire(import.meta.url);
 
@@ -141,7 +141,7 @@ export function browserHelpers(current: () => OpenBrowser) {
 		await page.getByLabel('E-mail address').first().fill(email);
 		await page.getByRole('button', { name: 'Send the link' }).click();
 		await page.waitForURL(/\/signin\/check-email/);
-		const mail = await latestMailTo(email, { after: sentAfter });
+		const mail = await latestMailTo(email, { after: sentAfter, subject: SIGN_IN_SUBJECT });
 		await page.goto(linkIn(mail.text));
 		await page.waitForURL('**/supplier');
 	}

@@ -1,7 +1,7 @@
 // A tiny HTTP client with a cookie jar, talking to the built server the test run started.
 import { request as httpRequest } from 'node:http';
 import { appUrl } from './env';
-import { latestMailTo, linkIn } from './mail';
+import { latestMailTo, linkIn, SIGN_IN_SUBJECT } from './mail';
 
 export class Browserless {
 	private readonly cookies = new Map<string, string>();
@@ -85,7 +85,7 @@ export class Browserless {
 	async signInByEmailLink(email: string) {
 		const sentAfter = new Date();
 		await this.requestSignInLink(email);
-		const mail = await latestMailTo(email, { after: sentAfter });
+		const mail = await latestMailTo(email, { after: sentAfter, subject: SIGN_IN_SUBJECT });
 		return this.follow(await this.get(linkIn(mail.text)));
 	}
 

@@ -36,6 +36,12 @@ export async function latestMailTo(
 	throw new Error(`no mail reached ${address} in time`);
 }
 
+/**
+ * The sign-in mail's subject (src/lib/server/mail/templates.ts). Signing in reads the newest mail of this
+ * subject only: a receipt or notice mailed to the same address a moment later carries a link too.
+ */
+export const SIGN_IN_SUBJECT = /^Your Tenderloom sign-in link$/;
+
 export function linkIn(text: string): string {
 	const match = /https?:\/\/\S+/.exec(text);
 	if (!match) throw new Error(`no link in the message:\n${text}`);

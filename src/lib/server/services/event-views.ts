@@ -85,7 +85,10 @@ export async function eventSheet(user: SessionUser, id: string): Promise<SheetEv
 	return sheetEvent(event, await listItems(db(), id));
 }
 
-/** What an award plan's rules may name: the items, lots, invited suppliers and their tags. */
+/**
+ * What an award plan's rules may name: the items, lots and the invited suppliers' tags (the suppliers
+ * themselves, by id and name, come from award-plans' planSuppliers).
+ */
 export async function planRefs(user: SessionUser, id: string) {
 	const { view } = await eventFor(user, id);
 	if (view !== 'staff')
@@ -94,7 +97,6 @@ export async function planRefs(user: SessionUser, id: string) {
 	return {
 		items: items.map((i) => i.ref),
 		lots: [...new Set(items.map((i) => i.lot_ref).filter((l): l is string => Boolean(l)))],
-		suppliers: invitations.map((i) => i.supplier_name),
 		tags: [...new Set(invitations.flatMap((i) => i.tags))].sort()
 	};
 }

@@ -45,7 +45,13 @@ export async function eventTrail(user: SessionUser, id: string) {
 export async function eventTrailJson(user: SessionUser, id: string) {
 	const { event, entries, verification, anchor } = await eventTrail(user, id);
 	return {
-		event: { id: event.id, reference: event.reference, title: event.title, timeZone: event.time_zone },
+		event: {
+			id: event.id,
+			reference: event.reference,
+			title: event.title,
+			timeZone: event.time_zone,
+			currency: event.currency
+		},
 		verification,
 		checkpoint:
 			anchor.kind === 'checkpoint'

@@ -1,7 +1,14 @@
 import ExcelJS from 'exceljs';
 import JSZip from 'jszip';
 import { describe, expect, it } from 'vitest';
-import { buildBidCsv, buildBidSheet, parseBidCsv, parseBidWorkbook, type SheetEvent } from './bid-sheet';
+import {
+	buildBidCsv,
+	buildBidSheet,
+	parseBidCsv,
+	parseBidWorkbook,
+	parseScreenPrices,
+	type SheetEvent
+} from './bid-sheet';
 import { inspectUpload, UPLOAD_LIMITS } from './inspect';
 
 const event = (overrides: Partial<SheetEvent> = {}): SheetEvent => ({
@@ -221,6 +228,31 @@ describe('the CSV bid sheet', () => {
 				bundles: []
 			}
 		});
+	});
+});
+
+describe('prices typed on screen', () => {
+	it('says how to write a decimal comma, and names a number too large to hold, with the item’s row', () => {
+		const parsed = parseScreenPrices(
+			event(),
+			[
+				{ item: 'IT-1', cells: ['12,07'] },
+				{ item: 'IT-2', cells: ['1e309'] },
+				{ item: 'IT-3', cells: ['1,234,5'] }
+			],
+			null
+		);
+		expect(parsed.ok ? null : parsed.problems).toEqual([
+			{
+				sheet: 'On-screen prices',
+				row: 2,
+				column: 'F',
+				message: '"12,07" is not a number: write the decimal mark as a point (12.07)'
+			},
+			// 1e309 is beyond the largest double (IEEE 754 binary64, about 1.8e308): it reads as Infinity.
+			{ sheet: 'On-screen prices', row: 3, column: 'F', message: '"1e309" is too large to be a number' },
+			{ sheet: 'On-screen prices', row: 4, column: 'F', message: '"1,234,5" is not a number' }
+		]);
 	});
 });
 

@@ -226,11 +226,21 @@ function numberIn(
 		typeof value === 'string' &&
 		(value === '' || !/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(value.replace(/\s/g, '')))
 	) {
-		problems.add(sheet, row, column, `"${value.slice(0, 40)}" is not a number`);
+		// "12,07": a decimal comma (common in much of Europe) is refused, not guessed, since "1,234" could
+		// be a thousand; the message says how to write it.
+		const comma = /^[+-]?\d+,\d+$/.test(value.replace(/\s/g, ''));
+		problems.add(
+			sheet,
+			row,
+			column,
+			comma
+				? `"${value.slice(0, 40)}" is not a number: write the decimal mark as a point (${value.replace(/\s/g, '').replace(',', '.')})`
+				: `"${value.slice(0, 40)}" is not a number`
+		);
 		return null;
 	}
 	if (!Number.isFinite(number)) {
-		problems.add(sheet, row, column, 'is not a number');
+		problems.add(sheet, row, column, `"${String(value).slice(0, 40)}" is too large to be a number`);
 		return null;
 	}
 	if (number < 0) {

@@ -4,14 +4,19 @@ import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
-import { decide, pendingSignoff } from '$lib/server/services/signoff';
+import { decide, pendingSignoff, runSignoffs } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'approver');
 	return orErrorPage(event, async () => {
 		const { run, event: row } = await findRunView(user, event.params.id);
-		const pending = await pendingSignoff(user, row.id);
+		const [pending, signoffs] = await Promise.all([
+			pendingSignoff(user, row.id),
+			runSignoffs(user, row.id, run.id)
+		]);
+		// The latest decision on this run, for the banner of a run no longer awaiting sign-off.
+		const decided = signoffs.filter((s) => s.decision !== null).at(-1) ?? null;
 		const cautions: CautionKey[] = ['decisionSupport', 'standstill', 'lateRuleChange'];
 		return {
 			title: `Sign-off of ${row.reference}`,
@@ -21,7 +26,13 @@ export const load: PageServerLoad = async (event) => {
 			event: { reference: row.reference, title: row.title, state: row.state, timeZone: row.time_zone },
 			awaiting: pending?.run_id === run.id,
 			justification: pending?.run_id === run.id ? pending.justification : null,
-			ownRun: pending?.submitted_by === user.id || run.created_by === user.id
+			ownRun: pending?.submitted_by === user.id || run.created_by === user.id,
+			decided: decided && {
+				decision: decided.decision,
+				by: decided.decidedBy,
+				at: decided.decidedAt,
+				comment: decided.comment
+			}
 		};
 	});
 };
