@@ -163,4 +163,36 @@ describe('the auditor’s home', () => {
 		expect(page).toContain(`No event of ${organisation.name} has been published yet.`);
 		expect(page).toContain('after the deadline with the bids opened, the award runs');
 	});
+
+	// The page read every closed event's runs and sign-offs at once: an organisation's closed events only
+	// grow. Twenty a page, newest deadline first (AUDIT_PAGE in services/home.ts).
+	it('pages the events past their deadline, twenty at a time, newest deadline first', async () => {
+		const organisation = await anOrganisation('buyer');
+		const { user, client } = await aSignedInUser('auditor', { organisationId: organisation.id });
+		const made: TestEvent[] = [];
+		for (let k = 0; k < 21; k++) {
+			// Deadlines k + 1 days ago: event 0 is the newest, event 20 the oldest. The page opens each on its
+			// first read after the deadline, as any read does.
+			const event = await anOpenEvent({
+				createdBy: user.id,
+				invite: [],
+				organisationId: organisation.id,
+				deadline: new Date(Date.now() - (k + 1) * 86_400_000)
+			});
+			made.push(event);
+		}
+		const read = async (query: string) => (await client.get(`/audit${query}`)).text();
+		const first = await read('');
+		expect(textOf(first)).toContain('21 events, newest deadline first; page 1 of 2.');
+		for (const event of made.slice(0, 20)) expect(first).toContain(event.reference);
+		expect(first).not.toContain(made[20]!.reference);
+		expect(hrefsOf(first)).toContain('?page=2');
+		const second = await read('?page=2');
+		expect(second).toContain(made[20]!.reference);
+		expect(second).not.toContain(made[0]!.reference);
+		expect(hrefsOf(second)).toContain('?page=1');
+		// A page out of range or not a number shows the nearest page, never an error.
+		expect(await read('?page=99')).toContain(made[20]!.reference);
+		expect(await read('?page=abc')).toContain(made[0]!.reference);
+	});
 });

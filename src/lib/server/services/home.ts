@@ -166,9 +166,17 @@ export interface AuditClosedEvent extends AuditHomeEvent {
  * opening, the runs and the sign-off; events before their deadline only by name, state and deadline,
  * since nothing derived from a bid may be shown before the opening. Drafts are not published: left out.
  */
+export const AUDIT_PAGE = 20;
+
 export async function auditorHome(
-	user: SessionUser
-): Promise<{ closed: AuditClosedEvent[]; sealed: AuditHomeEvent[] }> {
+	user: SessionUser,
+	page = 0
+): Promise<{
+	closed: AuditClosedEvent[];
+	sealed: AuditHomeEvent[];
+	/** The closed events are shown AUDIT_PAGE at a time, newest deadline first. */
+	closedPage: { page: number; pages: number; total: number };
+}> {
 	if (!['auditor', 'buyer', 'approver'].includes(user.role))
 		throw new RuleViolation('The audit view is for auditors.', undefined, 403);
 	const at = now();
@@ -185,8 +193,14 @@ export async function auditorHome(
 		.filter((e) => !isPastDeadline(e, at))
 		.map(base)
 		.sort((a, b) => a.deadline.localeCompare(b.deadline));
+	// Only the page shown is read in full (runs, sign-offs): an organisation's closed events only grow.
+	const allPast = events
+		.filter((e) => isPastDeadline(e, at))
+		.sort((a, b) => b.deadline.getTime() - a.deadline.getTime());
+	const pages = Math.max(1, Math.ceil(allPast.length / AUDIT_PAGE));
+	const shown = Math.min(Math.max(0, Math.floor(page)), pages - 1);
 	const past: EventRow[] = [];
-	for (const e of events.filter((e) => isPastDeadline(e, at)))
+	for (const e of allPast.slice(shown * AUDIT_PAGE, (shown + 1) * AUDIT_PAGE))
 		// The first read after the deadline opens the bids, as eventFor does, so the opening record is there.
 		past.push(e.state === 'open' ? ((await closeIfDue(e.id, 'first read after the deadline')) ?? e) : e);
 	const ids = past.map((e) => e.id);
@@ -240,5 +254,5 @@ export async function auditorHome(
 		};
 	});
 	closed.sort((a, b) => b.deadline.localeCompare(a.deadline));
-	return { closed, sealed };
+	return { closed, sealed, closedPage: { page: shown, pages, total: allPast.length } };
 }
