@@ -81,9 +81,10 @@ describe('two runs compared', () => {
 			});
 			expect(cells(row[2]!, 'item-difference')[2]).toBe(signed(want.difference));
 		}
-		// IT-3 in the capped run: 1,200 KGM from S1 and 1,800 KGM from S2.
-		expect(rows[0]![2]).toContain('S1: 1,200 KGM');
-		expect(rows[0]![2]).toContain('S2: 1,800 KGM');
+		// IT-3 in the capped run: 1,200 KGM from S1 and 1,800 KGM from S2, shown by the unit's name (KGM is
+		// the kilogram in UN/CEFACT Recommendation 20).
+		expect(rows[0]![2]).toContain('S1: 1,200 kg');
+		expect(rows[0]![2]).toContain('S2: 1,800 kg');
 	});
 
 	it('exports a workbook whose figures are the runs’', async () => {
