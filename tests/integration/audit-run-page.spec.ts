@@ -71,7 +71,7 @@ beforeAll(async () => {
 	).plan as { id: string };
 	const run = async (planId: string) => {
 		const started = await json(await post(buyer.client, `/api/plans/${planId}/runs`, {}));
-		const done = (await finished(buyer.client, started.runId as string)) as {
+		const done = (await finished(buyer.client, started.runId as string, 50_000)) as {
 			id: string;
 			result: { totalCost: number };
 		};

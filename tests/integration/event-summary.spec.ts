@@ -84,11 +84,11 @@ describe('the summary of a buyer’s event', () => {
 		const started = (await (
 			await post(buyer.client, `/api/plans/${plans.plans.find((p) => p.lowestCost)!.id}/runs`, {})
 		).json()) as { runId: string };
-		await finished(buyer.client, started.runId);
+		await finished(buyer.client, started.runId, 120_000);
 		// Lowest price per item among the two current bids (first: 4, 5, 6; third: 5, 5, 5):
 		// 100 × 4 + 200 × 5 + 300 × 5 = 2,900 (by hand; the second supplier withdrew).
 		expect(await summaryText()).toContain(
 			`Cheapest run so far (EUR) ${formatMoney(2900, 'EUR')} run 1 of 1 finished run`
 		);
-	});
+	}, 150_000);
 });

@@ -125,7 +125,7 @@ describe('suppliers in plan rules', () => {
 		const plan = (await json(made)).plan as PlanJson;
 		const started = await json(await post(buyer.client, `/api/plans/${plan.id}/runs`, {}));
 		expect(started.status, JSON.stringify(started)).toBe('queued');
-		const run = await finished(buyer.client, started.runId as string);
+		const run = await finished(buyer.client, started.runId as string, 100_000);
 		expect(run.status).toBe('done');
 		const awards = (run.result as { awards: { supplier: string; item: string; quantity: number }[] }).awards
 			.filter((l) => l.quantity > 0)
@@ -136,7 +136,7 @@ describe('suppliers in plan rules', () => {
 		expect((run.rules as { text: string }[]).map((r) => r.text)).toEqual([
 			`${a.name} gets nothing of item IT-2`
 		]);
-	});
+	}, 120_000);
 
 	it('offers the invited suppliers in the rule builder by organisation id, labelled by name', async () => {
 		const page = await (await buyer.client.get(`/buyer/events/${event.id}/award`)).text();

@@ -14,8 +14,12 @@ export async function post(client: Browserless, path: string, body: unknown) {
 }
 
 /** Waits until the run has ended and returns it. */
-export async function finished(client: Browserless, runId: string) {
-	for (let k = 0; k < 120; k++) {
+/**
+ * The run once it has ended and been explained. `timeoutMs` is a liveness deadline, not a speed target:
+ * the stack has one worker, which takes award runs one at a time, so a run can wait behind other files'.
+ */
+export async function finished(client: Browserless, runId: string, timeoutMs = 30_000) {
+	for (let k = 0; k < timeoutMs / 250; k++) {
 		const run = await json(await client.get(`/api/runs/${runId}`, 'application/json'));
 		// Ended, and its explanation (rule costs, sensitivity; worked out after the allocation) stored too.
 		if (
