@@ -175,6 +175,26 @@ const listItemsQuery = (db: Db, eventId: string) =>
 		.select('i.*', 'l.ref as lot_ref')
 		.orderBy('i.position');
 
+/** An event's items in figures, counted in the database (an event page's summary; no item rows read). */
+export async function itemFigures(
+	db: Db,
+	eventId: string
+): Promise<{ items: number; lots: number; baselineTotal: number | null }> {
+	const row = (await db('items')
+		.where({ event_id: eventId })
+		.first(
+			db.raw('count(*)::int as items'),
+			db.raw('count(distinct lot_id)::int as lots'),
+			db.raw('sum(quantity * baseline_unit_price)::float8 as baseline_total'),
+			db.raw('bool_and(baseline_unit_price is not null) as baseline_known')
+		)) as { items: number; lots: number; baseline_total: number | null; baseline_known: boolean | null };
+	return {
+		items: row.items,
+		lots: row.lots,
+		baselineTotal: row.items > 0 && row.baseline_known ? row.baseline_total : null
+	};
+}
+
 export function listItems(db: Db, eventId: string): Promise<ItemRow[]> {
 	return listItemsQuery(db, eventId) as unknown as Promise<ItemRow[]>;
 }

@@ -5,6 +5,7 @@ import type { SessionUser } from '../auth/session-user';
 import { listEventSignoffs, listRunOutlines } from '../db/awards';
 import { listSubmissions, type VisibleBid } from '../db/bids';
 import {
+	itemFigures,
 	listAmendments,
 	listInvitations,
 	listItems,
@@ -121,14 +122,14 @@ export async function eventSummary(user: SessionUser, id: string) {
 	const { view } = await eventFor(user, id);
 	if (view !== 'staff')
 		throw new RuleViolation('The summary is for the buying organisation.', undefined, 403);
-	const [items, invitations, submissions, runs, signoffs] = await Promise.all([
-		listItems(db(), id),
+	// Counted in the database: this runs on every tab of the event, and an event may have 10,000 items.
+	const [figures, invitations, submissions, runs, signoffs] = await Promise.all([
+		itemFigures(db(), id),
 		listInvitations(db(), id),
 		listSubmissions(db(), id),
 		listRunOutlines(db(), [id]),
 		listEventSignoffs(db(), [id])
 	]);
-	const baselineKnown = items.length > 0 && items.every((i) => i.baseline_unit_price !== null);
 	const finished = runs.filter((r) => r.status === 'done' && r.total_cost !== null);
 	const cheapest = finished.reduce<(typeof finished)[number] | null>(
 		(best, r) => (best === null || r.total_cost! < best.total_cost! ? r : best),
@@ -137,11 +138,9 @@ export async function eventSummary(user: SessionUser, id: string) {
 	const signoff = signoffs.filter((s) => !s.superseded_at && s.decision !== 'return').at(-1);
 	const signed = signoff ? runs.find((r) => r.id === signoff.run_id) : undefined;
 	return {
-		items: items.length,
-		lots: new Set(items.flatMap((i) => (i.lot_ref ? [i.lot_ref] : []))).size,
-		baselineTotal: baselineKnown
-			? items.reduce((sum, i) => sum + Number(i.quantity) * Number(i.baseline_unit_price), 0)
-			: null,
+		items: figures.items,
+		lots: figures.lots,
+		baselineTotal: figures.baselineTotal,
 		invited: invitations.length,
 		bidders: submissions.filter((s) => s.latest_source !== 'withdrawal').length,
 		runs: finished.length,
