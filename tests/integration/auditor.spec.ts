@@ -30,23 +30,32 @@ type Staff = { user: TestUser; client: Browserless };
 let buyer: Staff;
 let approver: Staff;
 let auditor: Staff;
+let strangerAuditor: Staff;
+/** Past its deadline, with two bids, two runs and the second approved. */
 let closed: TestEvent;
+/** Still open for bids, with the same two bids sealed. */
 let sealed: TestEvent;
+/** Another buying organisation's event, past its deadline too. */
 let elsewhere: TestEvent;
 let lowestRun: { id: string; totalCost: number };
 let approvedRun: { id: string; totalCost: number };
+const justification = 'Two suppliers on every item keep supply safe.';
+const comment = 'Agreed: the dual sourcing is worth its cost.';
 
 // The auditor's home listed every event with a link to its trail and nothing else: not the opening, the
-// runs, the sign-off or the files an auditor reads. Its own buying organisation keeps the page to this test.
+// runs, the sign-off or the files an auditor reads; and auditors had no page for a run. One organisation
+// of its own keeps both pages to this file; one fixture serves both (a deadline to wait out, two runs).
 beforeAll(async () => {
 	// The tests' shared buying organisation is the oldest: made first, it is never this test's own.
 	const shared = await theBuyingOrganisation();
 	const organisation = await anOrganisation('buyer');
+	const other = await anOrganisation('buyer');
 	const staff = { organisationId: organisation.id };
-	[buyer, approver, auditor] = await Promise.all([
+	[buyer, approver, auditor, strangerAuditor] = await Promise.all([
 		aSignedInUser('buyer', staff),
 		aSignedInUser('approver', staff),
-		aSignedInUser('auditor', staff)
+		aSignedInUser('auditor', staff),
+		aSignedInUser('auditor', { organisationId: other.id })
 	]);
 	approver.user.name = unique('Approver');
 	await testDb()('users').where({ id: approver.user.id }).update({ name: approver.user.name });
@@ -56,7 +65,6 @@ beforeAll(async () => {
 	[closed, sealed, elsewhere] = await Promise.all([
 		anOpenEvent({ createdBy: buyer.user.id, invite, deadline, organisationId: organisation.id }),
 		anOpenEvent({ createdBy: buyer.user.id, invite, organisationId: organisation.id }),
-		// Another buying organisation's event, past its deadline too.
 		anOpenEvent({ createdBy: buyer.user.id, invite, deadline, organisationId: shared.id })
 	]);
 	for (const [k, bidder] of bidders.entries()) {
@@ -89,13 +97,12 @@ beforeAll(async () => {
 	};
 	lowestRun = await run(plans.find((p) => p.lowestCost)!.id);
 	approvedRun = await run(dual.id);
-	const justification = 'Two suppliers on every item keep supply safe.';
 	expect((await post(buyer.client, `/api/runs/${approvedRun.id}/submit`, { justification })).status).toBe(
 		200
 	);
 	const decided = await post(approver.client, `/api/runs/${approvedRun.id}/decision`, {
 		decision: 'approve',
-		comment: 'Agreed.'
+		comment
 	});
 	expect(decided.status).toBe(200);
 }, 120_000);
@@ -194,5 +201,91 @@ describe('the auditor’s home', () => {
 		// A page out of range or not a number shows the nearest page, never an error.
 		expect(await read('?page=99')).toContain(made[20]!.reference);
 		expect(await read('?page=abc')).toContain(made[0]!.reference);
+	});
+});
+
+describe('the auditor’s run page', () => {
+	it('shows an approved run read-only with its total, plan, sign-off and files', async () => {
+		const response = await auditor.client.get(`/audit/runs/${approvedRun.id}`);
+		expect(response.status).toBe(200);
+		const html = await response.text();
+		const page = textOf(html);
+		expect(page).toContain(`Run 2 · ${closed.reference}`);
+		expect(page).toContain('Awarded');
+		expect(page).toContain('Run 2 · Dual sourcing');
+		expect(page).toContain(`Total cost ${formatMoney(approvedRun.totalCost, 'EUR')} EUR`);
+
+		const signoff = page.slice(page.indexOf('Sign-off'));
+		expect(signoff).toContain(`Submitted by ${buyer.user.name}`);
+		expect(signoff).toContain(`Justification ${justification}`);
+		expect(signoff).toContain(`Approved by ${approver.user.name}`);
+		expect(signoff).toContain(`Comment ${comment}`);
+		const { bound_hash } = await testDb()('signoffs').where({ run_id: approvedRun.id }).first('bound_hash');
+		expect(html).toContain(`title="${String(bound_hash).trim()}"`);
+
+		expect(hrefsOf(html)).toEqual(
+			expect.arrayContaining([
+				`/events/${closed.id}/trail`,
+				`/api/runs/${approvedRun.id}/export`,
+				`/api/runs/${approvedRun.id}/report?format=pdf`,
+				`/api/runs/${approvedRun.id}/report?format=xlsx`
+			])
+		);
+		expect(html).not.toMatch(/<form|<textarea/);
+	});
+
+	it('shows a run never submitted without a sign-off or an award report', async () => {
+		const html = await (await auditor.client.get(`/audit/runs/${lowestRun.id}`)).text();
+		const page = textOf(html);
+		expect(page).toContain('Lowest cost (no rules)');
+		expect(page).toContain(`Total cost ${formatMoney(lowestRun.totalCost, 'EUR')} EUR`);
+		expect(page).toContain('This run was never submitted for sign-off.');
+		const links = hrefsOf(html);
+		expect(links).toContain(`/api/runs/${lowestRun.id}/export`);
+		expect(links.some((href) => href.includes('/report'))).toBe(false);
+	});
+
+	it('opens every link it gives the auditor, and the allocation’s pages', async () => {
+		const html = await (await auditor.client.get(`/audit/runs/${approvedRun.id}`)).text();
+		const links = hrefsOf(html).filter((href) => href.startsWith('/events/') || href.startsWith('/api/'));
+		expect(links.length).toBe(4);
+		for (const href of links) expect([href, (await auditor.client.get(href)).status]).toEqual([href, 200]);
+		const lines = await auditor.client.get(
+			`/api/runs/${approvedRun.id}/lines?offset=0&limit=2`,
+			'application/json'
+		);
+		expect(lines.status).toBe(200);
+		expect(((await json(lines)).lines as unknown[]).length).toBe(2);
+	});
+
+	it('is not found by an auditor of another organisation, nor its allocation', async () => {
+		const page = await strangerAuditor.client.get(`/audit/runs/${approvedRun.id}`);
+		expect([403, 404]).toContain(page.status);
+		expect(await page.text()).not.toContain(closed.reference);
+		const lines = await strangerAuditor.client.get(`/api/runs/${approvedRun.id}/lines`, 'application/json');
+		expect([403, 404]).toContain(lines.status);
+	});
+
+	it('is in the auditor’s area only: buyers and approvers are refused', async () => {
+		for (const { client } of [buyer, approver])
+			expect((await client.get(`/audit/runs/${approvedRun.id}`)).status).toBe(403);
+	});
+
+	it('refuses a POST from the auditor in the hook', async () => {
+		const response = await auditor.client.postForm(`/audit/runs/${approvedRun.id}`, { decision: 'return' });
+		expect(response.status).toBe(403);
+		expect(await response.text()).toContain('Auditors can read but not change anything.');
+	});
+
+	it('is linked from each run on the auditor’s home, beside the run’s workbook', async () => {
+		const links = hrefsOf(await (await auditor.client.get('/audit')).text());
+		expect(links).toEqual(
+			expect.arrayContaining([
+				`/audit/runs/${lowestRun.id}`,
+				`/api/runs/${lowestRun.id}/export`,
+				`/audit/runs/${approvedRun.id}`,
+				`/api/runs/${approvedRun.id}/export`
+			])
+		);
 	});
 });
