@@ -91,7 +91,11 @@ export const amendmentSchema = z.object({
 	summary: z.string().trim().min(1, 'Say what changes and why.').max(2000, 'At most 2000 characters.'),
 	description: z.string().trim().max(5000, 'At most 5000 characters.'),
 	deliveryPlace: z.string().trim().max(200, 'At most 200 characters.'),
-	deadlineLocal: z.string().regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}$/, 'Give a date and time for the deadline.')
+	deadlineLocal: z
+		.string()
+		.regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}$/, 'Give a date and time for the deadline.'),
+	/** The exchange-rate table, one rate per line ($lib/currencies parseRateTable). */
+	rates: z.string().max(5000, 'At most 5000 characters.').default('')
 });
 
 export const questionSchema = z.object({

@@ -29,6 +29,8 @@ export interface ParsedBid {
 	lines: BidLine[];
 	capacity: number | null;
 	bundles: { ref: string; price: number; items: { item: string; quantity: number }[] }[];
+	/** The ISO 4217 code every price of the bid is in, when not the event currency (absent: the event's). */
+	currency?: string;
 }
 
 /** One problem found in a file, with where it is. */

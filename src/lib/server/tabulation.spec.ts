@@ -31,6 +31,7 @@ const bid = (id: string, lines: VisibleBid['lines'], more: Partial<VisibleBid> =
 	submittedAt: new Date('2027-01-01T00:00:00Z'),
 	source: 'upload',
 	capacity: null,
+	currency: 'EUR',
 	lines,
 	bundles: [],
 	...more

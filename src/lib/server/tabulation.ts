@@ -56,6 +56,8 @@ export interface TabulatedSupplier {
 	/** Items where the bid is lowest (ties count for each), and their value at its prices. */
 	lowestItems: number;
 	lowestValue: number;
+	/** A bid in another currency than the event's (prices above are converted); absent: the event's. */
+	bidCurrency?: { code: string; rate: number; total: number };
 }
 
 export interface TabulationSummary {

@@ -16,9 +16,34 @@ export function formatter(key: string, make: () => Intl.NumberFormat): Intl.Numb
 
 const minor = new Map<string, number>();
 
-/** Decimals of the currency's minor unit (2 where Intl does not know the code). */
+/**
+ * Where ISO 4217 and Intl (CLDR's "digits") disagree, ISO 4217's minor unit, from the maintenance agency's
+ * list one published 2024-06-25 (as shipped in the npm package currency-codes 2.2.0, compared code by code
+ * with Node 20's Intl on 2026-12-03). CLDR gives these 0 because cash has no coins; the codes ISO marks
+ * "N.A." (XAU, XDR, XXX and the other X codes) are left as Intl has them.
+ */
+export const ISO_4217_MINOR_UNITS: Readonly<Record<string, number>> = {
+	AFN: 2,
+	ALL: 2,
+	COP: 2,
+	HUF: 2,
+	IDR: 2,
+	IQD: 3,
+	IRR: 2,
+	KPW: 2,
+	LAK: 2,
+	LBP: 2,
+	MGA: 2,
+	MMK: 2,
+	PKR: 2,
+	SOS: 2,
+	SYP: 2,
+	YER: 2
+};
+
+/** Decimals of the currency's minor unit, ISO 4217 (2 where neither ISO's list above nor Intl knows the code). */
 export function minorUnits(currency: string): number {
-	let digits = minor.get(currency);
+	let digits = minor.get(currency) ?? ISO_4217_MINOR_UNITS[currency];
 	if (digits === undefined) {
 		try {
 			digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()

@@ -119,7 +119,13 @@ export const problemSchema = z
 						ref,
 						name: z.string().max(300).optional(),
 						capacity: nonNegative.optional(),
-						tags: z.array(ref).optional()
+						tags: z.array(ref).optional(),
+						// The supplier's own currency and its fixed rate (event-currency units per unit): a record
+						// of how its prices were converted, bound by the problem's hash; the engine ignores it.
+						bidCurrency: z
+							.object({ code: z.string().regex(/^[A-Z]{3}$/), rate: z.number().positive() })
+							.strict()
+							.optional()
 					})
 					.strict()
 			)

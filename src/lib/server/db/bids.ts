@@ -37,6 +37,8 @@ export interface RevisionRow {
 	source: 'upload' | 'screen' | 'withdrawal';
 	upload_id: string | null;
 	capacity: string | null;
+	/** ISO 4217 code of the revision's prices; null: the event currency. */
+	currency: string | null;
 	submitted_by: number;
 	submitted_at: Date;
 }
@@ -240,6 +242,7 @@ export async function insertRevision(
 			source: revision.source,
 			upload_id: revision.uploadId,
 			capacity: revision.bid?.capacity === null || !revision.bid ? null : String(revision.bid.capacity),
+			currency: revision.bid?.currency ?? null,
 			submitted_by: revision.submittedBy,
 			submitted_at: revision.submittedAt
 		})
@@ -343,6 +346,8 @@ export interface VisibleBid {
 	submittedAt: Date;
 	source: RevisionRow['source'];
 	capacity: string | null;
+	/** ISO 4217 code of every price of this bid (the event currency when the revision names none). */
+	currency: string;
 	lines: {
 		item: string;
 		unitPrice: string;
@@ -404,7 +409,10 @@ export async function visibleBids(
 		revisions = revisions.whereRaw(
 			'r.number = (select max(number) from bid_revisions x where x.event_id = r.event_id and x.supplier_organisation_id = r.supplier_organisation_id)'
 		);
-	const rows = (await revisions.orderBy('o.name')) as (RevisionRow & { supplier_name: string })[];
+	const rows = (await revisions
+		.join('events as e', 'e.id', 'r.event_id')
+		.select('e.currency as event_currency')
+		.orderBy('o.name')) as (RevisionRow & { supplier_name: string; event_currency: string })[];
 	if (!rows.length) return [];
 	const ids = rows.map((r) => r.id);
 	const { itemIds } = options;
@@ -458,6 +466,7 @@ export async function visibleBids(
 			submittedAt: r.submitted_at,
 			source: r.source,
 			capacity: r.capacity,
+			currency: r.currency ?? r.event_currency,
 			lines: lines
 				.filter((l) => l.revision_id === r.id)
 				.map((l) => ({

@@ -21,6 +21,7 @@ const bid = (supplier: string, over: Partial<VisibleBid> = {}): VisibleBid => ({
 	submittedAt: new Date('2026-12-01T10:00:00Z'),
 	source: 'upload',
 	capacity: null,
+	currency: 'EUR',
 	lines: [],
 	bundles: [],
 	...over
@@ -129,8 +130,8 @@ describe('the award problem of an event (snapshotProblem)', () => {
 			{
 				items: [item('IT-1', { baseline_unit_price: '7.5', lot_ref: null })],
 				bids: [
-					bid('A', { capacity: '250', lines: [line('IT-1', '4')] }),
-					bid('B', { lines: [line('IT-1', '5')] })
+					bid('A', { capacity: '250', currency: 'USD', lines: [line('IT-1', '4')] }),
+					bid('B', { currency: 'USD', lines: [line('IT-1', '5')] })
 				],
 				invitations: [
 					{ supplier_organisation_id: 'org-A', tags: ['small_business', 'local'] },

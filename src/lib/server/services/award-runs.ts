@@ -7,6 +7,8 @@ import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import * as awards from '../db/awards';
 import { visibleBids, type VisibleBid } from '../db/bids';
+import { listRates } from '../db/currencies';
+import { convertPrice, rateFor, type EventRate } from '$lib/currencies';
 import {
 	listInvitations,
 	listItems,
@@ -57,6 +59,8 @@ export function snapshotProblem(
 		>[];
 		bids: VisibleBid[];
 		invitations: Pick<InvitationRow, 'supplier_organisation_id' | 'tags'>[];
+		/** The event's exchange rates: a bid in another currency is converted before the adders. */
+		rates?: readonly EventRate[];
 	},
 	rules: AwardRule[]
 ): AwardProblem {
@@ -65,6 +69,10 @@ export function snapshotProblem(
 	const adder = new Map(items.map((i) => [i.ref, num(i.freight_per_unit) + num(i.duty_per_unit)]));
 	const adderOf = (item: string) => adder.get(item) ?? 0;
 	const live = bids.filter((b) => b.source !== 'withdrawal');
+	const rateOf = new Map(live.map((b) => [b.supplierName, bidRate(b, event.currency, rows.rates ?? [])]));
+	// A price in the bid's currency, in the event's (six decimals), before the adders of the event currency.
+	const inEventCurrency = (b: VisibleBid, price: string) =>
+		convertPrice(Number(price), rateOf.get(b.supplierName)!);
 	return {
 		currency: event.currency,
 		items: items.map((i) => ({
@@ -80,21 +88,24 @@ export function snapshotProblem(
 			return {
 				ref: b.supplierName,
 				...(b.capacity !== null ? { capacity: Number(b.capacity) } : {}),
-				...(tags.length ? { tags } : {})
+				...(tags.length ? { tags } : {}),
+				...(b.currency !== event.currency
+					? { bidCurrency: { code: b.currency, rate: rateOf.get(b.supplierName)! } }
+					: {})
 			};
 		}),
 		bids: live.flatMap((b) =>
 			b.lines.map((l) => ({
 				supplier: b.supplierName,
 				item: l.item,
-				unitPrice: round(Number(l.unitPrice) + adderOf(l.item)),
+				unitPrice: round(inEventCurrency(b, l.unitPrice) + adderOf(l.item)),
 				...(l.maxQuantity !== null ? { maxQuantity: Number(l.maxQuantity) } : {}),
 				...(l.packSize !== null ? { packSize: Number(l.packSize) } : {}),
 				...(l.priceBreaks.length
 					? {
 							priceBreaks: l.priceBreaks.map((p) => ({
 								fromQuantity: Number(p.fromQuantity),
-								unitPrice: round(Number(p.unitPrice) + adderOf(l.item))
+								unitPrice: round(inEventCurrency(b, p.unitPrice) + adderOf(l.item))
 							}))
 						}
 					: {})
@@ -105,13 +116,26 @@ export function snapshotProblem(
 				ref: `${b.supplierName} / ${offer.ref}`,
 				supplier: b.supplierName,
 				price: round(
-					Number(offer.price) + offer.items.reduce((a, i) => a + adderOf(i.item) * Number(i.quantity), 0)
+					inEventCurrency(b, offer.price) +
+						offer.items.reduce((a, i) => a + adderOf(i.item) * Number(i.quantity), 0)
 				),
 				items: offer.items.map((i) => ({ item: i.item, quantity: Number(i.quantity) }))
 			}))
 		),
 		rules
 	} as AwardProblem;
+}
+
+/** The fixed rate of a bid's currency; a bid in a currency the event does not allow cannot be run. */
+function bidRate(bid: VisibleBid, eventCurrency: string, rates: readonly EventRate[]): number {
+	const rate = rateFor(bid.currency, eventCurrency, rates);
+	if (rate === undefined)
+		throw new RuleViolation(
+			`${bid.supplierName}'s bid is in ${bid.currency}, which has no rate on this event.`,
+			undefined,
+			422
+		);
+	return rate;
 }
 
 /** Queues a run of a plan: the problem is fixed now, the solve happens in a worker process. */
@@ -128,16 +152,17 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			409
 		);
 	if (event.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
-	const [items, bids, invitations] = await Promise.all([
+	const [items, bids, invitations, rates] = await Promise.all([
 		listItems(db(), event.id),
 		visibleBids(db(), event.id, event.organisation_id, now()),
-		listInvitations(db(), event.id)
+		listInvitations(db(), event.id),
+		listRates(db(), event.id)
 	]);
 	// The plan names suppliers by organisation id, the engine by name (snapshotProblem's refs).
 	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
 	if (!named.ok)
 		throw new RuleViolation(`The plan does not fit the bids: ${named.problems.join('; ')}`, undefined, 422);
-	const problem = snapshotProblem(event, { items, bids, invitations }, named.rules);
+	const problem = snapshotProblem(event, { items, bids, invitations, rates }, named.rules);
 	const parsed = parseProblem(problem);
 	if (!parsed.ok)
 		throw new RuleViolation(

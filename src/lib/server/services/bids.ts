@@ -2,6 +2,7 @@
 // for the supplier and a salted commitment for the trail; checked by content, parsed with every problem
 // reported), on-screen entry, withdrawal and history; and what the buying organisation may see: who
 // submitted when, and prices only after the deadline.
+import { listRates } from '../db/currencies';
 import { createHash, randomUUID } from 'node:crypto';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -60,7 +61,7 @@ export async function bidSheet(
 	format: 'xlsx' | 'csv'
 ): Promise<{ body: Buffer; fileName: string; contentType: string }> {
 	const event = await supplierEvent(actor, id);
-	const sheet = sheetEvent(event, await listItems(db(), id));
+	const sheet = sheetEvent(event, await listItems(db(), id), await listRates(db(), id));
 	const base = `bid-sheet-${event.reference.replace(/[^A-Za-z0-9._-]/g, '_')}`;
 	return format === 'csv'
 		? {
@@ -158,7 +159,7 @@ export async function submitUpload(
 	try {
 		const items = await listItems(db(), id);
 		const [reading] = await Promise.all([
-			readBidFile(sheetEvent(event, items), file),
+			readBidFile(sheetEvent(event, items, await listRates(db(), id)), file),
 			putBidFile(key, file.bytes)
 		]);
 		if (!reading.outcome.ok) {
@@ -289,12 +290,19 @@ export async function submitScreen(
 	id: string,
 	entries: { item: string; cells: (string | null)[] }[],
 	capacity: string | null,
-	context: RequestContext
+	context: RequestContext,
+	/** The currency of the whole on-screen bid, for events that allow others; null: the event's. */
+	currency: string | null = null
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
 	const items = await listItems(db(), id);
-	const parsed = parseScreenPrices(sheetEvent(event, items), entries, capacity);
+	const parsed = parseScreenPrices(
+		sheetEvent(event, items, await listRates(db(), id)),
+		entries,
+		capacity,
+		currency
+	);
 	if (!parsed.ok)
 		return {
 			ok: false,

@@ -1,5 +1,6 @@
 // What an event looks like to each side, as plain JSON for pages and the API. Suppliers never get the
 // names or the number of other invited suppliers.
+import { listRates } from '../db/currencies';
 import { isStaff } from '$lib/roles';
 import type { SessionUser } from '../auth/session-user';
 import { listEventSignoffs, listRunOutlines } from '../db/awards';
@@ -83,7 +84,7 @@ export async function itemsFor(user: SessionUser, id: string): Promise<ItemJson[
 /** The event as its bid sheet describes it (terms and items), for whoever may see the event. */
 export async function eventSheet(user: SessionUser, id: string): Promise<SheetEvent> {
 	const { event } = await eventFor(user, id);
-	return sheetEvent(event, await listItems(db(), id));
+	return sheetEvent(event, await listItems(db(), id), await listRates(db(), id));
 }
 
 /**
@@ -226,6 +227,7 @@ export function bidJson(bid: VisibleBid) {
 		submittedAt: bid.submittedAt.toISOString(),
 		withdrawn: bid.source === 'withdrawal',
 		capacity: num(bid.capacity),
+		currency: bid.currency,
 		lines: bid.lines.map((l) => ({
 			item: l.item,
 			unitPrice: Number(l.unitPrice),

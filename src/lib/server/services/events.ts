@@ -36,6 +36,8 @@ import { listUploadCommitments } from '../db/bids';
 import { db, type Db } from '../db/knex';
 import { findOrganisation } from '../db/organisations';
 import { findUserByEmail } from '../db/users';
+import { listRates, replaceRates } from '../db/currencies';
+import { allowedCurrencies, parseRateTable, rateChanges, type EventRate } from '$lib/currencies';
 import { enqueueMail, scheduleEventClose } from '../jobs/queue';
 import {
 	amendmentMail,
@@ -214,7 +216,7 @@ export async function updateDraft(actor: SessionUser, id: string, fields: EventF
 	});
 }
 
-async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
+export async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
 	const event = await lockedForBuyer(trx, actor, id);
 	if (event.state !== 'draft') {
 		throw new RuleViolation(
@@ -454,6 +456,8 @@ export interface AmendmentRequest {
 	description: string;
 	deliveryPlace: string;
 	deadline: Date;
+	/** The new exchange-rate table (parseRateTable's lines); absent: unchanged. */
+	rates?: string;
 }
 
 /** Why a published deadline cannot be brought forward; shown to the buyer who tries. */
@@ -499,9 +503,16 @@ export async function amend(
 				`Bid deadline extended: ${formatInZone(request.deadline, event.time_zone)} (${event.time_zone}), was ${formatInZone(event.deadline, event.time_zone)}`
 			);
 		}
+		const rates = request.rates === undefined ? undefined : await amendedRates(trx, event, request.rates);
+		if (rates) {
+			detail.rates = { before: rates.before, after: rates.after };
+			changes.push(...rates.lines);
+		}
 		if (!changes.length) throw new RuleViolation('Nothing would change.', 'summary', 422);
 		await updateAmendedFields(trx, id, request);
 		const amendment = await insertAmendment(trx, id, request.summary, detail, actor.id);
+		// After the amendment's row: the database lets a published event's rates change only beside one.
+		if (rates) await replaceRates(trx, id, rates.after);
 		await appendTrail(trx, {
 			eventId: id,
 			actor,
@@ -571,12 +582,28 @@ export async function answer(
 	});
 }
 
+/** The rate table an amendment would set, with its lines for the mail; undefined when it changes nothing. */
+async function amendedRates(trx: Db, event: EventRow, text: string) {
+	const parsed = parseRateTable(text, event.currency);
+	if (!parsed.ok) throw new RuleViolation(parsed.problems.join(' '), 'rates', 422);
+	const before = await listRates(trx, event.id);
+	const diff = rateChanges(before, parsed.rates, event.currency);
+	if (diff.removed.length)
+		throw new RuleViolation(
+			`${diff.removed.join(', ')} cannot be withdrawn after publication: bids may already be in it. Change its rate instead.`,
+			'rates',
+			422
+		);
+	return diff.changed ? { before, after: parsed.rates, lines: diff.lines } : undefined;
+}
+
 function trailFields(fields: EventFields) {
 	return { ...fields, deadline: fields.deadline.toISOString() };
 }
 
-export function sheetEvent(event: EventRow, items: ItemRow[]): SheetEvent {
+export function sheetEvent(event: EventRow, items: ItemRow[], rates: EventRate[] = []): SheetEvent {
 	return {
+		bidCurrencies: allowedCurrencies(event.currency, rates).slice(1),
 		reference: event.reference,
 		title: event.title,
 		currency: event.currency,

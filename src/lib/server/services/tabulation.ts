@@ -15,6 +15,8 @@ import {
 	type TabulationView
 } from '../tabulation';
 import { effectiveState, evaluationEvent } from './events';
+import { listRates } from '../db/currencies';
+import { bidsInEventCurrency, ownCurrencyTotals } from './currencies';
 import { formatChange, formatMoney, formatQuantity, formatShare, formatUnitPrice } from '$lib/format';
 import { TABULATION_PAGE_ITEMS } from '$lib/paging';
 
@@ -37,11 +39,15 @@ export async function staffTabulation(actor: SessionUser, id: string): Promise<S
 	const key = `${id}|${submissions.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
 	const known = opened.get(key);
 	if (known) return { sealed: false, event, submissions, tab: known };
-	const [items, bids] = await Promise.all([
+	const [items, bids, rates] = await Promise.all([
 		listItems(db(), id),
-		visibleBids(db(), id, actor.organisationId, now())
+		visibleBids(db(), id, actor.organisationId, now()),
+		listRates(db(), id)
 	]);
-	const tab = tabulate(items, bids);
+	// Compared in the event currency at the fixed rates; each supplier keeps its own currency beside it.
+	const tab = tabulate(items, bidsInEventCurrency(bids, event.currency, rates));
+	const own = ownCurrencyTotals(bids, items, event.currency, rates);
+	for (const supplier of tab.suppliers) supplier.bidCurrency = own.get(supplier.id);
 	return {
 		sealed: false,
 		event,
@@ -162,6 +168,9 @@ export function tabulationTotals(tab: Tabulated, currency: string) {
 			lowestItems: formatQuantity(b.lowestItems),
 			lowestValue: b.lowestItems ? money(b.lowestValue) : '—',
 			capacity: b.capacity === null ? 'No limit stated' : formatQuantity(b.capacity),
+			bidCurrency: b.bidCurrency
+				? `${b.bidCurrency.code} at ${b.bidCurrency.rate} ${currency}; own prices ${formatMoney(b.bidCurrency.total, b.bidCurrency.code)} ${b.bidCurrency.code} before freight and duty`
+				: currency,
 			bundles: b.bundles.map((bundle) => ({
 				ref: bundle.ref,
 				price: money(bundle.price),

@@ -29,6 +29,8 @@ export interface SheetEvent {
 	allowBundles: boolean;
 	/** Absent: not allowed. */
 	allowPackSizes?: boolean;
+	/** The other currencies a bid may use (ISO 4217), each at a rate fixed by the buyer; absent or empty: none. */
+	bidCurrencies?: string[];
 	items: SheetItem[];
 }
 
@@ -61,13 +63,20 @@ function orderedInMultiples(items: SheetItem[]): string {
 	return `Items ordered in multiples are awarded in whole multiples: ${shown.join(', ')}${more}.`;
 }
 
+/** The bid may be in another currency than the event's: then a Currency column says which. */
+const inCurrencies = (event: SheetEvent) => Boolean(event.bidCurrencies?.length);
+export const CURRENCY_COLUMN = 'Currency';
+const unitPriceHeader = (event: SheetEvent) =>
+	inCurrencies(event) ? 'Unit price' : `Unit price (${event.currency})`;
+
 export function priceColumns(event: SheetEvent): string[] {
-	const columns = ['Item ref', 'Description', 'Lot', 'Unit', 'Quantity', `Unit price (${event.currency})`];
+	const columns = ['Item ref', 'Description', 'Lot', 'Unit', 'Quantity', unitPriceHeader(event)];
 	if (event.allowCapacity) columns.push('Max quantity');
 	if (event.allowPackSizes) columns.push('Pack size');
 	if (event.allowPriceBreaks) {
 		for (let k = 1; k <= PRICE_BREAKS; k++) columns.push(`Break ${k} from quantity`, `Break ${k} unit price`);
 	}
+	if (inCurrencies(event)) columns.push(CURRENCY_COLUMN);
 	return columns;
 }
 
@@ -90,7 +99,9 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 	const lines = [
 		`Bid sheet for ${event.reference} — ${event.title}`,
 		`Prepared for ${supplierName}.`,
-		`Enter your unit prices in ${event.currency} on the "${SHEETS.prices}" sheet, in the white cells only. Leave a price empty for an item you do not offer.`,
+		inCurrencies(event)
+			? `Enter your unit prices on the "${SHEETS.prices}" sheet, in the white cells only, and the currency of your bid in the ${CURRENCY_COLUMN} column: ${[event.currency, ...event.bidCurrencies!].join(', ')} (empty means ${event.currency}). Every price of one bid, bundles too, is in one currency; the buyer compares bids at the rates on the event page. Leave a price empty for an item you do not offer.`
+			: `Enter your unit prices in ${event.currency} on the "${SHEETS.prices}" sheet, in the white cells only. Leave a price empty for an item you do not offer.`,
 		event.allowCapacity
 			? 'You may give a maximum quantity per item, and your total capacity on the "Capacity" sheet.'
 			: '',
@@ -136,6 +147,19 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 	if (event.items.length) {
 		// One range-wide validation per column (per-cell validations overlap in exceljs).
 		for (let c = 5; c < columns.length; c++) {
+			if (columns[c] === CURRENCY_COLUMN) {
+				(
+					prices as unknown as { dataValidations: { add: (range: string, v: object) => void } }
+				).dataValidations.add(`${letter(c)}2:${letter(c)}${last}`, {
+					type: 'list',
+					formulae: [`"${[event.currency, ...event.bidCurrencies!].join(',')}"`],
+					allowBlank: true,
+					showErrorMessage: true,
+					errorTitle: 'A currency of this event',
+					error: `Choose ${[event.currency, ...event.bidCurrencies!].join(', ')}, or leave the cell empty for ${event.currency}.`
+				});
+				continue;
+			}
 			(
 				prices as unknown as { dataValidations: { add: (range: string, v: object) => void } }
 			).dataValidations.add(`${letter(c)}2:${letter(c)}${last}`, {
@@ -160,7 +184,8 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 	}
 	if (event.allowBundles) {
 		const bundles = workbook.addWorksheet(SHEETS.bundles);
-		bundles.addRow(['Bundle ref', 'Item ref', 'Quantity', `Bundle price (${event.currency})`]).font = {
+		const priceIn = inCurrencies(event) ? 'in your bid currency' : event.currency;
+		bundles.addRow(['Bundle ref', 'Item ref', 'Quantity', `Bundle price (${priceIn})`]).font = {
 			bold: true
 		};
 		bundles.columns.forEach((column) => (column.width = 20));
@@ -258,8 +283,50 @@ function numberIn(
 	return number;
 }
 
+/**
+ * The currency of a priced row: empty is the event currency; a code the event does not allow, or one that
+ * differs from the bid's first priced row, is a problem on that cell. `bid.currency` is the first one.
+ */
+function currencyIn(
+	event: SheetEvent,
+	problems: Problems,
+	at: { sheet: string; row: number; column: string },
+	value: Cell,
+	bid: { currency?: string; row?: number }
+): void {
+	const allowed = [event.currency, ...(event.bidCurrencies ?? [])];
+	if (value !== null && typeof value === 'object') {
+		problems.add(at.sheet, at.row, at.column, 'a formula is not accepted here; type the currency code');
+		return;
+	}
+	const code = value === null ? event.currency : String(value).trim().toUpperCase();
+	if (!allowed.includes(code)) {
+		problems.add(
+			at.sheet,
+			at.row,
+			at.column,
+			`"${String(value).slice(0, 20)}" is not a currency of this event: use ${allowed.join(', ')} (empty means ${event.currency})`
+		);
+		return;
+	}
+	if (bid.currency === undefined) Object.assign(bid, { currency: code, row: at.row });
+	else if (bid.currency !== code)
+		problems.add(
+			at.sheet,
+			at.row,
+			at.column,
+			`${code}${value === null ? ' (empty)' : ''} differs from ${bid.currency} on row ${bid.row}: every price of one bid is in one currency`
+		);
+}
+
 /** Reads the price table (sheet or CSV rows: header first) into bid lines, adding every problem found. */
-function readPriceRows(event: SheetEvent, sheet: string, rows: Cell[][], problems: Problems): BidLine[] {
+function readPriceRows(
+	event: SheetEvent,
+	sheet: string,
+	rows: Cell[][],
+	problems: Problems,
+	bid: { currency?: string; row?: number } = {}
+): BidLine[] {
 	const expected = priceColumns(event);
 	const header = (rows[0] ?? []).map((c) => (typeof c === 'string' ? c : c === null ? '' : String(c)));
 	if (expected.some((name, i) => header[i] !== name)) {
@@ -298,10 +365,19 @@ function readPriceRows(event: SheetEvent, sheet: string, rows: Cell[][], problem
 			problems,
 			sheet,
 			row,
-			letter(at(`Unit price (${event.currency})`)),
-			cells[at(`Unit price (${event.currency})`)] ?? null,
+			letter(at(unitPriceHeader(event))),
+			cells[at(unitPriceHeader(event))] ?? null,
 			{}
 		);
+		const currencyColumn = at(CURRENCY_COLUMN);
+		if (currencyColumn >= 0 && price !== null)
+			currencyIn(
+				event,
+				problems,
+				{ sheet, row, column: letter(currencyColumn) },
+				cells[currencyColumn] ?? null,
+				bid
+			);
 		const maxColumn = at('Max quantity');
 		const maxQuantity =
 			maxColumn >= 0
@@ -431,7 +507,14 @@ export async function parseBidWorkbook(event: SheetEvent, bytes: Buffer): Promis
 			]
 		};
 	}
-	const lines = readPriceRows(event, SHEETS.prices, rowsOf(prices, priceColumns(event).length), problems);
+	const inCurrency: { currency?: string } = {};
+	const lines = readPriceRows(
+		event,
+		SHEETS.prices,
+		rowsOf(prices, priceColumns(event).length),
+		problems,
+		inCurrency
+	);
 	let capacity: number | null = null;
 	if (event.allowCapacity) {
 		const sheet = workbook.getWorksheet(SHEETS.capacity);
@@ -494,7 +577,7 @@ export async function parseBidWorkbook(event: SheetEvent, bytes: Buffer): Promis
 	}
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity, bundles } };
+		: { ok: true, bid: { lines, capacity, bundles, ...currencyOf(event, inCurrency) } };
 }
 
 export function parseBidCsv(event: SheetEvent, text: string): ParseOutcome {
@@ -517,13 +600,18 @@ export function parseBidCsv(event: SheetEvent, text: string): ParseOutcome {
 	}
 	// Every CSV cell is text: a leading = + - @ is data here, never a formula.
 	const rows: Cell[][] = records.map((r) => r.map((c) => (c.trim() === '' ? null : c.trim())));
-	const lines = readPriceRows(event, 'CSV', rows, problems);
+	const inCurrency: { currency?: string } = {};
+	const lines = readPriceRows(event, 'CSV', rows, problems, inCurrency);
 	if (!problems.list.length && !lines.length)
 		problems.add('CSV', null, null, 'the file has no prices: enter a unit price for at least one item');
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity: null, bundles: [] } };
+		: { ok: true, bid: { lines, capacity: null, bundles: [], ...currencyOf(event, inCurrency) } };
 }
+
+/** The bid's currency when it is not the event's (ParsedBid.currency is absent for the event currency). */
+const currencyOf = (event: SheetEvent, found: { currency?: string }) =>
+	found.currency && found.currency !== event.currency ? { currency: found.currency } : {};
 
 export const SCREEN_SHEET = 'On-screen prices';
 
@@ -535,7 +623,9 @@ export const SCREEN_SHEET = 'On-screen prices';
 export function parseScreenPrices(
 	event: SheetEvent,
 	entries: { item: string; cells: (string | null)[] }[],
-	capacity: string | null
+	capacity: string | null,
+	/** The currency chosen for the whole on-screen bid (events with other currencies); empty: the event's. */
+	currency: string | null = null
 ): ParseOutcome {
 	const problems = new Problems();
 	const columns = priceColumns(event);
@@ -544,10 +634,13 @@ export function parseScreenPrices(
 		columns,
 		...event.items.map((item) => {
 			const typed = (byRef.get(item.ref) ?? []).map((c) => (c === null || c.trim() === '' ? null : c.trim()));
-			return [item.ref, item.description, item.lot, item.unit, item.quantity, ...typed];
+			const cells: Cell[] = [item.ref, item.description, item.lot, item.unit, item.quantity, ...typed];
+			if (inCurrencies(event)) cells[columns.length - 1] = currency?.trim() || null;
+			return cells;
 		})
 	];
-	const lines = readPriceRows(event, SCREEN_SHEET, rows, problems);
+	const inCurrency: { currency?: string } = {};
+	const lines = readPriceRows(event, SCREEN_SHEET, rows, problems, inCurrency);
 	const capacityValue =
 		event.allowCapacity && capacity !== null && capacity.trim() !== ''
 			? numberIn(problems, SCREEN_SHEET, null, 'Capacity', capacity.trim(), {})
@@ -556,5 +649,5 @@ export function parseScreenPrices(
 		problems.add(SCREEN_SHEET, null, null, 'enter a unit price for at least one item');
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity: capacityValue, bundles: [] } };
+		: { ok: true, bid: { lines, capacity: capacityValue, bundles: [], ...currencyOf(event, inCurrency) } };
 }

@@ -7,18 +7,20 @@ import { myResult } from '$lib/server/services/award-views';
 import { ownBid, submitScreen, withdraw } from '$lib/server/services/bids';
 import { bidJson, eventDetail, eventSheet, itemsFor } from '$lib/server/services/event-views';
 import { askQuestion } from '$lib/server/services/events';
-import { priceColumns } from '$lib/server/sheets/bid-sheet';
+import { CURRENCY_COLUMN, priceColumns } from '$lib/server/sheets/bid-sheet';
+import { eventRates } from '$lib/server/services/currencies';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'supplier');
 	return orErrorPage(event, async () => {
-		const [detail, items, own, result, sheet] = await Promise.all([
+		const [detail, items, own, result, sheet, rates] = await Promise.all([
 			eventDetail(user, event.params.id),
 			itemsFor(user, event.params.id),
 			ownBid(user, event.params.id),
 			myResult(user, event.params.id),
-			eventSheet(user, event.params.id)
+			eventSheet(user, event.params.id),
+			eventRates(user, event.params.id)
 		]);
 		return {
 			title: detail.event.reference,
@@ -26,7 +28,11 @@ export const load: PageServerLoad = async (event) => {
 			result,
 			items,
 			// The columns a supplier types, after the item columns of the sheet.
-			priceColumns: priceColumns(sheet).slice(5),
+			// The currency is one select for the whole bid, not a cell per item.
+			priceColumns: priceColumns(sheet)
+				.slice(5)
+				.filter((c) => c !== CURRENCY_COLUMN),
+			rates,
 			current: own.current ? bidJson(own.current) : null,
 			lastPriced: own.lastPriced ? bidJson(own.lastPriced) : null,
 			revisions: own.revisions.map((r) => ({
@@ -60,6 +66,7 @@ export const actions: Actions = {
 			return fail(400, { action: 'prices' as const, error: 'The price table could not be read.' });
 		}
 		const capacity = data.get('capacity');
+		const currency = data.get('currency');
 		return orFail(
 			async () => {
 				const outcome = await submitScreen(
@@ -67,7 +74,8 @@ export const actions: Actions = {
 					event.params.id,
 					entries,
 					typeof capacity === 'string' ? capacity : null,
-					requestContext(event)
+					requestContext(event),
+					typeof currency === 'string' ? currency : null
 				);
 				if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
 				return {
