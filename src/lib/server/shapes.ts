@@ -29,6 +29,8 @@ export interface ParsedBid {
 	lines: BidLine[];
 	capacity: number | null;
 	bundles: { ref: string; price: number; items: { item: string; quantity: number }[] }[];
+	/** Answers to the event's supplier-answered criteria, by criterion ref; absent when it has none. */
+	answers?: Record<string, number>;
 }
 
 /** One problem found in a file, with where it is. */

@@ -33,6 +33,7 @@ const bid = (id: string, lines: VisibleBid['lines'], more: Partial<VisibleBid> =
 	capacity: null,
 	lines,
 	bundles: [],
+	answers: {},
 	...more
 });
 

@@ -23,6 +23,7 @@ const bid = (supplier: string, over: Partial<VisibleBid> = {}): VisibleBid => ({
 	capacity: null,
 	lines: [],
 	bundles: [],
+	answers: {},
 	...over
 });
 

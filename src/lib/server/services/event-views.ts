@@ -240,6 +240,7 @@ export function bidJson(bid: VisibleBid) {
 			ref: b.ref,
 			price: Number(b.price),
 			items: b.items.map((i) => ({ item: i.item, quantity: Number(i.quantity) }))
-		}))
+		})),
+		answers: bid.answers
 	};
 }
