@@ -2,6 +2,8 @@
 // the plan's rules into an award problem, stores it with its SHA-256 and queues its solve (pg-boss queue
 // "award-run", sent in the same transaction as the run row: a run is queued with its job or not at all).
 import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
+import type { Adjustment } from '$lib/evaluation/criteria';
+import { withCriteria } from '$lib/evaluation/apply-criteria';
 import { namesById, rulesBySupplierName } from '$lib/plan-suppliers';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -21,6 +23,7 @@ import type { ManualChange, RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
+import { runAdjustments } from './criteria';
 import { RuleViolation } from './errors';
 import { effectiveState } from './events';
 
@@ -58,14 +61,16 @@ export function snapshotProblem(
 		bids: VisibleBid[];
 		invitations: Pick<InvitationRow, 'supplier_organisation_id' | 'tags'>[];
 	},
-	rules: AwardRule[]
+	rules: AwardRule[],
+	/** Money of the non-price criteria by supplier name (services/criteria.ts); none: prices as bid. */
+	adjustments: ReadonlyMap<string, Adjustment> = new Map()
 ): AwardProblem {
 	const { items, bids, invitations } = rows;
 	const tagsOf = new Map(invitations.map((i) => [i.supplier_organisation_id, i.tags]));
 	const adder = new Map(items.map((i) => [i.ref, num(i.freight_per_unit) + num(i.duty_per_unit)]));
 	const adderOf = (item: string) => adder.get(item) ?? 0;
 	const live = bids.filter((b) => b.source !== 'withdrawal');
-	return {
+	const problem = {
 		currency: event.currency,
 		items: items.map((i) => ({
 			ref: i.ref,
@@ -112,6 +117,7 @@ export function snapshotProblem(
 		),
 		rules
 	} as AwardProblem;
+	return withCriteria(problem, adjustments, adderOf);
 }
 
 /** Queues a run of a plan: the problem is fixed now, the solve happens in a worker process. */
@@ -137,7 +143,8 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
 	if (!named.ok)
 		throw new RuleViolation(`The plan does not fit the bids: ${named.problems.join('; ')}`, undefined, 422);
-	const problem = snapshotProblem(event, { items, bids, invitations }, named.rules);
+	const adjustments = await runAdjustments(event.id, bids);
+	const problem = snapshotProblem(event, { items, bids, invitations }, named.rules, adjustments);
 	const parsed = parseProblem(problem);
 	if (!parsed.ok)
 		throw new RuleViolation(

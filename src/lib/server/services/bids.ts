@@ -20,6 +20,7 @@ import {
 	type UploadRow,
 	type VisibleBid
 } from '../db/bids';
+import { listCriteria } from '../db/criteria';
 import { holdEvent, listItems, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
@@ -60,7 +61,7 @@ export async function bidSheet(
 	format: 'xlsx' | 'csv'
 ): Promise<{ body: Buffer; fileName: string; contentType: string }> {
 	const event = await supplierEvent(actor, id);
-	const sheet = sheetEvent(event, await listItems(db(), id));
+	const sheet = sheetEvent(event, await listItems(db(), id), await listCriteria(db(), id));
 	const base = `bid-sheet-${event.reference.replace(/[^A-Za-z0-9._-]/g, '_')}`;
 	return format === 'csv'
 		? {
@@ -156,9 +157,9 @@ export async function submitUpload(
 		})
 	);
 	try {
-		const items = await listItems(db(), id);
+		const [items, criteria] = await Promise.all([listItems(db(), id), listCriteria(db(), id)]);
 		const [reading] = await Promise.all([
-			readBidFile(sheetEvent(event, items), file),
+			readBidFile(sheetEvent(event, items, criteria), file),
 			putBidFile(key, file.bytes)
 		]);
 		if (!reading.outcome.ok) {
@@ -289,12 +290,19 @@ export async function submitScreen(
 	id: string,
 	entries: { item: string; cells: (string | null)[] }[],
 	capacity: string | null,
-	context: RequestContext
+	context: RequestContext,
+	/** Answers to the supplier-answered criteria, by criterion ref. */
+	answers: Record<string, string | null> = {}
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
 	const items = await listItems(db(), id);
-	const parsed = parseScreenPrices(sheetEvent(event, items), entries, capacity);
+	const parsed = parseScreenPrices(
+		sheetEvent(event, items, await listCriteria(db(), id)),
+		entries,
+		capacity,
+		answers
+	);
 	if (!parsed.ok)
 		return {
 			ok: false,

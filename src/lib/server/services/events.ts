@@ -44,6 +44,7 @@ import {
 	type EventMailContext
 } from '../mail/templates';
 import type { SheetEvent, SheetProblem } from '../sheets/bid-sheet';
+import type { Criterion } from '$lib/evaluation/criteria';
 import { readItemFile } from '../sheets/read-bid-file';
 import { COMMITMENT_SCHEME } from '../storage/sealed-files';
 import { appendTrail, canonicalJson, sha256, trailHead } from '../trail';
@@ -214,7 +215,7 @@ export async function updateDraft(actor: SessionUser, id: string, fields: EventF
 	});
 }
 
-async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
+export async function lockedDraft(trx: Db, actor: SessionUser, id: string): Promise<EventRow> {
 	const event = await lockedForBuyer(trx, actor, id);
 	if (event.state !== 'draft') {
 		throw new RuleViolation(
@@ -575,8 +576,10 @@ function trailFields(fields: EventFields) {
 	return { ...fields, deadline: fields.deadline.toISOString() };
 }
 
-export function sheetEvent(event: EventRow, items: ItemRow[]): SheetEvent {
+export function sheetEvent(event: EventRow, items: ItemRow[], criteria: Criterion[] = []): SheetEvent {
+	const answered = criteria.filter((c) => c.answeredBy === 'supplier');
 	return {
+		...(answered.length ? { criteria: answered.map(({ ref, name, unit }) => ({ ref, name, unit })) } : {}),
 		reference: event.reference,
 		title: event.title,
 		currency: event.currency,

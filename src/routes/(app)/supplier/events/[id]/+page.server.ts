@@ -27,6 +27,7 @@ export const load: PageServerLoad = async (event) => {
 			items,
 			// The columns a supplier types, after the item columns of the sheet.
 			priceColumns: priceColumns(sheet).slice(5),
+			criteria: sheet.criteria ?? [],
 			current: own.current ? bidJson(own.current) : null,
 			lastPriced: own.lastPriced ? bidJson(own.lastPriced) : null,
 			revisions: own.revisions.map((r) => ({
@@ -60,6 +61,11 @@ export const actions: Actions = {
 			return fail(400, { action: 'prices' as const, error: 'The price table could not be read.' });
 		}
 		const capacity = data.get('capacity');
+		const answers = Object.fromEntries(
+			[...data.entries()]
+				.filter(([name]) => name.startsWith('answer:'))
+				.map(([name, value]) => [name.slice('answer:'.length), typeof value === 'string' ? value : null])
+		);
 		return orFail(
 			async () => {
 				const outcome = await submitScreen(
@@ -67,7 +73,8 @@ export const actions: Actions = {
 					event.params.id,
 					entries,
 					typeof capacity === 'string' ? capacity : null,
-					requestContext(event)
+					requestContext(event),
+					answers
 				);
 				if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
 				return {
