@@ -148,3 +148,16 @@ export function rankReversals(bids: readonly ScoredBid[], priceWeight: number): 
 	}
 	return reversals;
 }
+
+/** The rule in words: "Each days above 5 adds 0.2% of the unit price". */
+export function describeCriterion(c: Criterion, money: (amount: number) => string): string {
+	const point = c.unit ? `${c.unit} ` : 'point ';
+	const side = c.direction === 'above' ? 'above' : 'below';
+	const adds =
+		c.basis === 'percent_of_price'
+			? `${c.rate}% of the unit price`
+			: c.basis === 'per_unit'
+				? `${money(c.rate)} per unit`
+				: `${money(c.rate)} once, if the supplier is awarded anything`;
+	return `Each ${point.trim()} ${side} ${c.threshold} adds ${adds}`;
+}

@@ -12,9 +12,9 @@ import {
 } from '$lib/evaluation/criteria';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
-import type { VisibleBid } from '../db/bids';
+import { visibleBids, type VisibleBid } from '../db/bids';
 import { insertScore, latestScores, listCriteria, replaceCriteria, type ScoreRow } from '../db/criteria';
-import { listInvitations } from '../db/events';
+import { listInvitations, listItems } from '../db/events';
 import { db } from '../db/knex';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
@@ -135,7 +135,7 @@ export interface SupplierEvaluation {
 /** Each live bid's values and money: its own answers, and the latest evaluators' scores. */
 export function evaluations(
 	criteria: Criterion[],
-	bids: VisibleBid[],
+	bids: Pick<VisibleBid, 'supplierOrganisationId' | 'supplierName' | 'source' | 'answers'>[],
 	scores: Pick<ScoreRow, 'criterion_ref' | 'supplier_organisation_id' | 'value'>[]
 ): SupplierEvaluation[] {
 	return bids
@@ -224,4 +224,69 @@ export function relativeView(
 		scores: scored.map((s) => ({ ...s, score: score.get(s.supplier)! })).sort((x, y) => y.score - x.score),
 		reversals: rankReversals(scored, priceWeight)
 	};
+}
+
+/** The criteria tab: the draft's criteria, and after the opening each supplier's answers, scores and money. */
+export async function criteriaPage(
+	user: SessionUser,
+	eventId: string,
+	view: { priceWeight: number; quality: string | null }
+) {
+	const event = await evaluationEvent(user, eventId);
+	const criteria = await listCriteria(db(), eventId);
+	const sealed = ['draft', 'open'].includes(effectiveState(event));
+	if (sealed) return { event, criteria, sealed: true as const };
+	const [bids, scores, items] = await Promise.all([
+		visibleBids(db(), eventId, user.organisationId, now()),
+		latestScores(db(), eventId),
+		listItems(db(), eventId)
+	]);
+	const list = evaluations(criteria, bids, scores);
+	const quality =
+		criteria.find((c) => c.ref === view.quality) ??
+		criteria.find((c) => c.answeredBy === 'evaluator') ??
+		criteria[0];
+	const points = new Map(
+		quality
+			? list.flatMap((e) =>
+					e.values[quality.ref] === undefined
+						? []
+						: [[e.supplierOrganisationId, e.values[quality.ref]!] as const]
+				)
+			: []
+	);
+	const quantities = new Map(items.map((i) => [i.ref, Number(i.quantity)]));
+	return {
+		event,
+		criteria,
+		sealed: false as const,
+		evaluations: list,
+		scores,
+		quality: quality?.ref ?? null,
+		relative: quality ? relativeView(bids, quantities, points, view.priceWeight) : null
+	};
+}
+
+/**
+ * Each supplier's total price over the items it bid, and its evaluated cost (price + the criteria's
+ * money: the percentage of the price, the amount per unit over the quantities bid, the amount once).
+ * Null where the event has no criteria.
+ */
+export async function evaluatedTotals(
+	eventId: string,
+	bids: Pick<VisibleBid, 'supplierOrganisationId' | 'supplierName' | 'source' | 'answers'>[],
+	totals: Map<string, { price: number; quantity: number }>
+) {
+	const [criteria, scores] = await Promise.all([listCriteria(db(), eventId), latestScores(db(), eventId)]);
+	if (!criteria.length) return null;
+	return evaluations(criteria, bids, scores).map((e) => {
+		const total = totals.get(e.supplierOrganisationId) ?? { price: 0, quantity: 0 };
+		const a = e.adjustment;
+		return {
+			supplierName: e.supplierName,
+			price: total.price,
+			evaluated: total.price * (1 + a.percentOfPrice / 100) + a.perUnit * total.quantity + a.perSupplier,
+			missing: e.missing
+		};
+	});
 }
