@@ -31,6 +31,8 @@ export interface ParsedBid {
 	bundles: { ref: string; price: number; items: { item: string; quantity: number }[] }[];
 	/** The ISO 4217 code every price of the bid is in, when not the event currency (absent: the event's). */
 	currency?: string;
+	/** Answers to the event's supplier-answered criteria, by criterion ref; absent when it has none. */
+	answers?: Record<string, number>;
 }
 
 /** One problem found in a file, with where it is. */

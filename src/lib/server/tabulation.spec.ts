@@ -34,6 +34,7 @@ const bid = (id: string, lines: VisibleBid['lines'], more: Partial<VisibleBid> =
 	currency: 'EUR',
 	lines,
 	bundles: [],
+	answers: {},
 	...more
 });
 

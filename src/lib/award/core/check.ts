@@ -233,7 +233,9 @@ export function allocationCost(problem: AwardProblem, lines: AwardLine[]): numbe
 	let total = lines.reduce((a, l) => a + l.cost, 0);
 	for (const rule of problem.rules) {
 		if (rule.type !== 'award_fixed_cost') continue;
-		const awarded = lines.filter((l) => l.quantity > TOLERANCE);
+		const awarded = lines.filter(
+			(l) => l.quantity > TOLERANCE && (!rule.who || l.supplier === rule.who.supplier)
+		);
 		total +=
 			rule.amount *
 			(rule.per === 'supplier'

@@ -60,6 +60,8 @@ export function describeRule(rule: AwardRule, currency = ''): string {
 		case 'fixed_quantity':
 			return `${rule.who.supplier} gets exactly ${rule.quantity} of item ${rule.scope.item}`;
 		case 'award_fixed_cost':
+			if (rule.who)
+				return `${rule.who.supplier} adds ${money(rule.amount)} if awarded anything${rule.per === 'supplier' ? '' : ' (per item won)'}`;
 			return rule.per === 'supplier'
 				? `Each supplier awarded anything adds ${money(rule.amount)} for its contract`
 				: `Each item awarded to a supplier adds ${money(rule.amount)} for that award`;

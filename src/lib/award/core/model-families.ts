@@ -384,7 +384,7 @@ export function fixedQuantities(ctx: ModelContext, rule: RuleOf<'fixed_quantity'
 export function fixedCosts(ctx: ModelContext, rule: RuleOf<'award_fixed_cost'>): void {
 	// The cost array is read after each indicator is made: making a column may grow it.
 	const all = ctx.coveredItems.map((i) => i.ref);
-	for (const s of ctx.everyone) {
+	for (const s of rule.who ? [rule.who.supplier] : ctx.everyone) {
 		if (rule.per === 'supplier_item') {
 			for (const i of all) {
 				const y = winIndicator(ctx, s, i);

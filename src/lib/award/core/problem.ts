@@ -31,6 +31,8 @@ export const whoSchema = z.union([
 ]);
 
 const label = z.string().max(300).optional();
+/** The price before the money of non-price criteria (evaluation/criteria.ts): for pages; the engine ignores it. */
+const priceBeforeCriteria = nonNegative.optional();
 
 const shareRule = {
 	label,
@@ -88,7 +90,9 @@ export const ruleSchema = z.discriminatedUnion('type', [
 			type: z.literal('award_fixed_cost'),
 			label,
 			amount: nonNegative,
-			per: z.enum(['supplier', 'supplier_item'])
+			per: z.enum(['supplier', 'supplier_item']),
+			// One supplier's own cost (its money-valued criteria); absent: every supplier's.
+			who: z.object({ supplier: ref }).strict().optional()
 		})
 		.strict()
 ]);
@@ -139,8 +143,13 @@ export const problemSchema = z
 					maxQuantity: positive.optional(),
 					packSize: positive.optional(),
 					priceBreaks: z
-						.array(z.object({ fromQuantity: positive, unitPrice: nonNegative }).strict())
-						.optional()
+						.array(
+							z
+								.object({ fromQuantity: positive, unitPrice: nonNegative, priceBeforeCriteria })
+								.strict()
+						)
+						.optional(),
+					priceBeforeCriteria
 				})
 				.strict()
 		),
@@ -151,6 +160,7 @@ export const problemSchema = z
 						ref,
 						supplier: ref,
 						price: nonNegative,
+						priceBeforeCriteria,
 						items: z
 							.array(z.object({ item: ref, quantity: positive }).strict())
 							.min(1, 'must list at least one item')

@@ -2,6 +2,7 @@
 // through the database function visible_bid_revisions(event, viewer organisation, now): a supplier sees
 // its own, the buying organisation sees every bid once the deadline has passed, and nobody else anything.
 import type { ParsedBid, SheetProblem } from '../shapes';
+import { answersOf, insertAnswers } from './criteria';
 import type { Db } from './knex';
 
 export interface UploadRow {
@@ -282,6 +283,7 @@ export async function insertRevision(
 			}))
 		);
 	}
+	if (bid.answers) await insertAnswers(db, row!.id, bid.answers);
 	return row!;
 }
 
@@ -356,6 +358,8 @@ export interface VisibleBid {
 		priceBreaks: { fromQuantity: string; unitPrice: string }[];
 	}[];
 	bundles: { ref: string; price: string; items: { item: string; quantity: string }[] }[];
+	/** The revision's answers to the event's supplier-answered criteria, by criterion ref. */
+	answers: Record<string, number>;
 }
 
 interface PricedLineRow {
@@ -416,7 +420,7 @@ export async function visibleBids(
 	if (!rows.length) return [];
 	const ids = rows.map((r) => r.id);
 	const { itemIds } = options;
-	const [lines, breaks, bundles] = await Promise.all([
+	const [lines, breaks, bundles, answers] = await Promise.all([
 		db('bid_lines as l')
 			.join('items as i', 'i.id', 'l.item_id')
 			.whereIn('l.revision_id', ids)
@@ -440,7 +444,8 @@ export async function visibleBids(
 					.join('items as i', 'i.id', 'bi.item_id')
 					.whereIn('b.revision_id', ids)
 					.select('b.id', 'b.revision_id', 'b.ref', 'b.price', 'i.ref as item', 'bi.quantity')
-					.orderBy(['b.ref', 'i.position']) as Promise<BundleItemRow[]>)
+					.orderBy(['b.ref', 'i.position']) as Promise<BundleItemRow[]>),
+		answersOf(db, ids)
 	]);
 	const breaksOf = new Map<string, { fromQuantity: string; unitPrice: string }[]>();
 	for (const b of breaks) {
@@ -476,7 +481,8 @@ export async function visibleBids(
 					packSize: l.pack_size,
 					priceBreaks: breaksOf.get(l.id) ?? []
 				})),
-			bundles: [...offers.values()]
+			bundles: [...offers.values()],
+			answers: answers.get(r.id) ?? {}
 		};
 	});
 }

@@ -11,6 +11,7 @@ const bid = (supplier: string, currency: string, over: Partial<VisibleBid> = {})
 	source: 'upload',
 	capacity: null,
 	currency,
+	answers: {},
 	lines: [],
 	bundles: [],
 	...over

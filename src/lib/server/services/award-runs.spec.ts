@@ -24,6 +24,7 @@ const bid = (supplier: string, over: Partial<VisibleBid> = {}): VisibleBid => ({
 	currency: 'EUR',
 	lines: [],
 	bundles: [],
+	answers: {},
 	...over
 });
 

@@ -2,6 +2,8 @@
 // the plan's rules into an award problem, stores it with its SHA-256 and queues its solve (pg-boss queue
 // "award-run", sent in the same transaction as the run row: a run is queued with its job or not at all).
 import { parseProblem, type AwardProblem, type AwardRule } from '$lib/award/core/problem';
+import type { Adjustment } from '$lib/evaluation/criteria';
+import { withCriteria } from '$lib/evaluation/apply-criteria';
 import { namesById, rulesBySupplierName } from '$lib/plan-suppliers';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -23,6 +25,7 @@ import type { ManualChange, RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
+import { runAdjustments } from './criteria';
 import { RuleViolation } from './errors';
 import { effectiveState } from './events';
 
@@ -62,7 +65,9 @@ export function snapshotProblem(
 		/** The event's exchange rates: a bid in another currency is converted before the adders. */
 		rates?: readonly EventRate[];
 	},
-	rules: AwardRule[]
+	rules: AwardRule[],
+	/** Money of the non-price criteria by supplier name (services/criteria.ts); none: prices as bid. */
+	adjustments: ReadonlyMap<string, Adjustment> = new Map()
 ): AwardProblem {
 	const { items, bids, invitations } = rows;
 	const tagsOf = new Map(invitations.map((i) => [i.supplier_organisation_id, i.tags]));
@@ -73,7 +78,7 @@ export function snapshotProblem(
 	// A price in the bid's currency, in the event's (six decimals), before the adders of the event currency.
 	const inEventCurrency = (b: VisibleBid, price: string) =>
 		convertPrice(Number(price), rateOf.get(b.supplierName)!);
-	return {
+	const problem = {
 		currency: event.currency,
 		items: items.map((i) => ({
 			ref: i.ref,
@@ -124,6 +129,7 @@ export function snapshotProblem(
 		),
 		rules
 	} as AwardProblem;
+	return withCriteria(problem, adjustments, adderOf);
 }
 
 /** The fixed rate of a bid's currency; a bid in a currency the event does not allow cannot be run. */
@@ -162,7 +168,8 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
 	if (!named.ok)
 		throw new RuleViolation(`The plan does not fit the bids: ${named.problems.join('; ')}`, undefined, 422);
-	const problem = snapshotProblem(event, { items, bids, invitations, rates }, named.rules);
+	const adjustments = await runAdjustments(event.id, bids);
+	const problem = snapshotProblem(event, { items, bids, invitations, rates }, named.rules, adjustments);
 	const parsed = parseProblem(problem);
 	if (!parsed.ok)
 		throw new RuleViolation(

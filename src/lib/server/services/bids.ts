@@ -21,6 +21,7 @@ import {
 	type UploadRow,
 	type VisibleBid
 } from '../db/bids';
+import { listCriteria } from '../db/criteria';
 import { holdEvent, listItems, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
 import { enqueueMail } from '../jobs/queue';
@@ -61,7 +62,12 @@ export async function bidSheet(
 	format: 'xlsx' | 'csv'
 ): Promise<{ body: Buffer; fileName: string; contentType: string }> {
 	const event = await supplierEvent(actor, id);
-	const sheet = sheetEvent(event, await listItems(db(), id), await listRates(db(), id));
+	const sheet = sheetEvent(
+		event,
+		await listItems(db(), id),
+		await listRates(db(), id),
+		await listCriteria(db(), id)
+	);
 	const base = `bid-sheet-${event.reference.replace(/[^A-Za-z0-9._-]/g, '_')}`;
 	return format === 'csv'
 		? {
@@ -157,9 +163,9 @@ export async function submitUpload(
 		})
 	);
 	try {
-		const items = await listItems(db(), id);
+		const [items, criteria] = await Promise.all([listItems(db(), id), listCriteria(db(), id)]);
 		const [reading] = await Promise.all([
-			readBidFile(sheetEvent(event, items, await listRates(db(), id)), file),
+			readBidFile(sheetEvent(event, items, await listRates(db(), id), criteria), file),
 			putBidFile(key, file.bytes)
 		]);
 		if (!reading.outcome.ok) {
@@ -292,16 +298,19 @@ export async function submitScreen(
 	capacity: string | null,
 	context: RequestContext,
 	/** The currency of the whole on-screen bid, for events that allow others; null: the event's. */
-	currency: string | null = null
+	currency: string | null = null,
+	/** Answers to the supplier-answered criteria, by criterion ref. */
+	answers: Record<string, string | null> = {}
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
 	refuseUnlessOpen(event);
 	const items = await listItems(db(), id);
 	const parsed = parseScreenPrices(
-		sheetEvent(event, items, await listRates(db(), id)),
+		sheetEvent(event, items, await listRates(db(), id), await listCriteria(db(), id)),
 		entries,
 		capacity,
-		currency
+		currency,
+		answers
 	);
 	if (!parsed.ok)
 		return {

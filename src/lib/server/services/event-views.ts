@@ -20,6 +20,7 @@ import {
 import { db } from '../db/knex';
 import { now } from '../clock';
 import type { SheetEvent } from '../sheets/bid-sheet';
+import { listCriteria } from '../db/criteria';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, sheetEvent } from './events';
 
@@ -84,7 +85,12 @@ export async function itemsFor(user: SessionUser, id: string): Promise<ItemJson[
 /** The event as its bid sheet describes it (terms and items), for whoever may see the event. */
 export async function eventSheet(user: SessionUser, id: string): Promise<SheetEvent> {
 	const { event } = await eventFor(user, id);
-	return sheetEvent(event, await listItems(db(), id), await listRates(db(), id));
+	return sheetEvent(
+		event,
+		await listItems(db(), id),
+		await listRates(db(), id),
+		await listCriteria(db(), id)
+	);
 }
 
 /**
@@ -242,6 +248,7 @@ export function bidJson(bid: VisibleBid) {
 			ref: b.ref,
 			price: Number(b.price),
 			items: b.items.map((i) => ({ item: i.item, quantity: Number(i.quantity) }))
-		}))
+		})),
+		answers: bid.answers
 	};
 }

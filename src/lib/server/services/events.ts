@@ -46,6 +46,7 @@ import {
 	type EventMailContext
 } from '../mail/templates';
 import type { SheetEvent, SheetProblem } from '../sheets/bid-sheet';
+import type { Criterion } from '$lib/evaluation/criteria';
 import { readItemFile } from '../sheets/read-bid-file';
 import { COMMITMENT_SCHEME } from '../storage/sealed-files';
 import { appendTrail, canonicalJson, sha256, trailHead } from '../trail';
@@ -601,9 +602,16 @@ function trailFields(fields: EventFields) {
 	return { ...fields, deadline: fields.deadline.toISOString() };
 }
 
-export function sheetEvent(event: EventRow, items: ItemRow[], rates: EventRate[] = []): SheetEvent {
+export function sheetEvent(
+	event: EventRow,
+	items: ItemRow[],
+	rates: EventRate[] = [],
+	criteria: Criterion[] = []
+): SheetEvent {
+	const answered = criteria.filter((c) => c.answeredBy === 'supplier');
 	return {
 		bidCurrencies: allowedCurrencies(event.currency, rates).slice(1),
+		...(answered.length ? { criteria: answered.map(({ ref, name, unit }) => ({ ref, name, unit })) } : {}),
 		reference: event.reference,
 		title: event.title,
 		currency: event.currency,

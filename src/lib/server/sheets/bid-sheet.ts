@@ -6,6 +6,14 @@ import { parse as parseCsv } from 'csv-parse/sync';
 import { countedWhole } from '$lib/award/core/units';
 import { formatTime } from '$lib/format';
 import type { BidLine, ParsedBid, SheetProblem } from '../shapes';
+import {
+	addCriteriaSheet,
+	CRITERIA_COLUMNS,
+	CRITERIA_SHEET,
+	criteriaRows,
+	readCriteriaRows,
+	type SheetCriterion
+} from './criteria-block';
 
 export interface SheetItem {
 	ref: string;
@@ -32,6 +40,8 @@ export interface SheetEvent {
 	/** The other currencies a bid may use (ISO 4217), each at a rate fixed by the buyer; absent or empty: none. */
 	bidCurrencies?: string[];
 	items: SheetItem[];
+	/** The evaluation criteria the supplier answers (criteria-block.ts); absent or empty: none. */
+	criteria?: SheetCriterion[];
 }
 
 export type { BidLine, ParsedBid, SheetProblem } from '../shapes';
@@ -112,6 +122,9 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 			? 'You may give a pack size per item: you are then awarded whole packs only (a multiple of the pack size). For an item counted in whole units (such as C62 or PR) it must be a whole number.'
 			: '',
 		orderedInMultiples(event.items),
+		event.criteria?.length
+			? `Answer every criterion on the "${CRITERIA_SHEET}" sheet: the buyer turns each answer into money added to your prices when comparing bids.`
+			: '',
 		event.allowBundles
 			? 'You may offer bundles (all or nothing) on the "Bundles" sheet: one row per item of the bundle, its price on the first row.'
 			: '',
@@ -190,6 +203,7 @@ export async function buildBidSheet(event: SheetEvent, supplierName: string): Pr
 		};
 		bundles.columns.forEach((column) => (column.width = 20));
 	}
+	if (event.criteria?.length) await addCriteriaSheet(workbook, event.criteria, neutralise);
 	return Buffer.from(await workbook.xlsx.writeBuffer());
 }
 
@@ -200,7 +214,8 @@ export function buildBidCsv(event: SheetEvent): string {
 	};
 	const rows = [
 		priceColumns(event),
-		...event.items.map((i) => [i.ref, i.description, i.lot ?? '', i.unit, i.quantity])
+		...event.items.map((i) => [i.ref, i.description, i.lot ?? '', i.unit, i.quantity]),
+		...(event.criteria?.length ? criteriaRows(event.criteria).map((r) => r.map((c) => c ?? '')) : [])
 	];
 	return `${rows.map((r) => r.map(quote).join(',')).join('\r\n')}\r\n`;
 }
@@ -567,6 +582,11 @@ export async function parseBidWorkbook(event: SheetEvent, bytes: Buffer): Promis
 			});
 		}
 	}
+	let answers: Record<string, number> | undefined;
+	if (event.criteria?.length) {
+		const sheet = workbook.getWorksheet(CRITERIA_SHEET);
+		answers = readAnswers(event.criteria, CRITERIA_SHEET, sheet ? rowsOf(sheet, 4) : [], 1, problems);
+	}
 	if (!problems.list.length && !lines.length && !bundles.length) {
 		problems.add(
 			SHEETS.prices,
@@ -577,7 +597,10 @@ export async function parseBidWorkbook(event: SheetEvent, bytes: Buffer): Promis
 	}
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity, bundles, ...currencyOf(event, inCurrency) } };
+		: {
+				ok: true,
+				bid: { lines, capacity, bundles, ...currencyOf(event, inCurrency), ...(answers ? { answers } : {}) }
+			};
 }
 
 export function parseBidCsv(event: SheetEvent, text: string): ParseOutcome {
@@ -599,14 +622,46 @@ export function parseBidCsv(event: SheetEvent, text: string): ParseOutcome {
 		};
 	}
 	// Every CSV cell is text: a leading = + - @ is data here, never a formula.
-	const rows: Cell[][] = records.map((r) => r.map((c) => (c.trim() === '' ? null : c.trim())));
+	const all: Cell[][] = records.map((r) => r.map((c) => (c.trim() === '' ? null : c.trim())));
+	// The criteria block, where the event has criteria, starts at its own header row after the items.
+	const block = event.criteria?.length ? all.findIndex((r) => r[0] === CRITERIA_COLUMNS[0]) : -1;
+	const rows = block >= 0 ? all.slice(0, block) : all;
+	const answers = event.criteria?.length
+		? readAnswers(event.criteria, 'CSV', block >= 0 ? all.slice(block) : [], block + 1, problems)
+		: undefined;
 	const inCurrency: { currency?: string } = {};
 	const lines = readPriceRows(event, 'CSV', rows, problems, inCurrency);
 	if (!problems.list.length && !lines.length)
 		problems.add('CSV', null, null, 'the file has no prices: enter a unit price for at least one item');
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity: null, bundles: [], ...currencyOf(event, inCurrency) } };
+		: {
+				ok: true,
+				bid: {
+					lines,
+					capacity: null,
+					bundles: [],
+					...currencyOf(event, inCurrency),
+					...(answers ? { answers } : {})
+				}
+			};
+}
+
+function readAnswers(
+	criteria: SheetCriterion[],
+	sheet: string,
+	rows: Cell[][],
+	firstRow: number,
+	problems: Problems
+): Record<string, number> {
+	return readCriteriaRows(
+		criteria,
+		sheet,
+		rows,
+		firstRow,
+		(row, column, value) => numberIn(problems, sheet, row, column, value, {}),
+		(row, column, message) => problems.add(sheet, row, column, message)
+	);
 }
 
 /** The bid's currency when it is not the event's (ParsedBid.currency is absent for the event currency). */
@@ -625,7 +680,9 @@ export function parseScreenPrices(
 	entries: { item: string; cells: (string | null)[] }[],
 	capacity: string | null,
 	/** The currency chosen for the whole on-screen bid (events with other currencies); empty: the event's. */
-	currency: string | null = null
+	currency: string | null = null,
+	/** Typed answers to the criteria, by criterion ref. */
+	typedAnswers: Record<string, string | null> = {}
 ): ParseOutcome {
 	const problems = new Problems();
 	const columns = priceColumns(event);
@@ -641,6 +698,17 @@ export function parseScreenPrices(
 	];
 	const inCurrency: { currency?: string } = {};
 	const lines = readPriceRows(event, SCREEN_SHEET, rows, problems, inCurrency);
+	const answers = event.criteria?.length
+		? readAnswers(
+				event.criteria,
+				SCREEN_SHEET,
+				criteriaRows(event.criteria).map((r, i) =>
+					i === 0 ? r : [...r.slice(0, 3), typedAnswers[String(r[0])]?.trim() || null]
+				),
+				event.items.length + 2,
+				problems
+			)
+		: undefined;
 	const capacityValue =
 		event.allowCapacity && capacity !== null && capacity.trim() !== ''
 			? numberIn(problems, SCREEN_SHEET, null, 'Capacity', capacity.trim(), {})
@@ -649,5 +717,14 @@ export function parseScreenPrices(
 		problems.add(SCREEN_SHEET, null, null, 'enter a unit price for at least one item');
 	return problems.list.length
 		? { ok: false, problems: problems.list }
-		: { ok: true, bid: { lines, capacity: capacityValue, bundles: [], ...currencyOf(event, inCurrency) } };
+		: {
+				ok: true,
+				bid: {
+					lines,
+					capacity: capacityValue,
+					bundles: [],
+					...currencyOf(event, inCurrency),
+					...(answers ? { answers } : {})
+				}
+			};
 }

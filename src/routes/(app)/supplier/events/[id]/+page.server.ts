@@ -33,6 +33,7 @@ export const load: PageServerLoad = async (event) => {
 				.slice(5)
 				.filter((c) => c !== CURRENCY_COLUMN),
 			rates,
+			criteria: sheet.criteria ?? [],
 			current: own.current ? bidJson(own.current) : null,
 			lastPriced: own.lastPriced ? bidJson(own.lastPriced) : null,
 			revisions: own.revisions.map((r) => ({
@@ -67,6 +68,11 @@ export const actions: Actions = {
 		}
 		const capacity = data.get('capacity');
 		const currency = data.get('currency');
+		const answers = Object.fromEntries(
+			[...data.entries()]
+				.filter(([name]) => name.startsWith('answer:'))
+				.map(([name, value]) => [name.slice('answer:'.length), typeof value === 'string' ? value : null])
+		);
 		return orFail(
 			async () => {
 				const outcome = await submitScreen(
@@ -75,7 +81,8 @@ export const actions: Actions = {
 					entries,
 					typeof capacity === 'string' ? capacity : null,
 					requestContext(event),
-					typeof currency === 'string' ? currency : null
+					typeof currency === 'string' ? currency : null,
+					answers
 				);
 				if (!outcome.ok) return fail(422, { problems: outcome.problems, problemCount: outcome.problemCount });
 				return {
