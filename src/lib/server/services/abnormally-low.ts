@@ -15,7 +15,7 @@ import { describeFlag, lowPriceFlags } from '../low-price-flags';
 import type { Tabulated } from '../tabulation';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
-import { buyerName, effectiveState, eventMail } from './events';
+import { buyerName, eventMail } from './events';
 import { staffTabulation } from './tabulation';
 import type { RequestContext } from './users';
 
