@@ -99,7 +99,7 @@ describe('screenBids', () => {
 			'50 % below the baseline (10.00)'
 		);
 		expect(describeLowReason({ rule: 'median', median: 10.5, others: 3, below: 1 - 5 / 10.5 }, money)).toBe(
-			'47.6 % below the median of the 3 other bids (10.50)'
+			'52.4 % below the median of the 3 other bids (10.50)'
 		);
 	});
 });

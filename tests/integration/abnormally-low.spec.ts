@@ -87,10 +87,10 @@ describe('abnormally low bids', () => {
 			(m) => textOf(m[1]!)
 		);
 		expect(rows).toHaveLength(1);
-		// 1 − 5/10.5 = 47.6 % below the median 10.50; 1 − 5/10 = 50 % below the baseline 10.00 (by hand, above).
+		// 1 − 5/10.5 = 52.4 % below the median 10.50; 1 − 5/10 = 50 % below the baseline 10.00 (by hand, above).
 		expect(rows[0]).toContain(D().name);
 		expect(rows[0]).toContain('line IT-1');
-		expect(rows[0]).toContain('47.6 % below the median of the 3 other bids');
+		expect(rows[0]).toContain('52.4 % below the median of the 3 other bids');
 		expect(rows[0]).toContain('50 % below the baseline');
 	});
 
