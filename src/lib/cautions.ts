@@ -8,7 +8,9 @@ export const cautions = {
 	rankReversal:
 		'Relative price-scoring formulas can reverse the ranking of two bids when a third bid is added or removed. Prefer money-valued adjustments or absolute scores.',
 	lateRuleChange:
-		'Changing award rules after bids are in must be justified, is recorded in the decision trail, and may be open to challenge.'
+		'Changing award rules after bids are in must be justified, is recorded in the decision trail, and may be open to challenge.',
+	abnormallyLow:
+		'A price flagged as abnormally low is a reason to ask, not to reject: ask the supplier to explain it in writing first, and reject only with a reasoned decision (EU Directive 2014/24/EU Art. 69). The screen is a statistical rule of thumb, not a legal threshold; defer to your procurement law and counsel.'
 } as const;
 
 export type CautionKey = keyof typeof cautions;

@@ -200,6 +200,8 @@ export async function insertRun(
 		createdBy: number;
 		adjustedFrom?: string;
 		adjustments?: ManualChange[];
+		/** Exclusions of abnormally low lines or bids the problem was built without. */
+		excluded?: unknown[];
 	}
 ): Promise<RunRow> {
 	const [row] = await db('award_runs')
@@ -214,7 +216,8 @@ export async function insertRun(
 			options: JSON.stringify(run.options),
 			created_by: run.createdBy,
 			adjusted_from: run.adjustedFrom ?? null,
-			adjustments: run.adjustments ? JSON.stringify(run.adjustments) : null
+			adjustments: run.adjustments ? JSON.stringify(run.adjustments) : null,
+			...(run.excluded ? { excluded: JSON.stringify(run.excluded) } : {})
 		})
 		.returning('*');
 	return row as RunRow;

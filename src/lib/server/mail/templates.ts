@@ -70,7 +70,7 @@ export const trailHeadLine = (reference: string, head: TrailHead) =>
 	`Decision trail of ${reference} at this moment: newest entry SHA-256 ${head.hash}. Keep this message: it lets an auditor check that the trail was not cut short or rewritten afterwards.`;
 
 /** A plain notice: paragraphs and one link. Values are escaped by the layout. */
-function notice(
+export function notice(
 	to: string,
 	subject: string,
 	lines: string[],

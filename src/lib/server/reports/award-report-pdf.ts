@@ -210,6 +210,15 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 			'Manual changes'
 		);
 
+	if (report.excluded?.length) {
+		pdf.heading('Excluded as abnormally low');
+		pdf.paragraph(
+			'The run was built without these lines or bids; each exclusion, the explanation asked for and the answer are in the decision trail (EU Directive 2014/24/EU Art. 69).'
+		);
+		for (const x of report.excluded)
+			pdf.paragraph(`${x.supplier}, ${x.item === null ? 'whole bid' : `line ${x.item}`}: ${x.reason}`);
+	}
+
 	pdf.heading('Sign-off');
 	pdf.paragraph(
 		`The sign-off is bound to the SHA-256 of the run's problem hash followed by its result hash. Problem: ${run.problemSha256}. Result: ${run.resultSha256 ?? '—'}.`,

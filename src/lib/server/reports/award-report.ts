@@ -6,6 +6,7 @@ import type { SupplierTotal, AwardLine } from '$lib/award/core/result';
 import { formatQuantity } from '$lib/format';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
+import { runExclusions, type RunExclusion } from '../db/abnormally-low';
 import * as awards from '../db/awards';
 import {
 	isSubmittedOrApproved,
@@ -120,6 +121,8 @@ export interface AwardReport {
 		| { sameRun: false; runId: string; number: number; totalCost: number; difference: number; share: number }
 		| null;
 	changes: ManualChange[];
+	/** Lines or whole bids excluded as abnormally low that the run's problem was built without. */
+	excluded?: RunExclusion[];
 	signoffs: ReportSignoff[];
 	notices: ReportNotice[];
 	trailHead: { seq: number; hash: string } | null;
@@ -150,13 +153,14 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 		);
 	const plans = await awards.listPlans(db(), event.id);
 	const lowestPlan = plans.find((p) => p.lowest_cost);
-	const [signoffs, notices, tabulation, lowestRunId, names, adjustedFrom] = await Promise.all([
+	const [signoffs, notices, tabulation, lowestRunId, names, adjustedFrom, excluded] = await Promise.all([
 		listRunSignoffs(db(), run.id),
 		listRunNotices(db(), run.id),
 		staffTabulation(user, event.id),
 		lowestPlan ? latestUsableRunOfPlan(db(), lowestPlan.id) : undefined,
 		userNames(db(), [run.created_by]),
-		run.adjusted_from ? awards.findRunView(db(), run.adjusted_from) : undefined
+		run.adjusted_from ? awards.findRunView(db(), run.adjusted_from) : undefined,
+		runExclusions(db(), run.id)
 	]);
 	const lowestRun =
 		lowestRunId && lowestRunId !== run.id ? await awards.findRunView(db(), lowestRunId) : undefined;
@@ -252,6 +256,7 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 						}
 					: null,
 		changes: run.adjustments ?? [],
+		excluded: excluded ?? [],
 		signoffs: signoffs.map((s) => ({
 			submittedBy: s.submitted_by_name ?? `user ${s.submitted_by}`,
 			submittedAt: s.submitted_at,

@@ -7,6 +7,7 @@ import { withCriteria } from '$lib/evaluation/apply-criteria';
 import { namesById, rulesBySupplierName } from '$lib/plan-suppliers';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
+import type { RunExclusion } from '../db/abnormally-low';
 import * as awards from '../db/awards';
 import { visibleBids, type VisibleBid } from '../db/bids';
 import { listRates } from '../db/currencies';
@@ -24,6 +25,7 @@ import { db, type Db } from '../db/knex';
 import type { ManualChange, RunRow, RunView } from '../db/tables';
 import { QUEUES, sendJob } from '../jobs/queue';
 import { appendTrail, canonicalJson, sha256 } from '../trail';
+import { exclusionsForRun, withoutExcluded } from './abnormally-low';
 import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
 import { runAdjustments } from './criteria';
 import { RuleViolation } from './errors';
@@ -158,12 +160,15 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			409
 		);
 	if (event.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
-	const [items, bids, invitations, rates] = await Promise.all([
+	const [items, allBids, invitations, rates] = await Promise.all([
 		listItems(db(), event.id),
 		visibleBids(db(), event.id, event.organisation_id, now()),
 		listInvitations(db(), event.id),
 		listRates(db(), event.id)
 	]);
+	// Lines and bids the buyer excluded (abnormally low) stay out of the problem; the run records them.
+	const excluded = await exclusionsForRun(event.id, namesById(invitedSuppliers(invitations)));
+	const bids = withoutExcluded(allBids, excluded.standing);
 	// The plan names suppliers by organisation id, the engine by name (snapshotProblem's refs).
 	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
 	if (!named.ok)
@@ -177,7 +182,7 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			undefined,
 			422
 		);
-	return queueRun(user, event, { id: plan.id, name: plan.name }, problem);
+	return queueRun(user, event, { id: plan.id, name: plan.name }, problem, undefined, excluded.recorded);
 }
 
 /**
@@ -189,7 +194,8 @@ export async function queueRun(
 	event: EventRow,
 	plan: { id: string; name: string },
 	problem: AwardProblem,
-	adjusted?: { from: RunView; changes: ManualChange[] }
+	adjusted?: { from: RunView; changes: ManualChange[] },
+	excluded: RunExclusion[] = []
 ): Promise<RunRow> {
 	const problemHash = sha256(canonicalJson(problem));
 	return db().transaction(async (trx) => {
@@ -205,7 +211,8 @@ export async function queueRun(
 			problemSha256: problemHash,
 			options: RUN_OPTIONS,
 			createdBy: user.id,
-			...(adjusted ? { adjustedFrom: adjusted.from.id, adjustments: adjusted.changes } : {})
+			...(adjusted ? { adjustedFrom: adjusted.from.id, adjustments: adjusted.changes } : {}),
+			...(excluded.length ? { excluded } : {})
 		});
 		if (locked.state === 'closed' || (locked.state === 'open' && effectiveState(locked) === 'closed'))
 			await setEventState(trx, event.id, 'in_evaluation');
@@ -219,7 +226,8 @@ export async function queueRun(
 				plan: plan.name,
 				problemSha256: problemHash,
 				options: RUN_OPTIONS,
-				...(adjusted ? { adjustedFrom: adjusted.from.number, changes: adjusted.changes } : {})
+				...(adjusted ? { adjustedFrom: adjusted.from.number, changes: adjusted.changes } : {}),
+				...(excluded.length ? { excluded } : {})
 			}
 		});
 		await sendJob(trx, QUEUES.awardRun, { runId: run.id } satisfies AwardRunJob, {

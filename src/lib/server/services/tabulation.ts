@@ -7,6 +7,7 @@ import { now } from '../clock';
 import { listSubmissions, visibleBids, type Submission } from '../db/bids';
 import { listItems, type EventRow } from '../db/events';
 import { db } from '../db/knex';
+import { describeFlag, lowPriceFlags } from '../low-price-flags';
 import {
 	tabulate,
 	viewTabulation,
@@ -94,6 +95,12 @@ export function tabulationPage(tab: Tabulated, view: TabulationView, currency: s
 	const columns = tab.suppliers.flatMap((s, c) => (s.withdrawn ? [] : [c]));
 	const money = (v: number) => formatMoney(v, currency);
 	const unitPrice = (v: number) => formatUnitPrice(v, currency);
+	// Abnormally low lines (the screen of low-price-flags.ts), by cell.
+	const low = new Map(
+		lowPriceFlags(tab).flatMap((f) =>
+			f.row === null ? [] : [[f.row * width + f.column, describeFlag(f, currency)]]
+		)
+	);
 	return {
 		columns: columns.map((c) => ({ id: tab.suppliers[c]!.id, name: tab.suppliers[c]!.name })),
 		rows: view.rows.map((r) => {
@@ -127,6 +134,7 @@ export function tabulationPage(tab: Tabulated, view: TabulationView, currency: s
 					return {
 						price: unitPrice(price),
 						lowest: item.lowestBy.includes(c),
+						low: low.get(r * width + c) ?? null,
 						change:
 							against && !(compared === 'lowest' && item.lowestBy.includes(c))
 								? formatChange((price - against) / against)

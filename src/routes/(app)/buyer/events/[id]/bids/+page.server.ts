@@ -2,6 +2,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/services/reminders';
+import { lowPriceSummary } from '$lib/server/services/abnormally-low';
 import { staffTabulation, tabulationView } from '$lib/server/services/tabulation';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -22,7 +23,8 @@ export const load: PageServerLoad = async (event) => {
 	return {
 		sealed: false as const,
 		submissions,
-		...tabulationView(found.tab, event.url.searchParams, found.event.currency)
+		...tabulationView(found.tab, event.url.searchParams, found.event.currency),
+		lowPrices: lowPriceSummary(found.tab, found.event.currency)
 	};
 };
 

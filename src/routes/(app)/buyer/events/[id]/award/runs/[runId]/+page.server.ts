@@ -2,6 +2,7 @@ import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { hasAwardReport } from '$lib/server/reports/award-report';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { runLowPrices } from '$lib/server/services/abnormally-low';
 import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
@@ -10,7 +11,9 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
 	const { run } = await orErrorPage(event, () => findRunView(user, event.params.runId, event.params.id));
+	const lowPrices = await orErrorPage(event, () => runLowPrices(user, event.params.id, run));
 	const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
+	if (lowPrices.flags.length || lowPrices.excluded.length) cautions.push('abnormallyLow');
 	// An adjusted run links to the run it was changed from (one the same user may see).
 	const from = run.adjusted_from
 		? await findRunView(user, run.adjusted_from, event.params.id).then(
@@ -23,6 +26,7 @@ export const load: PageServerLoad = async (event) => {
 		: null;
 	return {
 		adjustedFrom: from,
+		lowPrices,
 		run: runPageJson(run),
 		firstPage: run.status === 'done' ? allocationPage(run.result) : null,
 		cautions,
