@@ -61,7 +61,7 @@ beforeAll(async () => {
 		aBidder(),
 		aBidder()
 	]);
-	deadline = new Date(Date.now() + 30_000);
+	deadline = new Date(Date.now() + 20_000);
 	// Two items: IT-1 100 units, IT-2 200 units (the fixture's quantities).
 	event = await anOpenEvent({
 		createdBy: buyer.user.id,
@@ -163,7 +163,7 @@ describe('bids in several currencies', () => {
 				sheet: 'Prices',
 				row: 3,
 				column: 'G',
-				message: '"GBP" is not a currency of this event: use EUR, USD, JPY (empty means EUR)'
+				message: '"GBP" is not a currency of this event: use EUR, JPY, USD (empty means EUR)'
 			}
 		]);
 		const own = (await json(await usd.client.get(`/api/events/${event.id}/bids`, 'application/json')))
