@@ -214,13 +214,32 @@ export interface NoticeLine {
 export function awardNoticeMail(
 	to: string,
 	event: EventMailContext & { currency: string },
-	notice: { supplierName: string; lines: NoticeLine[]; standstillEndsOn: string }
+	notice: {
+		supplierName: string;
+		lines: NoticeLine[];
+		standstillEndsOn: string;
+		/** The supplier bid in another currency: its award in that currency, at the event's fixed rate. */
+		ownCurrency?: {
+			code: string;
+			rate: number;
+			source: string;
+			rateDate: string;
+			total: number;
+			lines: { item: string; unitPrice: number; cost: number }[];
+		};
+	}
 ): OutgoingMail {
 	const total = notice.lines.reduce((a, l) => a + l.cost, 0);
-	const table = notice.lines.map(
-		(l) =>
-			`${l.item}: ${formatQuantity(l.quantity)} at ${formatUnitPrice(l.unitPrice, event.currency)} ${event.currency} = ${formatMoney(l.cost, event.currency)} ${event.currency}`
-	);
+	const own = notice.ownCurrency;
+	const table = notice.lines.map((l, k) => {
+		const inOwn = own?.lines[k];
+		return (
+			`${l.item}: ${formatQuantity(l.quantity)} at ${formatUnitPrice(l.unitPrice, event.currency)} ${event.currency} = ${formatMoney(l.cost, event.currency)} ${event.currency}` +
+			(own && inOwn
+				? ` (your price ${formatUnitPrice(inOwn.unitPrice, own.code)} ${own.code} = ${formatMoney(inOwn.cost, own.code)} ${own.code})`
+				: '')
+		);
+	});
 	return notice_(
 		to,
 		`Award notice: ${event.reference} ${event.title}`,
@@ -228,6 +247,11 @@ export function awardNoticeMail(
 			`${event.buyerName} intends to award ${notice.supplierName} the following lines of ${event.reference} “${event.title}”. Your lines are attached as a spreadsheet too.`,
 			...table,
 			`Total: ${formatMoney(total, event.currency)} ${event.currency} (landed cost where the buyer added freight or duty).`,
+			...(own
+				? [
+						`In your bid currency: ${formatMoney(own.total, own.code)} ${own.code}. Bids were compared in ${event.currency} at the rate fixed before bidding: 1 ${own.code} = ${own.rate} ${event.currency} (${own.source}, ${own.rateDate}).`
+					]
+				: []),
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules); the contract is not concluded before then. This notice is not itself a contract.`
 		],
 		{ label: 'See your result', url: event.url },

@@ -76,7 +76,10 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 			formatInZone(b.submittedAt, zone),
 			`${formatQuantity(b.itemsBid)} of ${formatQuantity(event.items)}`,
 			b.withdrawn ? '—' : money(b.total),
-			money(b.awardedCost)
+			money(b.awardedCost) +
+				(b.ownCurrency
+					? ` (${formatMoney(b.ownCurrency.awardedCost, b.ownCurrency.code)} ${b.ownCurrency.code} at ${b.ownCurrency.rate})`
+					: '')
 		]),
 		'Bidders'
 	);

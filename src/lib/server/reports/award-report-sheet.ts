@@ -110,7 +110,10 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 			{ header: 'Items priced', width: 13, format: '#,##0' },
 			{ header: `Total at own prices (${currency})`, width: 22, format: money },
 			{ header: 'Awarded lines', width: 14, format: '#,##0' },
-			{ header: `Awarded cost (${currency})`, width: 20, format: money }
+			{ header: `Awarded cost (${currency})`, width: 20, format: money },
+			{ header: 'Bid currency', width: 13 },
+			{ header: `Rate (${currency} per unit)`, width: 16 },
+			{ header: 'Awarded cost in bid currency', width: 24, format: '#,##0.###' }
 		],
 		report.bidders.map((b) => [
 			text(b.name),
@@ -120,7 +123,10 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 			b.itemsBid,
 			b.withdrawn ? null : b.total,
 			b.awardedLines,
-			b.awardedCost
+			b.awardedCost,
+			b.ownCurrency?.code ?? currency,
+			b.ownCurrency?.rate ?? 1,
+			b.ownCurrency?.awardedCost ?? b.awardedCost
 		])
 	);
 

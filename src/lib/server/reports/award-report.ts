@@ -23,6 +23,7 @@ import { runJson } from '../services/award-views';
 import { RuleViolation } from '../services/errors';
 import { staffTabulation } from '../services/tabulation';
 import { trailHead } from '../trail';
+import { ownCurrencyAwards, type OwnAward } from '../services/currencies';
 
 export const REPORT_CAUTION =
 	'Decision support, not a legal award; standstill and time limits are local law — take advice from counsel.';
@@ -37,6 +38,8 @@ export interface ReportBidder {
 	total: number;
 	awardedLines: number;
 	awardedCost: number;
+	/** The bidder's own currency when not the event's: its awarded cost there, at the fixed rate. */
+	ownCurrency?: { code: string; rate: number; source: string; rateDate: string; awardedCost: number };
 }
 
 export interface ReportRule {
@@ -130,6 +133,26 @@ export interface AwardReport {
 
 const REPORT_ROLES = ['buyer', 'approver', 'auditor'];
 
+/** A bidder in another currency: what the run awards it in that currency (0 when nothing). */
+function ownCurrencyOf(
+	award: OwnAward | undefined,
+	bid: { code: string; rate: number } | undefined
+): Pick<ReportBidder, 'ownCurrency'> {
+	if (award)
+		return {
+			ownCurrency: {
+				code: award.code,
+				rate: award.rate,
+				source: award.source,
+				rateDate: award.rateDate,
+				awardedCost: award.total
+			}
+		};
+	return bid
+		? { ownCurrency: { code: bid.code, rate: bid.rate, source: '', rateDate: '', awardedCost: 0 } }
+		: {};
+}
+
 const calendarDate = (value: Date | string) =>
 	String(value instanceof Date ? value.toISOString().slice(0, 10) : value);
 
@@ -162,6 +185,7 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 		run.adjusted_from ? awards.findRunView(db(), run.adjusted_from) : undefined,
 		runExclusions(db(), run.id)
 	]);
+	const ownAwards = await ownCurrencyAwards(event, run, now());
 	const lowestRun =
 		lowestRunId && lowestRunId !== run.id ? await awards.findRunView(db(), lowestRunId) : undefined;
 	// The head and the report's time are read together, last: the report shows the trail as it then stood.
@@ -225,7 +249,8 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 					itemsBid: s.itemsBid,
 					total: s.total,
 					awardedLines: awarded.filter((l) => l.supplier === s.name).length,
-					awardedCost: bySupplier.get(s.name)?.cost ?? 0
+					awardedCost: bySupplier.get(s.name)?.cost ?? 0,
+					...ownCurrencyOf(ownAwards.get(s.name), s.bidCurrency)
 				})),
 		rules: json.rules.map((r) => {
 			const cost = result?.ruleCosts?.find((c) => c.rule === r.index);

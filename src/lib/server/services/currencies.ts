@@ -1,13 +1,24 @@
 // The exchange rates of an event: set on the draft, locked at publication (an amendment changes them,
 // services/events.ts amend), read by the bid sheet, the runs and the pages.
 import { priceAtQuantity } from '$lib/award/core/prices';
-import { convertPrice, parseRateTable, rateFor, toMinorUnit, type EventRate } from '$lib/currencies';
-import type { VisibleBid } from '../db/bids';
+import {
+	convertPrice,
+	parseRateTable,
+	rateFor,
+	roundHalfAway,
+	toMinorUnit,
+	type EventRate
+} from '$lib/currencies';
+import { visibleBids, type VisibleBid } from '../db/bids';
+import { listItems } from '../db/events';
 import type { SessionUser } from '../auth/session-user';
 import { listRates, replaceRates } from '../db/currencies';
 import { db } from '../db/knex';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
+import { findRun } from './award-runs';
+import { now } from '../clock';
+import { formatMoney } from '$lib/format';
 import { eventFor, lockedDraft } from './events';
 
 /** The rates of an event its viewer may see (buyers, evaluators and invited suppliers alike). */
@@ -101,4 +112,104 @@ export function ownCurrencyTotals(
 		});
 	}
 	return out;
+}
+
+/** A supplier's award in its own currency beside the event currency's (notice, run page, report). */
+export interface OwnAward {
+	code: string;
+	rate: number;
+	source: string;
+	rateDate: string;
+	/** Per awarded line: its unit price and cost in `code` (the cost at the own currency's minor unit). */
+	lines: { item: string; unitPrice: number; cost: number }[];
+	/** Σ cost in `code`, at its minor unit; `eventTotal` the same award in the event currency, at its minor unit. */
+	total: number;
+	eventTotal: number;
+}
+
+/**
+ * The awarded lines of the run in each supplier's own currency, for suppliers that bid in another currency
+ * than the event's: each line at the supplier's own price at the awarded quantity (its price breaks apply
+ * as the engine applied the converted ones); a line its own prices do not cover (won in a bundle) is the
+ * run's landed cost less the item's adders, converted back at the run's rate. Code and rate come from the
+ * run's problem (bound by its hash), the rate's source and date from the event's table.
+ */
+export async function ownCurrencyAwards(
+	event: { id: string; organisation_id: string; currency: string },
+	run: {
+		problem: { suppliers: { ref: string; bidCurrency?: { code: string; rate: number } }[] };
+		result: {
+			awards: { supplier: string; item: string; quantity: number; unitPrice: number; cost: number }[];
+		} | null;
+	},
+	at: Date
+): Promise<Map<string, OwnAward>> {
+	const out = new Map<string, OwnAward>();
+	const foreign = run.problem.suppliers.filter((s) => s.bidCurrency);
+	if (!foreign.length || !run.result) return out;
+	const [bids, items, rates] = await Promise.all([
+		visibleBids(db(), event.id, event.organisation_id, at),
+		listItems(db(), event.id),
+		listRates(db(), event.id)
+	]);
+	const adder = new Map(
+		items.map((i) => [i.ref, Number(i.freight_per_unit ?? 0) + Number(i.duty_per_unit ?? 0)])
+	);
+	for (const supplier of foreign) {
+		const { code, rate } = supplier.bidCurrency!;
+		const own = new Map(
+			bids.find((b) => b.supplierName === supplier.ref)?.lines.map((l) => [l.item, l]) ?? []
+		);
+		const awarded = run.result.awards.filter((a) => a.supplier === supplier.ref && a.quantity > 0);
+		const lines = awarded.map((a) => {
+			const line = own.get(a.item);
+			const unitPrice = line
+				? priceAtQuantity(
+						{
+							unitPrice: Number(line.unitPrice),
+							priceBreaks: line.priceBreaks.map((b) => ({
+								fromQuantity: Number(b.fromQuantity),
+								unitPrice: Number(b.unitPrice)
+							}))
+						},
+						a.quantity
+					)
+				: roundHalfAway((a.unitPrice - (adder.get(a.item) ?? 0)) / rate, 6);
+			return { item: a.item, unitPrice, cost: toMinorUnit(unitPrice * a.quantity, code) };
+		});
+		const table = rates.find((r) => r.currency === code);
+		out.set(supplier.ref, {
+			code,
+			rate,
+			source: table?.source ?? '',
+			rateDate: table?.rateDate ?? '',
+			lines,
+			total: toMinorUnit(
+				awarded.reduce((sum, a, k) => sum + lines[k]!.unitPrice * a.quantity, 0),
+				code
+			),
+			eventTotal: toMinorUnit(
+				awarded.reduce((sum, a) => sum + a.cost, 0),
+				event.currency
+			)
+		});
+	}
+	return out;
+}
+
+/** The run page's own-currency totals, by supplier name: staff who may see the run (findRun's checks). */
+export async function runOwnCurrencies(
+	user: SessionUser,
+	runId: string,
+	eventId: string
+): Promise<Record<string, { code: string; rate: number; total: string }>> {
+	const { run, event } = await findRun(user, runId, eventId);
+	if (run.status !== 'done') return {};
+	const awards = await ownCurrencyAwards(event, run, now());
+	return Object.fromEntries(
+		[...awards].map(([name, a]) => [
+			name,
+			{ code: a.code, rate: a.rate, total: formatMoney(a.total, a.code) }
+		])
+	);
 }

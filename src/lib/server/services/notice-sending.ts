@@ -24,6 +24,7 @@ import { appendTrail, trailHead } from '../trail';
 import { ownLines } from './award-views';
 import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
 import { mailContext } from './events';
+import { ownCurrencyAwards } from './currencies';
 import { deliverOnce, type DeliveryOutcome } from './mail-delivery';
 
 export interface NoticeJob {
@@ -79,6 +80,8 @@ export async function sendNotice(noticeId: string): Promise<void> {
 		trailHead: head && { hash: head.hash }
 	};
 	const lines = ownLines(run.result, supplier.name);
+	const ownCurrency =
+		notice.kind === 'award' ? (await ownCurrencyAwards(event, run, now())).get(supplier.name) : undefined;
 	const standstill = String(
 		notice.standstill_ends_on instanceof Date
 			? notice.standstill_ends_on.toISOString().slice(0, 10)
@@ -102,7 +105,8 @@ export async function sendNotice(noticeId: string): Promise<void> {
 				? awardNoticeMail(email, context, {
 						supplierName: supplier.name,
 						lines,
-						standstillEndsOn: standstill
+						standstillEndsOn: standstill,
+						...(ownCurrency ? { ownCurrency } : {})
 					})
 				: regretNoticeMail(email, context, { supplierName: supplier.name, standstillEndsOn: standstill });
 		try {

@@ -6,6 +6,7 @@ import { runLowPrices } from '$lib/server/services/abnormally-low';
 import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
+import { runOwnCurrencies } from '$lib/server/services/currencies';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -30,7 +31,8 @@ export const load: PageServerLoad = async (event) => {
 		run: runPageJson(run),
 		firstPage: run.status === 'done' ? allocationPage(run.result) : null,
 		cautions,
-		awardReport: run.status === 'done' && (await hasAwardReport(run.id))
+		awardReport: run.status === 'done' && (await hasAwardReport(run.id)),
+		ownCurrencies: await runOwnCurrencies(user, run.id, event.params.id)
 	};
 };
 
