@@ -135,3 +135,15 @@ export function latestScores(db: Db, eventId: string): Promise<ScoreRow[]> {
 			's.scored_at'
 		) as unknown as Promise<ScoreRow[]>;
 }
+
+/** Whether a run's problem carries criteria money (prices before the criteria, or a criteria fixed cost). */
+export async function runHasCriteria(db: Db, runId: string): Promise<boolean> {
+	const row = await db('award_runs')
+		.where({ id: runId })
+		.first(
+			db.raw(
+				`jsonb_path_exists(problem, '$.bids[*].priceBeforeCriteria') or jsonb_path_exists(problem, '$.bundles[*].priceBeforeCriteria') or jsonb_path_exists(problem, '$.rules[*] ? (@.type == "award_fixed_cost" && exists(@.who))') as has`
+			)
+		);
+	return Boolean((row as { has?: boolean } | undefined)?.has);
+}

@@ -10,10 +10,19 @@ import {
 	type Criterion,
 	type RankReversal
 } from '$lib/evaluation/criteria';
+import { evaluatedSupplierTotals } from '$lib/evaluation/apply-criteria';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import { visibleBids, type VisibleBid } from '../db/bids';
-import { insertScore, latestScores, listCriteria, replaceCriteria, type ScoreRow } from '../db/criteria';
+import { findRun } from '../db/awards';
+import {
+	insertScore,
+	latestScores,
+	listCriteria,
+	replaceCriteria,
+	runHasCriteria,
+	type ScoreRow
+} from '../db/criteria';
 import { listInvitations, listItems } from '../db/events';
 import { db } from '../db/knex';
 import { appendTrail } from '../trail';
@@ -289,4 +298,14 @@ export async function evaluatedTotals(
 			missing: e.missing
 		};
 	});
+}
+
+/** A finished run's price and evaluated cost per awarded supplier; null without criteria money. */
+export async function runEvaluatedTotals(user: SessionUser, runId: string, eventId: string) {
+	await evaluationEvent(user, eventId);
+	if (!(await runHasCriteria(db(), runId))) return null;
+	const run = await findRun(db(), runId);
+	if (!run || run.event_id !== eventId || run.status !== 'done' || !run.result) return null;
+	const totals = evaluatedSupplierTotals(run.problem, run.result.awards ?? []);
+	return totals && { currency: run.problem.currency, totals };
 }

@@ -2,7 +2,9 @@ import type { CautionKey } from '$lib/cautions';
 import { requireRole } from '$lib/server/auth/guard';
 import { hasAwardReport } from '$lib/server/reports/award-report';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
+import { formatMoney } from '$lib/format';
 import { findRunView } from '$lib/server/services/award-runs';
+import { runEvaluatedTotals } from '$lib/server/services/criteria';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
@@ -21,7 +23,15 @@ export const load: PageServerLoad = async (event) => {
 				() => null
 			)
 		: null;
+	// Price and evaluated cost side by side, where the run's problem carries criteria money.
+	const evaluated = run.status === 'done' ? await runEvaluatedTotals(user, run.id, event.params.id) : null;
 	return {
+		evaluatedCosts:
+			evaluated?.totals.map((t) => ({
+				supplier: t.supplier,
+				price: formatMoney(t.price, evaluated.currency),
+				evaluated: formatMoney(t.evaluated, evaluated.currency)
+			})) ?? null,
 		adjustedFrom: from,
 		run: runPageJson(run),
 		firstPage: run.status === 'done' ? allocationPage(run.result) : null,
