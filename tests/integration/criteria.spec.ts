@@ -140,6 +140,12 @@ describe('non-price criteria as money', () => {
 		const trail = await testDb()('trail_entries').where({ event_id: event.id, action: 'criterion scored' });
 		expect(trail).toHaveLength(3);
 
+		// The tabulation's totals: A 5,000 at price, 100 × 10.20 + 200 × 20.40 + 10 = 5,110 evaluated;
+		// B 1,010 + 4,100 = 5,110 both; C 1,200 + 4,800 = 6,000 both.
+		const bids = textOf(await (await buyer.client.get(`/buyer/events/${event.id}/bids`)).text());
+		expect(bids).toContain(`${a.organisation.name} ${formatMoney(5000, 'EUR')} ${formatMoney(5110, 'EUR')}`);
+		expect(bids).toContain(`${c.organisation.name} ${formatMoney(6000, 'EUR')} ${formatMoney(6000, 'EUR')}`);
+
 		// By hand. Evaluated unit costs: A 10 × 1.02 = 10.20 and 20 × 1.02 = 20.40 (lead time 15: (15 - 5) ×
 		// 0.2 % = 2 %), plus 10 once if A wins anything; B 10.10 and 20.50; C 12 and 24.
 		// Without criteria A wins both items: 100 × 10 + 200 × 20 = 5,000 (lowest price on each).
@@ -170,6 +176,25 @@ describe('non-price criteria as money', () => {
 		);
 		expect(runPage).toContain(
 			`${b.organisation.name} ${formatMoney(1010, 'EUR')} ${formatMoney(1010, 'EUR')}`
+		);
+		// The award report's workbook carries the same two columns.
+		const justification = 'Lowest evaluated cost, criteria as published.';
+		expect((await post(buyer.client, `/api/runs/${started.runId}/submit`, { justification })).status).toBe(
+			200
+		);
+		const report = await buyer.client.get(
+			`/api/runs/${started.runId}/report?format=xlsx`,
+			'application/json'
+		);
+		expect(report.status).toBe(200);
+		const workbook = new ExcelJS.Workbook();
+		await workbook.xlsx.load(await report.arrayBuffer());
+		const sheet = workbook.getWorksheet('Evaluated cost')!;
+		expect([2, 3].map((r) => (sheet.getRow(r).values as unknown[]).slice(1))).toEqual(
+			[
+				[a.organisation.name, 4000, 4090],
+				[b.organisation.name, 1010, 1010]
+			].sort((x, y) => String(x[0]).localeCompare(String(y[0])))
 		);
 	}, 150_000);
 
