@@ -99,3 +99,45 @@ export function priceBeforeCriteria(
 	// A line priced over several tiers: in proportion (exact for percentages, close for amounts per unit).
 	return bid.unitPrice === 0 ? line.cost : (line.cost * bid.priceBeforeCriteria) / bid.unitPrice;
 }
+
+/**
+ * Each awarded supplier's price (before the criteria) and evaluated cost (what the engine minimised,
+ * with its own criteria money once). Null when the problem has no criteria money.
+ */
+export function evaluatedSupplierTotals(
+	problem: AwardProblem,
+	lines: {
+		supplier: string;
+		item: string;
+		quantity: number;
+		unitPrice: number;
+		cost: number;
+		bundle?: string;
+	}[]
+): { supplier: string; price: number; evaluated: number }[] | null {
+	const once = new Map(
+		problem.rules.flatMap((r) =>
+			r.type === 'award_fixed_cost' && r.who && r.label?.startsWith(CRITERIA_RULE_LABEL)
+				? [[r.who.supplier, r.amount] as const]
+				: []
+		)
+	);
+	const adjusted =
+		once.size > 0 ||
+		problem.bids.some((b) => b.priceBeforeCriteria !== undefined) ||
+		problem.bundles.some((b) => b.priceBeforeCriteria !== undefined);
+	if (!adjusted) return null;
+	const totals = new Map<string, { supplier: string; price: number; evaluated: number }>();
+	for (const line of lines) {
+		if (line.quantity <= 0) continue;
+		const total = totals.get(line.supplier) ?? {
+			supplier: line.supplier,
+			price: 0,
+			evaluated: once.get(line.supplier) ?? 0
+		};
+		total.price += priceBeforeCriteria(problem, line);
+		total.evaluated += line.cost;
+		totals.set(line.supplier, total);
+	}
+	return [...totals.values()].sort((x, y) => x.supplier.localeCompare(y.supplier));
+}

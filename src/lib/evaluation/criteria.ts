@@ -149,15 +149,13 @@ export function rankReversals(bids: readonly ScoredBid[], priceWeight: number): 
 	return reversals;
 }
 
-/** The rule in words: "Each days above 5 adds 0.2% of the unit price". */
+/** The rule in words: "Each point above 5 days adds 0.2% of the unit price". */
 export function describeCriterion(c: Criterion, money: (amount: number) => string): string {
-	const point = c.unit ? `${c.unit} ` : 'point ';
-	const side = c.direction === 'above' ? 'above' : 'below';
 	const adds =
 		c.basis === 'percent_of_price'
 			? `${c.rate}% of the unit price`
 			: c.basis === 'per_unit'
 				? `${money(c.rate)} per unit`
 				: `${money(c.rate)} once, if the supplier is awarded anything`;
-	return `Each ${point.trim()} ${side} ${c.threshold} adds ${adds}`;
+	return `Each point ${c.direction} ${c.threshold}${c.unit ? ` ${c.unit}` : ''} adds ${adds}`;
 }

@@ -135,3 +135,50 @@ export function latestScores(db: Db, eventId: string): Promise<ScoreRow[]> {
 			's.scored_at'
 		) as unknown as Promise<ScoreRow[]>;
 }
+
+/**
+ * Whether a run's problem carries criteria money (prices before the criteria, or a criteria fixed cost).
+ * The jsonpath filter's question mark is escaped: knex reads a bare one as a binding.
+ */
+export async function runHasCriteria(db: Db, runId: string): Promise<boolean> {
+	const row = await db('award_runs')
+		.where({ id: runId })
+		.first(
+			db.raw(
+				`jsonb_path_exists(problem, '$.bids[*].priceBeforeCriteria') or jsonb_path_exists(problem, '$.bundles[*].priceBeforeCriteria') or jsonb_path_exists(problem, '$.rules[*] \\? (@.type == "award_fixed_cost" && exists(@.who))') as has`
+			)
+		);
+	return Boolean((row as { has?: boolean } | undefined)?.has);
+}
+
+/**
+ * Each supplier's current revision the viewer may see (visible_bid_revisions: after the deadline for the
+ * buying organisation), with its answers: no prices read.
+ */
+export async function currentAnswers(
+	db: Db,
+	eventId: string,
+	viewerOrganisationId: string,
+	now: Date
+): Promise<
+	{ supplierOrganisationId: string; supplierName: string; source: string; answers: Record<string, number> }[]
+> {
+	const rows: { id: string; supplier_organisation_id: string; supplier_name: string; source: string }[] =
+		await db
+			.select('r.id', 'r.supplier_organisation_id', 'r.source', 'o.name as supplier_name')
+			.from(db.raw('visible_bid_revisions(?, ?, ?) as r', [eventId, viewerOrganisationId, now]))
+			.join('organisations as o', 'o.id', 'r.supplier_organisation_id')
+			.whereRaw(
+				'r.number = (select max(number) from bid_revisions x where x.event_id = r.event_id and x.supplier_organisation_id = r.supplier_organisation_id)'
+			);
+	const answers = await answersOf(
+		db,
+		rows.map((r) => r.id)
+	);
+	return rows.map((r) => ({
+		supplierOrganisationId: r.supplier_organisation_id,
+		supplierName: r.supplier_name,
+		source: r.source,
+		answers: answers.get(r.id) ?? {}
+	}));
+}

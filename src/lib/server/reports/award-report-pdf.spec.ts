@@ -82,6 +82,7 @@ function aReport(): AwardReport {
 			}
 		],
 		ruleCostsKnown: true,
+		evaluatedCosts: null,
 		supplierTotals: [
 			{
 				supplier: 'Zielona Łąka Folie',

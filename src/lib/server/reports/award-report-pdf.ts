@@ -131,6 +131,21 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 		],
 		'The award per supplier'
 	);
+	if (report.evaluatedCosts) {
+		pdf.heading('Price and evaluated cost');
+		pdf.paragraph(
+			'The evaluated cost is the price plus the money of the event’s non-price criteria; the award minimised it. The supplier is paid the price.'
+		);
+		pdf.table(
+			cols(
+				['Supplier', 0.5],
+				[`Price (${currency})`, 0.25, 'right'],
+				[`Evaluated cost (${currency})`, 0.25, 'right']
+			),
+			report.evaluatedCosts.map((t) => [t.supplier, money(t.price), money(t.evaluated)]),
+			'Price and evaluated cost'
+		);
+	}
 	for (const total of report.supplierTotals) {
 		const lines = report.awards.filter((l) => l.supplier === total.supplier);
 		if (!lines.length) continue;

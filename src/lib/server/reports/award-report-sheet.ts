@@ -167,6 +167,17 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 		)
 	);
 
+	if (report.evaluatedCosts)
+		sheet(
+			'Evaluated cost',
+			[
+				{ header: 'Supplier', width: 32 },
+				{ header: `Price (${currency})`, width: 18, format: money },
+				{ header: `Evaluated cost (${currency})`, width: 22, format: money }
+			],
+			report.evaluatedCosts.map((t) => [text(t.supplier), t.price, t.evaluated])
+		);
+
 	sheet(
 		'Changes',
 		[

@@ -2,6 +2,7 @@
 // got there, gathered once and written as a PDF (award-report-pdf.ts) or a workbook (award-report-sheet.ts).
 // Reading it records nothing in the trail: no read does, and the report names the trail head it saw, so
 // the file can be checked against the trail afterwards.
+import { evaluatedSupplierTotals } from '$lib/evaluation/apply-criteria';
 import type { SupplierTotal, AwardLine } from '$lib/award/core/result';
 import { formatQuantity } from '$lib/format';
 import type { SessionUser } from '../auth/session-user';
@@ -117,6 +118,8 @@ export interface AwardReport {
 	/** Whether the rule costs were worked out (they come after the allocation, by their own job). */
 	ruleCostsKnown: boolean;
 	supplierTotals: SupplierTotal[];
+	/** Each awarded supplier's price and evaluated cost, where the run's problem carries criteria money. */
+	evaluatedCosts: { supplier: string; price: number; evaluated: number }[] | null;
 	awards: AwardLine[];
 	uncoveredItems: { item: string; reason: string }[];
 	lowestCost:
@@ -265,6 +268,7 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 		}),
 		ruleCostsKnown: Boolean(result?.ruleCosts),
 		supplierTotals,
+		evaluatedCosts: evaluatedSupplierTotals(run.problem, awarded),
 		awards: awarded,
 		uncoveredItems: result?.uncoveredItems ?? [],
 		lowestCost:

@@ -10,13 +10,25 @@ import {
 	type Criterion,
 	type RankReversal
 } from '$lib/evaluation/criteria';
+import { evaluatedSupplierTotals } from '$lib/evaluation/apply-criteria';
+import { formatMoney } from '$lib/format';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import { visibleBids, type VisibleBid } from '../db/bids';
-import { insertScore, latestScores, listCriteria, replaceCriteria, type ScoreRow } from '../db/criteria';
+import { findRun } from '../db/awards';
+import {
+	insertScore,
+	latestScores,
+	listCriteria,
+	replaceCriteria,
+	runHasCriteria,
+	currentAnswers,
+	type ScoreRow
+} from '../db/criteria';
 import { listInvitations, listItems } from '../db/events';
 import { db } from '../db/knex';
 import { appendTrail } from '../trail';
+import type { Tabulated } from '../tabulation';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, evaluationEvent, lockedDraft } from './events';
 
@@ -289,4 +301,67 @@ export async function evaluatedTotals(
 			missing: e.missing
 		};
 	});
+}
+
+/** A finished run's price and evaluated cost per awarded supplier; null without criteria money. */
+export async function runEvaluatedTotals(user: SessionUser, runId: string, eventId: string) {
+	await evaluationEvent(user, eventId);
+	if (!(await runHasCriteria(db(), runId))) return null;
+	const run = await findRun(db(), runId);
+	if (!run || run.event_id !== eventId || run.status !== 'done' || !run.result) return null;
+	const totals = evaluatedSupplierTotals(run.problem, run.result.awards ?? []);
+	return totals && { currency: run.problem.currency, totals };
+}
+
+/**
+ * The tabulation's suppliers at price and at evaluated cost: each priced cell's landed unit price plus the
+ * supplier's percentage of the price as bid (without the item's freight and duty) and its amount per unit,
+ * times the item's quantity; plus its amount once. Null where the event has no criteria.
+ */
+export async function tabulationEvaluated(user: SessionUser, eventId: string, tab: Tabulated) {
+	const event = await evaluationEvent(user, eventId);
+	const criteria = await listCriteria(db(), eventId);
+	if (!criteria.length) return null;
+	const [bids, scores] = await Promise.all([
+		currentAnswers(db(), eventId, user.organisationId, now()),
+		latestScores(db(), eventId)
+	]);
+	const list = evaluations(
+		criteria,
+		bids.map((b) => ({ ...b, source: b.source as VisibleBid['source'] })),
+		scores
+	);
+	const width = tab.suppliers.length;
+	return {
+		currency: event.currency,
+		totals: tab.suppliers.flatMap((s, c) => {
+			const e = list.find((x) => x.supplierOrganisationId === s.id);
+			if (s.withdrawn || !e || !s.itemsBid) return [];
+			const a = e.adjustment;
+			let evaluated = a.perSupplier;
+			tab.items.forEach((item, r) => {
+				const price = tab.prices[r * width + c]!;
+				if (Number.isNaN(price)) return;
+				evaluated += item.quantity * (price + ((price - item.adder) * a.percentOfPrice) / 100 + a.perUnit);
+			});
+			return [{ supplier: s.name, price: s.total, evaluated, missing: e.missing }];
+		})
+	};
+}
+
+/** The rows of the price and evaluated cost table, as text. */
+export function evaluatedRows(
+	evaluated: {
+		currency: string;
+		totals: { supplier: string; price: number; evaluated: number; missing?: string[] }[];
+	} | null
+) {
+	if (!evaluated) return null;
+	const money = (v: number) => formatMoney(v, evaluated.currency);
+	return evaluated.totals.map((t) => ({
+		supplier: t.supplier,
+		price: money(t.price),
+		evaluated: money(t.evaluated),
+		...(t.missing?.length ? { note: `not yet answered or scored: ${t.missing.join(', ')}` } : {})
+	}));
 }

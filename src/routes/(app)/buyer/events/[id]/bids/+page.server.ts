@@ -3,6 +3,7 @@ import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/services/reminders';
 import { lowPriceSummary } from '$lib/server/services/abnormally-low';
+import { evaluatedRows, tabulationEvaluated } from '$lib/server/services/criteria';
 import { staffTabulation, tabulationView } from '$lib/server/services/tabulation';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -20,9 +21,12 @@ export const load: PageServerLoad = async (event) => {
 		const status = await orErrorPage(event, () => invitedBidStatus(user, event.params.id));
 		return { sealed: true as const, submissions, bidStatus: bidStatusJson(status) };
 	}
+	// Price and evaluated cost side by side, where the event has non-price criteria.
+	const evaluated = await tabulationEvaluated(user, event.params.id, found.tab);
 	return {
 		sealed: false as const,
 		submissions,
+		evaluatedCosts: evaluatedRows(evaluated),
 		...tabulationView(found.tab, event.url.searchParams, found.event.currency),
 		lowPrices: lowPriceSummary(found.tab, found.event.currency)
 	};

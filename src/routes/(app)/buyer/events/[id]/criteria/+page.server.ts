@@ -1,4 +1,5 @@
 import { fail } from '@sveltejs/kit';
+import type { CautionKey } from '$lib/cautions';
 import { describeCriterion, RANK_REVERSAL_CAUTION } from '$lib/evaluation/criteria';
 import { formatMoney, formatQuantity } from '$lib/format';
 import { criterionRowSchema, scoreSchema } from '$lib/schemas/criteria';
@@ -23,7 +24,9 @@ export const load: PageServerLoad = async (event) => {
 	const criteria = page.criteria.map((c) => ({ ...c, rule: describeCriterion(c, money) }));
 	if (page.sealed) return { draft: page.event.state === 'draft', sealed: true as const, criteria };
 	const score = (v: number) => formatQuantity(Math.round(v * 100) / 100);
+	const cautions: CautionKey[] = ['rankReversal', 'decisionSupport'];
 	return {
+		cautions,
 		draft: false,
 		sealed: false as const,
 		criteria,

@@ -3,7 +3,9 @@ import { requireRole } from '$lib/server/auth/guard';
 import { hasAwardReport } from '$lib/server/reports/award-report';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { runLowPrices } from '$lib/server/services/abnormally-low';
+import { formatMoney } from '$lib/format';
 import { findRunView } from '$lib/server/services/award-runs';
+import { runEvaluatedTotals } from '$lib/server/services/criteria';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
 import { runOwnCurrencies } from '$lib/server/services/currencies';
@@ -25,7 +27,15 @@ export const load: PageServerLoad = async (event) => {
 				() => null
 			)
 		: null;
+	// Price and evaluated cost side by side, where the run's problem carries criteria money.
+	const evaluated = run.status === 'done' ? await runEvaluatedTotals(user, run.id, event.params.id) : null;
 	return {
+		evaluatedCosts:
+			evaluated?.totals.map((t) => ({
+				supplier: t.supplier,
+				price: formatMoney(t.price, evaluated.currency),
+				evaluated: formatMoney(t.evaluated, evaluated.currency)
+			})) ?? null,
 		adjustedFrom: from,
 		lowPrices,
 		run: runPageJson(run),
