@@ -33,6 +33,7 @@ afterAll(closeTestDb);
 
 let buyer: Browserless;
 let bidders: Awaited<ReturnType<typeof aSupplierOrganisationWithUser>>[];
+const supplierClients: Browserless[] = [];
 let event: TestEvent;
 const deadline = new Date(Date.now() + 15_000);
 const PRICES = [
@@ -67,6 +68,7 @@ beforeAll(async () => {
 	await Promise.all(
 		bidders.map(async (b, k) => {
 			const client = await signedIn(b.user);
+			supplierClients[k] = client;
 			const sheet = Buffer.from(await (await client.get(`/api/events/${event.id}/bid-sheet`)).arrayBuffer());
 			const [p1, p2, p3] = PRICES[k]!;
 			const filled = await fillSheet(sheet, { 'IT-1': [p1!], 'IT-2': [p2!], 'IT-3': [p3!] });
@@ -165,6 +167,33 @@ describe('abnormally low bids', () => {
 		);
 		expect(page).toContain('This run was built without these excluded bids or lines:');
 		expect(page).toContain(`${D().name}, line IT-1: Stock clearance cannot be relied on`);
+	});
+
+	it('lets the supplier answer a request on its own page, and no other supplier', async () => {
+		expect(
+			(
+				await action('ask', {
+					supplier: D().id,
+					item: '',
+					question: 'Explain how your total covers the costs.'
+				})
+			).status
+		).toBe(200);
+		const [, whole] = await trail('price explanation requested');
+		const inquiry = String(whole.detail.inquiry);
+		const page = `/supplier/events/${event.id}/explanations`;
+		const [a, d] = [supplierClients[0]!, supplierClients[3]!];
+		expect(textOf(await (await d.get(page)).text())).toContain('Explain how your total covers the costs.');
+		expect(await (await a.get(page)).text()).not.toContain('data-testid="supplier-inquiry"');
+		const stranger = await a.postForm(`${page}?/answer`, { inquiry, answer: 'Not mine to answer.' });
+		expect(stranger.status).toBe(404);
+		const empty = await d.postForm(`${page}?/answer`, { inquiry, answer: ' ' });
+		expect(empty.status).toBe(422);
+		expect(textOf(await empty.text())).toContain('Answer: write your explanation of the price.');
+		const answered = await d.postForm(`${page}?/answer`, { inquiry, answer: 'Our own plant; no freight.' });
+		expect(answered.status).toBe(200);
+		const [entry] = await trail('price explanation answered by the supplier');
+		expect(entry.detail).toMatchObject({ inquiry, item: null, answer: 'Our own plant; no freight.' });
 	});
 
 	it('undoes an exclusion only with a reason, and records it', async () => {

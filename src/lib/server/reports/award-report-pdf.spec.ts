@@ -154,6 +154,24 @@ describe('the award report as a PDF', () => {
 		expect(text).toContain('Decision support, not a legal award');
 	});
 
+	it('lists the lines excluded as abnormally low that the run was built without', async () => {
+		const report = {
+			...aReport(),
+			excluded: [
+				{
+					supplier: 'Test Supplier D',
+					item: 'IT-7',
+					reason: 'Price unexplained.',
+					excludedAt: '2027-03-01T10:00:00Z'
+				}
+			]
+		};
+		const text = await pdfText(await awardReportPdf(report));
+		expect(text).toContain('Excluded as abnormally low');
+		expect(text).toContain('Test Supplier D, line IT-7: Price unexplained.');
+		expect(await pdfText(await awardReportPdf(aReport()))).not.toContain('Excluded as abnormally low');
+	});
+
 	it('continues a long table on the next page under its header, with page numbers in the footer', async () => {
 		const pages = await pdfPages(await awardReportPdf(aReport()));
 		expect(pages.length).toBeGreaterThan(2);

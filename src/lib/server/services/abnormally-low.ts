@@ -15,7 +15,7 @@ import { describeFlag, lowPriceFlags } from '../low-price-flags';
 import type { Tabulated } from '../tabulation';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
-import { buyerName, eventMail } from './events';
+import { buyerName, eventFor, eventMail } from './events';
 import { staffTabulation } from './tabulation';
 import type { RequestContext } from './users';
 
@@ -151,9 +151,9 @@ export async function askExplanation(
 					[
 						`${mail.buyerName} asks your organisation to explain the price of ${whatOf(target.item)} of your bid in the sourcing event ${mail.reference} “${mail.title}”.`,
 						`The question: ${question}`,
-						'Please answer the buyer in writing. Buyers ask this before deciding on a price that looks abnormally low; your answer is recorded.'
+						'Please answer in writing on the event’s page. Buyers ask this before deciding on a price that looks abnormally low; your answer is recorded in the event’s decision trail.'
 					],
-					{ label: 'Open the event', url: mail.url },
+					{ label: 'Answer the request', url: `${mail.url}/explanations` },
 					mail
 				)
 			)
@@ -352,4 +352,49 @@ export async function runLowPrices(
 		.filter((f) => (f.item === null ? winners.has(f.supplier) : awarded.has(`${f.supplier}|${f.item}`)))
 		.map((f) => ({ supplier: f.supplier, item: f.item, text: describeFlag(f, found.event.currency) }));
 	return { flags, excluded: excluded ?? [] };
+}
+
+/** The requests addressed to the supplier's own organisation in an event (never another supplier's). */
+export async function supplierInquiries(user: SessionUser, eventId: string) {
+	const access = await eventFor(user, eventId);
+	if (access.view !== 'supplier')
+		throw new RuleViolation('This page is for the invited suppliers.', undefined, 403);
+	const own = (await low.listInquiries(db(), eventId)).filter(
+		(q) => q.supplier_organisation_id === user.organisationId
+	);
+	return { event: access.event, inquiries: own };
+}
+
+/** The supplier answers a request addressed to its organisation, once. */
+export async function answerAsSupplier(
+	user: SessionUser,
+	eventId: string,
+	input: { inquiry?: unknown; answer?: unknown }
+): Promise<void> {
+	const { event } = await supplierInquiries(user, eventId);
+	if (['awarded', 'cancelled'].includes(event.state))
+		throw new RuleViolation(`The event is ${event.state}: answers are closed.`, undefined, 409);
+	const id = text(input.inquiry);
+	const answer = longText(
+		input.answer,
+		'answer',
+		'Answer',
+		ANSWER_MAX,
+		'write your explanation of the price.'
+	);
+	await db().transaction(async (trx) => {
+		const inquiry = /^[0-9a-f-]{36}$/i.test(id) ? await low.findInquiry(trx, eventId, id) : undefined;
+		// Another supplier's request is as absent as one that does not exist.
+		if (!inquiry || inquiry.supplier_organisation_id !== user.organisationId)
+			throw new RuleViolation('Request: there is no such explanation request.', 'inquiry', 404);
+		if (inquiry.answer !== null)
+			throw new RuleViolation('Request: its answer is recorded already.', 'inquiry', 409);
+		await low.recordAnswer(trx, inquiry.id, { answer, answer_recorded_by: user.id, answered_at: now() });
+		await appendTrail(trx, {
+			eventId,
+			actor: user,
+			action: 'price explanation answered by the supplier',
+			detail: { inquiry: inquiry.id, item: inquiry.item_ref, answer }
+		});
+	});
 }
