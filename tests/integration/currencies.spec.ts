@@ -278,6 +278,8 @@ describe('bids in several currencies', () => {
 			'IT-2: 200 at 4.836 EUR = 967.20 EUR (your price 780 JPY = 156,000 JPY)'
 		);
 		expect(jpyNotice.text).toContain('Total: 967.20 EUR');
+		const mine = await json(await usd.client.get(`/api/events/${event.id}/my-result`, 'application/json'));
+		expect(mine.ownCurrency).toMatchObject({ code: 'USD', rate: 0.9213, total: 1040, eventTotal: 958.15 });
 		expect(jpyNotice.text).toContain(
 			'In your bid currency: 156,000 JPY. Bids were compared in EUR at the rate fixed before bidding: 1 JPY = 0.0062 EUR (invented for the test, amended, 2026-12-02).'
 		);

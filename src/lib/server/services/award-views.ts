@@ -13,6 +13,7 @@ import type { AwardProblem } from '$lib/award/core/problem';
 import type { PlanRow, RunView } from '../db/tables';
 import { RuleViolation } from './errors';
 import { eventFor } from './events';
+import { ownCurrencyAwards } from './currencies';
 import { STALE_SECONDS } from './run-execution';
 
 type AwardLine = AwardResult['awards'][number];
@@ -216,7 +217,17 @@ export async function myResult(user: SessionUser, eventId: string) {
 	const run = (await awards.findRun(db(), event.awarded_run_id))!;
 	const notice = await awards.findSupplierNotice(db(), run.id, user.organisationId);
 	const lines = ownLines(run.result, user.organisationName);
+	const own = lines.length
+		? (
+				await ownCurrencyAwards(event, run, now(), {
+					organisationId: user.organisationId,
+					name: user.organisationName
+				})
+			).get(user.organisationName)
+		: undefined;
 	return {
+		/** Its award in its own bid currency, when that is not the event's. */
+		ownCurrency: own ?? null,
 		status: lines.length ? ('awarded' as const) : ('regret' as const),
 		lines,
 		currency: event.currency,

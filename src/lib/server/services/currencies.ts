@@ -142,13 +142,21 @@ export async function ownCurrencyAwards(
 			awards: { supplier: string; item: string; quantity: number; unitPrice: number; cost: number }[];
 		} | null;
 	},
-	at: Date
+	at: Date,
+	/** One supplier only (its own result page): only its bid is read. */
+	only?: { organisationId: string; name: string }
 ): Promise<Map<string, OwnAward>> {
 	const out = new Map<string, OwnAward>();
-	const foreign = run.problem.suppliers.filter((s) => s.bidCurrency);
+	const foreign = run.problem.suppliers.filter((s) => s.bidCurrency && (!only || s.ref === only.name));
 	if (!foreign.length || !run.result) return out;
 	const [bids, items, rates] = await Promise.all([
-		visibleBids(db(), event.id, event.organisation_id, at),
+		visibleBids(
+			db(),
+			event.id,
+			event.organisation_id,
+			at,
+			only ? { supplierOrganisationId: only.organisationId } : {}
+		),
 		listItems(db(), event.id),
 		listRates(db(), event.id)
 	]);

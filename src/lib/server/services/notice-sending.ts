@@ -24,7 +24,7 @@ import { appendTrail, trailHead } from '../trail';
 import { ownLines } from './award-views';
 import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
 import { mailContext } from './events';
-import { ownCurrencyAwards } from './currencies';
+import { ownCurrencyAwards, type OwnAward } from './currencies';
 import { deliverOnce, type DeliveryOutcome } from './mail-delivery';
 
 export interface NoticeJob {
@@ -35,20 +35,37 @@ export async function ownLinesWorkbook(
 	reference: string,
 	supplierName: string,
 	lines: NoticeLine[],
-	currency: string
+	currency: string,
+	/** The supplier's own currency, when it bid in another: two more columns, at its own prices. */
+	own?: OwnAward
 ) {
 	const workbook = new ExcelJS.Workbook();
 	workbook.creator = 'Tenderloom';
 	const sheet = workbook.addWorksheet('Award');
 	sheet.addRow([`Award lines of ${neutralise(reference)} for ${neutralise(supplierName)}`]);
-	sheet.addRow(['Item', 'Quantity', `Unit price (${currency})`, `Cost (${currency})`]).font = { bold: true };
-	for (const l of lines) sheet.addRow([neutralise(l.item), l.quantity, l.unitPrice, l.cost]);
+	sheet.addRow([
+		'Item',
+		'Quantity',
+		`Unit price (${currency})`,
+		`Cost (${currency})`,
+		...(own ? [`Unit price (${own.code})`, `Cost (${own.code})`] : [])
+	]).font = { bold: true };
+	lines.forEach((l, k) =>
+		sheet.addRow([
+			neutralise(l.item),
+			l.quantity,
+			l.unitPrice,
+			l.cost,
+			...(own ? [own.lines[k]?.unitPrice ?? null, own.lines[k]?.cost ?? null] : [])
+		])
+	);
 	sheet.views = [{ state: 'frozen', ySplit: 2 }];
 	const formats = [
 		null,
 		excelQuantityColumnFormat(lines.map((l) => l.quantity)),
 		excelUnitPriceFormat(currency),
-		excelMoneyFormat(currency)
+		excelMoneyFormat(currency),
+		...(own ? [excelUnitPriceFormat(own.code), excelMoneyFormat(own.code)] : [])
 	];
 	formats.forEach((format, k) => {
 		const column = sheet.getColumn(k + 1);
@@ -92,7 +109,13 @@ export async function sendNotice(noticeId: string): Promise<void> {
 			? [
 					{
 						filename: `award-${event.reference}.xlsx`,
-						content: await ownLinesWorkbook(event.reference, supplier.name, lines, event.currency),
+						content: await ownLinesWorkbook(
+							event.reference,
+							supplier.name,
+							lines,
+							event.currency,
+							ownCurrency
+						),
 						contentType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet'
 					}
 				]
