@@ -306,7 +306,9 @@ export async function evaluatedTotals(
 /** A finished run's price and evaluated cost per awarded supplier; null without criteria money. */
 export async function runEvaluatedTotals(user: SessionUser, runId: string, eventId: string) {
 	await evaluationEvent(user, eventId);
-	if (!(await runHasCriteria(db(), runId))) return null;
+	// Criteria are fixed before bids arrive: an event without any has no run with criteria money, and its
+	// run pages never read the (possibly large) problem for it.
+	if (!(await listCriteria(db(), eventId)).length || !(await runHasCriteria(db(), runId))) return null;
 	const run = await findRun(db(), runId);
 	if (!run || run.event_id !== eventId || run.status !== 'done' || !run.result) return null;
 	const totals = evaluatedSupplierTotals(run.problem, run.result.awards ?? []);
