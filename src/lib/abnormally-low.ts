@@ -80,16 +80,30 @@ export function screenPrice(
 	baseline: number | null,
 	settings: LowScreenSettings = LOW_SCREEN
 ): LowReason[] {
+	return screenSorted(
+		price,
+		[...others].sort((a, b) => a - b),
+		baseline,
+		settings
+	);
+}
+
+/** As screenPrice, the other prices given in ascending order. */
+function screenSorted(
+	price: number,
+	sorted: readonly number[],
+	baseline: number | null,
+	settings: LowScreenSettings
+): LowReason[] {
 	const reasons: LowReason[] = [];
-	if (others.length >= settings.minOthers) {
-		const sorted = [...others].sort((a, b) => a - b);
+	if (sorted.length >= settings.minOthers) {
 		const median = quantile7(sorted, 0.5);
 		if (median > 0 && price < (1 - settings.belowShare) * median) {
-			reasons.push({ rule: 'median', median, others: others.length, below: 1 - price / median });
+			reasons.push({ rule: 'median', median, others: sorted.length, below: 1 - price / median });
 			const q1 = quantile7(sorted, 0.25);
 			const q3 = quantile7(sorted, 0.75);
 			const fence = q1 - settings.fenceK * (q3 - q1);
-			if (price < fence) reasons.push({ rule: 'fence', fence, q1, q3, others: others.length });
+			if (price < fence) reasons.push({ rule: 'fence', fence, q1, q3, others: sorted.length });
 		}
 	}
 	if (baseline !== null && baseline > 0 && price < (1 - settings.belowShare) * baseline)
@@ -106,12 +120,16 @@ export function screenBids(
 	const at = (r: number, c: number) => prices[r * width + c]!;
 	const lines: LineFlag[] = [];
 	items.forEach((item, r) => {
+		// The item's prices sorted once; each price's "others" is that list with one copy of it taken out.
+		const sorted: number[] = [];
+		for (let c = 0; c < width; c++) if (!Number.isNaN(at(r, c))) sorted.push(at(r, c));
+		sorted.sort((a, b) => a - b);
 		for (let c = 0; c < width; c++) {
 			const price = at(r, c);
 			if (Number.isNaN(price)) continue;
-			const others: number[] = [];
-			for (let o = 0; o < width; o++) if (o !== c && !Number.isNaN(at(r, o))) others.push(at(r, o));
-			const reasons = screenPrice(price, others, item.baseline, settings);
+			const k = sorted.indexOf(price);
+			const others = sorted.slice(0, k).concat(sorted.slice(k + 1));
+			const reasons = screenSorted(price, others, item.baseline, settings);
 			if (reasons.length) lines.push({ item: r, supplier: c, price, reasons });
 		}
 	});
@@ -135,11 +153,13 @@ export function screenBids(
 			if (t === s) continue;
 			let mine = 0;
 			let theirs = 0;
-			items.forEach((item, r) => {
-				if (Number.isNaN(at(r, s)) || Number.isNaN(at(r, t))) return;
-				mine += item.quantity * at(r, s);
-				theirs += item.quantity * at(r, t);
-			});
+			for (let r = 0; r < items.length; r++) {
+				const own = prices[r * width + s]!;
+				const other = prices[r * width + t]!;
+				if (Number.isNaN(own) || Number.isNaN(other)) continue;
+				mine += items[r]!.quantity * own;
+				theirs += items[r]!.quantity * other;
+			}
 			if (theirs > 0) ratios.push(mine / theirs);
 		}
 		const reasons: LowReason[] = [];

@@ -187,6 +187,7 @@ describe('every page of every role, at 1440 px and 390 px', () => {
 			['questions', `${at}/questions`],
 			['bids', `${at}/bids`],
 			['bids-before-deadline', `/buyer/events/${openEvent.id}/bids`],
+			['low-prices', `${at}/bids/low`],
 			['award', `${at}/award`],
 			['run', `${at}/award/runs/${runs[0]}`],
 			['compare', `${at}/award/compare?run=${runs[0]}&run=${runs[1]}`],
@@ -251,6 +252,7 @@ describe('every page of every role, at 1440 px and 390 px', () => {
 			['home', '/supplier'],
 			['events', '/supplier/events'],
 			['opened-event', `/supplier/events/${event.id}`],
+			['explanations', `/supplier/events/${event.id}/explanations`],
 			['open-event', `/supplier/events/${openEvent.id}`]
 		]);
 		expect(problems).toEqual([]);
