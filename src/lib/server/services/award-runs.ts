@@ -23,6 +23,7 @@ import { appendTrail, canonicalJson, sha256 } from '../trail';
 import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
 import { RuleViolation } from './errors';
 import { effectiveState } from './events';
+import { latestOpenedRound } from './rounds';
 
 export interface AwardRunJob {
 	runId: string;
@@ -128,10 +129,13 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			409
 		);
 	if (event.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
-	const [items, bids, invitations] = await Promise.all([
+	// The latest revision of each supplier among the opened rounds: a round still open stays sealed.
+	const at = now();
+	const [items, bids, invitations, round] = await Promise.all([
 		listItems(db(), event.id),
-		visibleBids(db(), event.id, event.organisation_id, now()),
-		listInvitations(db(), event.id)
+		visibleBids(db(), event.id, event.organisation_id, at),
+		listInvitations(db(), event.id),
+		latestOpenedRound(db(), event.id, at)
 	]);
 	// The plan names suppliers by organisation id, the engine by name (snapshotProblem's refs).
 	const named = rulesBySupplierName(plan.rules, namesById(invitedSuppliers(invitations)));
@@ -145,7 +149,7 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			undefined,
 			422
 		);
-	return queueRun(user, event, { id: plan.id, name: plan.name }, problem);
+	return queueRun(user, event, { id: plan.id, name: plan.name }, problem, undefined, round);
 }
 
 /**
@@ -157,7 +161,9 @@ export async function queueRun(
 	event: EventRow,
 	plan: { id: string; name: string },
 	problem: AwardProblem,
-	adjusted?: { from: RunView; changes: ManualChange[] }
+	adjusted?: { from: RunView; changes: ManualChange[] },
+	/** The round whose bids the problem holds; an adjusted run keeps its run's. */
+	round = adjusted?.from.round ?? 1
 ): Promise<RunRow> {
 	const problemHash = sha256(canonicalJson(problem));
 	return db().transaction(async (trx) => {
@@ -173,6 +179,7 @@ export async function queueRun(
 			problemSha256: problemHash,
 			options: RUN_OPTIONS,
 			createdBy: user.id,
+			round,
 			...(adjusted ? { adjustedFrom: adjusted.from.id, adjustments: adjusted.changes } : {})
 		});
 		if (locked.state === 'closed' || (locked.state === 'open' && effectiveState(locked) === 'closed'))
@@ -185,6 +192,7 @@ export async function queueRun(
 				run: run.id,
 				number,
 				plan: plan.name,
+				round,
 				problemSha256: problemHash,
 				options: RUN_OPTIONS,
 				...(adjusted ? { adjustedFrom: adjusted.from.number, changes: adjusted.changes } : {})
