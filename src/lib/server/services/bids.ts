@@ -209,7 +209,8 @@ export async function submitUpload(
 					supplier: actor.organisationName,
 					revision: revision.number,
 					upload: upload.id,
-					commitment
+					commitment,
+					...(round > 1 ? { round } : {})
 				},
 				at
 			});
@@ -314,7 +315,11 @@ export async function submitScreen(
 			eventId: id,
 			actor,
 			action: 'on-screen bid received',
-			detail: { supplier: actor.organisationName, revision: revision.number },
+			detail: {
+				supplier: actor.organisationName,
+				revision: revision.number,
+				...(round > 1 ? { round } : {})
+			},
 			at
 		});
 		await mailReceipt(trx, actor, event, revision, context, {
@@ -357,7 +362,11 @@ export async function withdraw(
 			eventId: id,
 			actor,
 			action: 'bid withdrawn',
-			detail: { supplier: actor.organisationName, revision: revision.number },
+			detail: {
+				supplier: actor.organisationName,
+				revision: revision.number,
+				...(round > 1 ? { round } : {})
+			},
 			at
 		});
 		await enqueueMail(trx, [

@@ -25,6 +25,7 @@ import {
 import { enqueueMail, scheduleEventClose } from '../jobs/queue';
 import { roundInvitationMail } from '../mail/templates';
 import { appendTrail } from '../trail';
+import { tabulate, type Tabulated } from '../tabulation';
 import { RuleViolation } from './errors';
 import { buyerEvent, buyerName, effectiveState, evaluationEvent, eventFor, eventMail } from './events';
 import type { RequestContext } from './users';
@@ -32,8 +33,10 @@ import type { RequestContext } from './users';
 export interface RoundRequest {
 	/** Supplier organisation ids, each with a current bid. */
 	suppliers: string[];
-	/** Wall-clock time in the event's time zone, as a datetime-local field gives it. */
-	deadlineLocal: string;
+	/** Wall-clock time in the event's time zone, as a datetime-local field gives it… */
+	deadlineLocal?: string;
+	/** …or an instant in ISO 8601 with its offset (API clients), such as 2027-03-01T16:00:00Z. */
+	deadline?: string;
 	feedback: string;
 	per: string;
 }
@@ -78,6 +81,31 @@ export async function biddingRound(
 	);
 }
 
+function localDeadline(local: string, timeZone: string): Date {
+	if (!/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}$/.test(local))
+		throw new RuleViolation('Give a date and time for the round’s deadline.', 'deadlineLocal', 422);
+	try {
+		return fromLocalInput(local, timeZone);
+	} catch (error) {
+		if (error instanceof LocalTimeError) throw new RuleViolation(error.message, 'deadlineLocal', 422);
+		throw error;
+	}
+}
+
+function instant(iso: string): Date {
+	const date = new Date(iso);
+	if (
+		!/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:\d{2})$/.test(iso) ||
+		Number.isNaN(date.getTime())
+	)
+		throw new RuleViolation(
+			'Give the round’s deadline as an ISO 8601 time with its offset, such as 2027-03-01T16:00:00Z.',
+			'deadline',
+			422
+		);
+	return date;
+}
+
 function parseRequest(event: EventRow, request: RoundRequest, at: Date) {
 	const feedback = request.feedback as FeedbackKind;
 	if (!KINDS.includes(feedback))
@@ -91,19 +119,14 @@ function parseRequest(event: EventRow, request: RoundRequest, at: Date) {
 	const suppliers = [...new Set(request.suppliers.filter(Boolean))];
 	if (!suppliers.length)
 		throw new RuleViolation('Choose at least one supplier to invite to the new round.', 'suppliers', 422);
-	if (!/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}$/.test(request.deadlineLocal ?? ''))
-		throw new RuleViolation('Give a date and time for the round’s deadline.', 'deadlineLocal', 422);
-	let deadline: Date;
-	try {
-		deadline = fromLocalInput(request.deadlineLocal, event.time_zone);
-	} catch (error) {
-		if (error instanceof LocalTimeError) throw new RuleViolation(error.message, 'deadlineLocal', 422);
-		throw error;
-	}
+	const field = request.deadline ? 'deadline' : 'deadlineLocal';
+	const deadline = request.deadline
+		? instant(request.deadline)
+		: localDeadline(request.deadlineLocal ?? '', event.time_zone);
 	if (deadline.getTime() <= at.getTime())
 		throw new RuleViolation(
 			`The round’s deadline must be in the future: ${when(deadline, event.time_zone)} has passed.`,
-			'deadlineLocal',
+			field,
 			422
 		);
 	return { feedback, per, suppliers, deadline };
@@ -261,4 +284,69 @@ export async function supplierRounds(actor: SessionUser, id: string): Promise<Su
 		per: r.feedback_per,
 		lines: feedbackLines(r.own_feedback, r.feedback_per)
 	}));
+}
+
+export interface RoundChange {
+	supplierOrganisationId: string;
+	supplierName: string;
+	/** Landed totals of the bid in the earlier and the later round (null: no priced bid then). */
+	before: number | null;
+	after: number | null;
+	/** The round of the later bid's revision: the later round when the supplier revised in it. */
+	revisedIn: number | null;
+	/** Lines whose landed unit price changed, at most LINES_SHOWN of them, and how many there are. */
+	lines: { item: string; before: number | null; after: number | null }[];
+	linesChanged: number;
+}
+
+const LINES_SHOWN = 50;
+
+/**
+ * Each supplier's bid in the latest opened round against the round before it: the totals and the lines
+ * that changed (a supplier that did not revise keeps its earlier bid, so nothing changes). Null before a
+ * second round has opened.
+ */
+export async function roundChanges(
+	actor: SessionUser,
+	id: string
+): Promise<{ from: number; to: number; suppliers: RoundChange[] } | null> {
+	const event = await evaluationEvent(actor, id);
+	const at = now();
+	const to = await latestOpenedRound(db(), id, at);
+	if (to < 2) return null;
+	const [items, after, before] = await Promise.all([
+		listItems(db(), id),
+		visibleBids(db(), id, event.organisation_id, at, { round: to }),
+		visibleBids(db(), id, event.organisation_id, at, { round: to - 1 })
+	]);
+	const [later, earlier] = [tabulate(items, after), tabulate(items, before)];
+	const width = (tab: Tabulated) => tab.suppliers.length;
+	const priceAt = (tab: Tabulated, column: number, row: number) => {
+		const price = column < 0 ? NaN : tab.prices[row * width(tab) + column]!;
+		return Number.isNaN(price) ? null : price;
+	};
+	const ids = [...new Set([...later.suppliers, ...earlier.suppliers].map((s) => s.id))];
+	return {
+		from: to - 1,
+		to,
+		suppliers: ids.map((supplier) => {
+			const a = later.suppliers.findIndex((s) => s.id === supplier);
+			const b = earlier.suppliers.findIndex((s) => s.id === supplier);
+			const [sa, sb] = [a < 0 ? undefined : later.suppliers[a], b < 0 ? undefined : earlier.suppliers[b]];
+			const total = (s: typeof sa) => (s && !s.withdrawn && s.itemsBid ? s.total : null);
+			const lines = items.flatMap((item, row) => {
+				const [x, y] = [priceAt(earlier, b, row), priceAt(later, a, row)];
+				return x === y ? [] : [{ item: item.ref, before: x, after: y }];
+			});
+			return {
+				supplierOrganisationId: supplier,
+				supplierName: (sa ?? sb)!.name,
+				before: total(sb),
+				after: total(sa),
+				revisedIn: after.find((bid) => bid.supplierOrganisationId === supplier)?.round ?? null,
+				lines: lines.slice(0, LINES_SHOWN),
+				linesChanged: lines.length
+			};
+		})
+	};
 }

@@ -7,18 +7,20 @@ import { myResult } from '$lib/server/services/award-views';
 import { ownBid, submitScreen, withdraw } from '$lib/server/services/bids';
 import { bidJson, eventDetail, eventSheet, itemsFor } from '$lib/server/services/event-views';
 import { askQuestion } from '$lib/server/services/events';
+import { supplierRounds } from '$lib/server/services/rounds';
 import { priceColumns } from '$lib/server/sheets/bid-sheet';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'supplier');
 	return orErrorPage(event, async () => {
-		const [detail, items, own, result, sheet] = await Promise.all([
+		const [detail, items, own, result, sheet, rounds] = await Promise.all([
 			eventDetail(user, event.params.id),
 			itemsFor(user, event.params.id),
 			ownBid(user, event.params.id),
 			myResult(user, event.params.id),
-			eventSheet(user, event.params.id)
+			eventSheet(user, event.params.id),
+			supplierRounds(user, event.params.id)
 		]);
 		return {
 			title: detail.event.reference,
@@ -43,7 +45,9 @@ export const load: PageServerLoad = async (event) => {
 				problemCount: u.problem_count,
 				receivedAt: u.received_at.toISOString()
 			})),
-			uploadCount: own.uploadCount
+			uploadCount: own.uploadCount,
+			// Only the rounds this supplier is invited to, each with its own feedback.
+			rounds: rounds.map((r) => ({ ...r, deadline: r.deadline.toISOString() }))
 		};
 	});
 };

@@ -3,6 +3,7 @@ import { requestContext } from '$lib/server/request-context';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/services/reminders';
 import { staffTabulation, tabulationView } from '$lib/server/services/tabulation';
+import { roundsPage, startRoundFromForm } from '$lib/server/services/round-views';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -22,11 +23,22 @@ export const load: PageServerLoad = async (event) => {
 	return {
 		sealed: false as const,
 		submissions,
-		...tabulationView(found.tab, event.url.searchParams, found.event.currency)
+		...tabulationView(found.tab, event.url.searchParams, found.event.currency),
+		rounds: await orErrorPage(event, () => roundsPage(user, found.event, found.tab))
 	};
 };
 
 export const actions: Actions = {
+	round: async (event) => {
+		const user = requireRole(event, 'buyer');
+		const form = await event.request.formData();
+		return orFail(
+			async () => ({
+				roundStarted: await startRoundFromForm(user, event.params.id, form, requestContext(event))
+			}),
+			(v) => ({ roundError: v.message, roundField: v.field ?? null })
+		);
+	},
 	remind: async (event) => {
 		const user = requireRole(event, 'buyer');
 		return orFail(
