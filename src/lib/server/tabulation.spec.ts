@@ -27,6 +27,7 @@ const item = (ref: string, quantity: number, more: Partial<ItemRow> = {}): ItemR
 const bid = (id: string, lines: VisibleBid['lines'], more: Partial<VisibleBid> = {}): VisibleBid => ({
 	supplierOrganisationId: id,
 	supplierName: `Supplier ${id}`,
+	round: 1,
 	revision: 1,
 	submittedAt: new Date('2027-01-01T00:00:00Z'),
 	source: 'upload',

@@ -101,7 +101,8 @@ const RUN_VIEW_COLUMNS: (keyof RunView)[] = [
 	'explanation_error',
 	'explanation_sha256',
 	'adjusted_from',
-	'adjustments'
+	'adjustments',
+	'round'
 ];
 
 /** The columns that change over a run's life (status, owner, explanation status…): all but its content. */
@@ -198,6 +199,7 @@ export async function insertRun(
 		problemSha256: string;
 		options: Record<string, unknown>;
 		createdBy: number;
+		round?: number;
 		adjustedFrom?: string;
 		adjustments?: ManualChange[];
 		/** Exclusions of abnormally low lines or bids the problem was built without. */
@@ -215,6 +217,7 @@ export async function insertRun(
 			problem_sha256: run.problemSha256,
 			options: JSON.stringify(run.options),
 			created_by: run.createdBy,
+			round: run.round ?? 1,
 			adjusted_from: run.adjustedFrom ?? null,
 			adjustments: run.adjustments ? JSON.stringify(run.adjustments) : null,
 			...(run.excluded ? { excluded: JSON.stringify(run.excluded) } : {})

@@ -42,6 +42,8 @@ export interface RevisionRow {
 	currency: string | null;
 	submitted_by: number;
 	submitted_at: Date;
+	/** The round of bids it belongs to: 1 up to the event's deadline, then 2, 3… (db/rounds.ts). */
+	round: number;
 }
 
 /** Problems kept in an upload's report and sent with it; the total is kept in problem_count. */
@@ -231,6 +233,7 @@ export async function insertRevision(
 		submittedAt: Date;
 		bid: ParsedBid | null;
 		itemIds: Map<string, string>;
+		round?: number;
 	}
 ): Promise<RevisionRow> {
 	await lockSupplierBid(db, revision.eventId, revision.supplierOrganisationId);
@@ -245,7 +248,8 @@ export async function insertRevision(
 			capacity: revision.bid?.capacity === null || !revision.bid ? null : String(revision.bid.capacity),
 			currency: revision.bid?.currency ?? null,
 			submitted_by: revision.submittedBy,
-			submitted_at: revision.submittedAt
+			submitted_at: revision.submittedAt,
+			round: revision.round ?? 1
 		})
 		.returning('*');
 	const bid = revision.bid;
@@ -345,6 +349,8 @@ export interface VisibleBid {
 	supplierOrganisationId: string;
 	supplierName: string;
 	revision: number;
+	/** The round of bids this revision belongs to. */
+	round: number;
 	submittedAt: Date;
 	source: RevisionRow['source'];
 	capacity: string | null;
@@ -388,7 +394,9 @@ interface BundleItemRow {
 
 /**
  * The current bid (latest revision) of every supplier the viewer may see, with prices. A withdrawn bid
- * is its withdrawal revision with no lines. `revision` picks one revision number of a single supplier.
+ * is its withdrawal revision with no lines. `revision` picks one revision number of a single supplier;
+ * `round` the latest revision up to that round. The latest is among the revisions the viewer may see:
+ * while a round is sealed, the buyer sees each supplier's latest of the opened rounds.
  */
 export async function visibleBids(
 	db: Db,
@@ -400,23 +408,32 @@ export async function visibleBids(
 		revision?: number;
 		/** Only the lines of these items (ids), and no bundle offers: one page of a tabulation. */
 		itemIds?: string[];
+		round?: number;
 	} = {}
 ): Promise<VisibleBid[]> {
-	let revisions = db
+	const visible = db
+		.select(
+			'v.*',
+			db.raw('row_number() over (partition by v.supplier_organisation_id order by v.number desc) as latest')
+		)
+		.from(db.raw('visible_bid_revisions(?, ?, ?) as v', [eventId, viewerOrganisationId, now]))
+		.modify((q) => {
+			if (options.supplierOrganisationId)
+				void q.where('v.supplier_organisation_id', options.supplierOrganisationId);
+			if (options.revision !== undefined) void q.where('v.number', options.revision);
+			if (options.round !== undefined) void q.where('v.round', '<=', options.round);
+		});
+	const revisions = db
 		.select('r.*', 'o.name as supplier_name')
-		.from(db.raw('visible_bid_revisions(?, ?, ?) as r', [eventId, viewerOrganisationId, now]))
-		.join('organisations as o', 'o.id', 'r.supplier_organisation_id');
-	if (options.supplierOrganisationId)
-		revisions = revisions.where('r.supplier_organisation_id', options.supplierOrganisationId);
-	if (options.revision !== undefined) revisions = revisions.where('r.number', options.revision);
-	else
-		revisions = revisions.whereRaw(
-			'r.number = (select max(number) from bid_revisions x where x.event_id = r.event_id and x.supplier_organisation_id = r.supplier_organisation_id)'
-		);
-	const rows = (await revisions
+		.from(visible.as('r'))
+		.join('organisations as o', 'o.id', 'r.supplier_organisation_id')
 		.join('events as e', 'e.id', 'r.event_id')
 		.select('e.currency as event_currency')
-		.orderBy('o.name')) as (RevisionRow & { supplier_name: string; event_currency: string })[];
+		.where('r.latest', 1);
+	const rows = (await revisions.orderBy('o.name')) as (RevisionRow & {
+		supplier_name: string;
+		event_currency: string;
+	})[];
 	if (!rows.length) return [];
 	const ids = rows.map((r) => r.id);
 	const { itemIds } = options;
@@ -468,6 +485,7 @@ export async function visibleBids(
 			supplierOrganisationId: r.supplier_organisation_id,
 			supplierName: r.supplier_name,
 			revision: r.number,
+			round: r.round,
 			submittedAt: r.submitted_at,
 			source: r.source,
 			capacity: r.capacity,

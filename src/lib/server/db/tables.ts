@@ -94,6 +94,8 @@ export interface RunRow {
 	/** An adjusted run: the run it was changed from by hand, and the changes (null for a plain run). */
 	adjusted_from: string | null;
 	adjustments: ManualChange[] | null;
+	/** The round of bids the run used (1: the bids up to the event's deadline). */
+	round: number;
 }
 
 /**

@@ -277,3 +277,27 @@ export function regretNoticeMail(
 }
 
 const notice_ = notice;
+
+/**
+ * To each user of a supplier invited to a new round: the new deadline and its own feedback only (lines
+ * already worded), never another supplier's name or price, nor how many bid.
+ */
+export function roundInvitationMail(
+	to: string,
+	event: EventMailContext,
+	round: { number: number; deadline: string; feedback: string[] }
+): OutgoingMail {
+	return notice(
+		to,
+		`Round ${round.number} of bids for ${event.reference} ${event.title}`,
+		[
+			`${event.buyerName} invites you to revise your bid in round ${round.number} of the sourcing event ${event.reference} “${event.title}”.`,
+			`Revised bids close at ${round.deadline}. Until then your revised bid stays sealed; if you do not revise, your current bid stands.`,
+			...(round.feedback.length
+				? ['Where your current bid stands:', ...round.feedback]
+				: ['The buyer gives no feedback on the bids in this round.'])
+		],
+		{ label: 'Open the event', url: event.url },
+		event
+	);
+}

@@ -7,6 +7,7 @@ const bid = (supplier: string, currency: string, over: Partial<VisibleBid> = {})
 	supplierOrganisationId: `org-${supplier}`,
 	supplierName: supplier,
 	revision: 1,
+	round: 1,
 	submittedAt: new Date('2026-12-01T10:00:00Z'),
 	source: 'upload',
 	capacity: null,

@@ -17,6 +17,7 @@ const item = (ref: string, extra: Partial<Record<string, string | null>> = {}) =
 const bid = (supplier: string, over: Partial<VisibleBid> = {}): VisibleBid => ({
 	supplierOrganisationId: `org-${supplier}`,
 	supplierName: supplier,
+	round: 1,
 	revision: 1,
 	submittedAt: new Date('2026-12-01T10:00:00Z'),
 	source: 'upload',

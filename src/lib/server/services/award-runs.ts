@@ -30,6 +30,7 @@ import { buyerOnly, invitedSuppliers, staffEvent } from './award-plans';
 import { runAdjustments } from './criteria';
 import { RuleViolation } from './errors';
 import { effectiveState } from './events';
+import { latestOpenedRound } from './rounds';
 
 export interface AwardRunJob {
 	runId: string;
@@ -160,11 +161,14 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			409
 		);
 	if (event.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
-	const [items, allBids, invitations, rates] = await Promise.all([
+	// The latest revision of each supplier among the opened rounds: a round still open stays sealed.
+	const at = now();
+	const [items, allBids, invitations, rates, round] = await Promise.all([
 		listItems(db(), event.id),
-		visibleBids(db(), event.id, event.organisation_id, now()),
+		visibleBids(db(), event.id, event.organisation_id, at),
 		listInvitations(db(), event.id),
-		listRates(db(), event.id)
+		listRates(db(), event.id),
+		latestOpenedRound(db(), event.id, at)
 	]);
 	// Lines and bids the buyer excluded (abnormally low) stay out of the problem; the run records them.
 	const excluded = await exclusionsForRun(event.id, namesById(invitedSuppliers(invitations)));
@@ -182,7 +186,10 @@ export async function startRun(user: SessionUser, planId: string, eventId?: stri
 			undefined,
 			422
 		);
-	return queueRun(user, event, { id: plan.id, name: plan.name }, problem, undefined, excluded.recorded);
+	return queueRun(user, event, { id: plan.id, name: plan.name }, problem, undefined, {
+		excluded: excluded.recorded,
+		round
+	});
 }
 
 /**
@@ -195,9 +202,13 @@ export async function queueRun(
 	plan: { id: string; name: string },
 	problem: AwardProblem,
 	adjusted?: { from: RunView; changes: ManualChange[] },
-	excluded: RunExclusion[] = []
+	/** What the run was built without (abnormally low, excluded), and the round whose bids it holds. */
+	basis: { excluded?: RunExclusion[]; round?: number } = {}
 ): Promise<RunRow> {
 	const problemHash = sha256(canonicalJson(problem));
+	// An adjusted run keeps the round of the run it was changed from, and its problem that run's bids.
+	const round = basis.round ?? adjusted?.from.round ?? 1;
+	const excluded = basis.excluded ?? [];
 	return db().transaction(async (trx) => {
 		const locked = (await lockEvent(trx, event.id))!;
 		if (locked.state === 'awarded') throw new RuleViolation('The event is awarded already.', undefined, 409);
@@ -211,6 +222,7 @@ export async function queueRun(
 			problemSha256: problemHash,
 			options: RUN_OPTIONS,
 			createdBy: user.id,
+			round,
 			...(adjusted ? { adjustedFrom: adjusted.from.id, adjustments: adjusted.changes } : {}),
 			...(excluded.length ? { excluded } : {})
 		});
@@ -224,6 +236,7 @@ export async function queueRun(
 				run: run.id,
 				number,
 				plan: plan.name,
+				round,
 				problemSha256: problemHash,
 				options: RUN_OPTIONS,
 				...(adjusted ? { adjustedFrom: adjusted.from.number, changes: adjusted.changes } : {}),

@@ -46,6 +46,8 @@ export function runJson(run: RunView, options: { problem?: AwardProblem } = {}) 
 		number: run.number,
 		planId: run.plan_id,
 		plan: run.plan_name,
+		/** The round of bids the run used: each supplier's latest revision of rounds 1 to this one. */
+		round: run.round,
 		status: run.status,
 		cancelRequested: run.cancel_requested,
 		progress: {

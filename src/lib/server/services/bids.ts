@@ -34,6 +34,7 @@ import { commitToFile, putBidFile } from '../storage/sealed-files';
 import { appendTrail } from '../trail';
 import { RuleViolation } from './errors';
 import { effectiveState, evaluationEvent, eventFor, eventMail, sheetEvent } from './events';
+import { biddingRound } from './rounds';
 import type { RequestContext } from './users';
 import { formatInZone } from '$lib/time';
 
@@ -41,19 +42,6 @@ async function supplierEvent(actor: SessionUser, id: string): Promise<EventRow> 
 	const access = await eventFor(actor, id);
 	if (access.view !== 'supplier') throw new RuleViolation('Only invited suppliers bid.', undefined, 403);
 	return access.event;
-}
-
-function refuseUnlessOpen(event: EventRow, at = now()): void {
-	const state = effectiveState(event, at);
-	if (state === 'open') return;
-	const when = `${formatInZone(event.deadline, event.time_zone)} (${event.time_zone})`;
-	throw new RuleViolation(
-		state === 'draft'
-			? 'The event is not open for bids yet.'
-			: `The bid deadline passed at ${when}: bids can no longer be submitted, changed or withdrawn.`,
-		undefined,
-		409
-	);
 }
 
 export async function bidSheet(
@@ -134,7 +122,8 @@ export async function submitUpload(
 	context: RequestContext
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
-	refuseUnlessOpen(event);
+	// Until the event's deadline, or in a later round the supplier is invited to, until that round's.
+	await biddingRound(db(), event, actor.organisationId);
 	await trailingLimits(actor, event.id, () => countSupplierUpload(event.id, actor.organisationId));
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	// Before the opening the buying side sees only this commitment: a plain hash lets prices be guessed.
@@ -199,7 +188,7 @@ export async function submitUpload(
 		const { revision, upload } = await db().transaction(async (trx) => {
 			const held = (await holdEvent(trx, id))!;
 			const at = now();
-			refuseUnlessOpen(held, at);
+			const round = await biddingRound(trx, held, actor.organisationId, at);
 			const upload = await finishUpload(trx, receiving.id, {
 				status: 'accepted',
 				kind: reading.kind,
@@ -214,7 +203,8 @@ export async function submitUpload(
 				submittedBy: actor.id,
 				submittedAt: at,
 				bid,
-				itemIds: new Map(items.map((i) => [i.ref, i.id]))
+				itemIds: new Map(items.map((i) => [i.ref, i.id])),
+				round
 			});
 			// The trail's lock queues every bid of the event until its commit, so it comes after the bid's
 			// rows; the receipt quotes the trail's head, this entry.
@@ -226,7 +216,8 @@ export async function submitUpload(
 					supplier: actor.organisationName,
 					revision: revision.number,
 					upload: upload.id,
-					commitment
+					commitment,
+					...(round > 1 ? { round } : {})
 				},
 				at
 			});
@@ -303,7 +294,8 @@ export async function submitScreen(
 	answers: Record<string, string | null> = {}
 ): Promise<SubmitOutcome> {
 	const event = await supplierEvent(actor, id);
-	refuseUnlessOpen(event);
+	// Until the event's deadline, or in a later round the supplier is invited to, until that round's.
+	await biddingRound(db(), event, actor.organisationId);
 	const items = await listItems(db(), id);
 	const parsed = parseScreenPrices(
 		sheetEvent(event, items, await listRates(db(), id), await listCriteria(db(), id)),
@@ -322,7 +314,7 @@ export async function submitScreen(
 	const revision = await db().transaction(async (trx) => {
 		const held = (await holdEvent(trx, id))!;
 		const at = now();
-		refuseUnlessOpen(held, at);
+		const round = await biddingRound(trx, held, actor.organisationId, at);
 		const revision = await insertRevision(trx, {
 			eventId: id,
 			supplierOrganisationId: actor.organisationId,
@@ -331,7 +323,8 @@ export async function submitScreen(
 			submittedBy: actor.id,
 			submittedAt: at,
 			bid: parsed.bid,
-			itemIds: new Map(items.map((i) => [i.ref, i.id]))
+			itemIds: new Map(items.map((i) => [i.ref, i.id])),
+			round
 		});
 		// The trail's lock queues every bid of the event until its commit, so it comes after the bid's
 		// rows; the receipt quotes the trail's head, this entry.
@@ -339,7 +332,11 @@ export async function submitScreen(
 			eventId: id,
 			actor,
 			action: 'on-screen bid received',
-			detail: { supplier: actor.organisationName, revision: revision.number },
+			detail: {
+				supplier: actor.organisationName,
+				revision: revision.number,
+				...(round > 1 ? { round } : {})
+			},
 			at
 		});
 		await mailReceipt(trx, actor, event, revision, context, {
@@ -361,7 +358,7 @@ export async function withdraw(
 	const revision = await db().transaction(async (trx) => {
 		const held = (await holdEvent(trx, id))!;
 		const at = now();
-		refuseUnlessOpen(held, at);
+		const round = await biddingRound(trx, held, actor.organisationId, at);
 		await lockSupplierBid(trx, id, actor.organisationId);
 		const own = await listOwnRevisions(trx, id, actor.organisationId);
 		if (!own.length || own[0]!.source === 'withdrawal')
@@ -374,14 +371,19 @@ export async function withdraw(
 			submittedBy: actor.id,
 			submittedAt: at,
 			bid: null,
-			itemIds: new Map()
+			itemIds: new Map(),
+			round
 		});
 		// The trail's lock queues every bid of the event until its commit, so it comes after the bid's rows.
 		await appendTrail(trx, {
 			eventId: id,
 			actor,
 			action: 'bid withdrawn',
-			detail: { supplier: actor.organisationName, revision: revision.number },
+			detail: {
+				supplier: actor.organisationName,
+				revision: revision.number,
+				...(round > 1 ? { round } : {})
+			},
 			at
 		});
 		await enqueueMail(trx, [

@@ -230,6 +230,7 @@ export function bidJson(bid: VisibleBid) {
 		supplierOrganisationId: bid.supplierOrganisationId,
 		supplierName: bid.supplierName,
 		revision: bid.revision,
+		round: bid.round,
 		submittedAt: bid.submittedAt.toISOString(),
 		withdrawn: bid.source === 'withdrawal',
 		capacity: num(bid.capacity),

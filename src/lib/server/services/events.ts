@@ -52,6 +52,8 @@ import { COMMITMENT_SCHEME } from '../storage/sealed-files';
 import { appendTrail, canonicalJson, sha256, trailHead } from '../trail';
 import { RuleViolation } from './errors';
 import { inviteUser, type RequestContext } from './users';
+import { openDueRounds } from './round-opening';
+import { hasDueRound } from '../db/rounds';
 import { formatInZone } from '$lib/time';
 
 export type EventAccess = { event: EventRow; view: 'staff' | 'supplier'; canEdit: boolean };
@@ -87,6 +89,9 @@ async function currentEvent(id: string): Promise<EventRow | undefined> {
 	const event = await findEvent(db(), id);
 	if (event?.state === 'open' && isPastDeadline(event))
 		return (await closeIfDue(event.id, 'first read after the deadline')) ?? event;
+	// A later round past its deadline: its opening is recorded by the first read too.
+	if (event && event.opened_at && (await hasDueRound(db(), event.id, now())))
+		await closeIfDue(event.id, 'first read after the deadline');
 	return event;
 }
 
@@ -156,6 +161,8 @@ async function lockedForBuyer(trx: Db, user: SessionUser, id: string): Promise<E
 export async function closeIfDue(eventId: string, by: string): Promise<EventRow | undefined> {
 	return db().transaction(async (trx) => {
 		const event = await lockEvent(trx, eventId);
+		// The same job and first read record the opening of a later round (services/round-opening.ts).
+		if (event && event.opened_at) await openDueRounds(trx, eventId, by);
 		if (!event || event.state !== 'open' || !isPastDeadline(event)) return event;
 		const { suppliers, revisions } = await bidCounts(trx, eventId);
 		const at = now();

@@ -18,6 +18,7 @@ import {
 import { effectiveState, evaluationEvent } from './events';
 import { listRates } from '../db/currencies';
 import { bidsInEventCurrency, ownCurrencyTotals } from './currencies';
+import { latestOpenedRound } from './rounds';
 import { formatChange, formatMoney, formatQuantity, formatShare, formatUnitPrice } from '$lib/format';
 import { TABULATION_PAGE_ITEMS } from '$lib/paging';
 
@@ -37,7 +38,9 @@ export async function staffTabulation(actor: SessionUser, id: string): Promise<S
 	const event = await evaluationEvent(actor, id);
 	const submissions = await listSubmissions(db(), id);
 	if (['draft', 'open'].includes(effectiveState(event))) return { sealed: true, event, submissions };
-	const key = `${id}|${submissions.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
+	// A later round's opening changes what the buyer sees without a new revision: the round is in the key.
+	const round = await latestOpenedRound(db(), id);
+	const key = `${id}|${round}|${submissions.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
 	const known = opened.get(key);
 	if (known) return { sealed: false, event, submissions, tab: known };
 	const [items, bids, rates] = await Promise.all([

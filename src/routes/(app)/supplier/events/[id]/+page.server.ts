@@ -9,18 +9,20 @@ import { bidJson, eventDetail, eventSheet, itemsFor } from '$lib/server/services
 import { askQuestion } from '$lib/server/services/events';
 import { CURRENCY_COLUMN, priceColumns } from '$lib/server/sheets/bid-sheet';
 import { eventRates } from '$lib/server/services/currencies';
+import { supplierRounds } from '$lib/server/services/rounds';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'supplier');
 	return orErrorPage(event, async () => {
-		const [detail, items, own, result, sheet, rates] = await Promise.all([
+		const [detail, items, own, result, sheet, rates, rounds] = await Promise.all([
 			eventDetail(user, event.params.id),
 			itemsFor(user, event.params.id),
 			ownBid(user, event.params.id),
 			myResult(user, event.params.id),
 			eventSheet(user, event.params.id),
-			eventRates(user, event.params.id)
+			eventRates(user, event.params.id),
+			supplierRounds(user, event.params.id)
 		]);
 		return {
 			title: detail.event.reference,
@@ -50,7 +52,9 @@ export const load: PageServerLoad = async (event) => {
 				problemCount: u.problem_count,
 				receivedAt: u.received_at.toISOString()
 			})),
-			uploadCount: own.uploadCount
+			uploadCount: own.uploadCount,
+			// Only the rounds this supplier is invited to, each with its own feedback.
+			rounds: rounds.map((r) => ({ ...r, deadline: r.deadline.toISOString() }))
 		};
 	});
 };

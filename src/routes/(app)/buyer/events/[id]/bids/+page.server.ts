@@ -5,6 +5,7 @@ import { bidStatusJson, invitedBidStatus, remindNonBidders } from '$lib/server/s
 import { lowPriceSummary } from '$lib/server/services/abnormally-low';
 import { evaluatedRows, tabulationEvaluated } from '$lib/server/services/criteria';
 import { staffTabulation, tabulationView } from '$lib/server/services/tabulation';
+import { roundsPage, startRoundFromForm } from '$lib/server/services/round-views';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -28,11 +29,22 @@ export const load: PageServerLoad = async (event) => {
 		submissions,
 		evaluatedCosts: evaluatedRows(evaluated),
 		...tabulationView(found.tab, event.url.searchParams, found.event.currency),
-		lowPrices: lowPriceSummary(found.tab, found.event.currency)
+		lowPrices: lowPriceSummary(found.tab, found.event.currency),
+		rounds: await orErrorPage(event, () => roundsPage(user, found.event, found.tab))
 	};
 };
 
 export const actions: Actions = {
+	round: async (event) => {
+		const user = requireRole(event, 'buyer');
+		const form = await event.request.formData();
+		return orFail(
+			async () => ({
+				roundStarted: await startRoundFromForm(user, event.params.id, form, requestContext(event))
+			}),
+			(v) => ({ roundError: v.message, roundField: v.field ?? null })
+		);
+	},
 	remind: async (event) => {
 		const user = requireRole(event, 'buyer');
 		return orFail(
