@@ -143,11 +143,7 @@ export const problemSchema = z
 					maxQuantity: positive.optional(),
 					packSize: positive.optional(),
 					priceBreaks: z
-						.array(
-							z
-								.object({ fromQuantity: positive, unitPrice: nonNegative, priceBeforeCriteria })
-								.strict()
-						)
+						.array(z.object({ fromQuantity: positive, unitPrice: nonNegative, priceBeforeCriteria }).strict())
 						.optional(),
 					priceBeforeCriteria
 				})
