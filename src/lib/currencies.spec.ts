@@ -7,6 +7,7 @@ import {
 	parseRateTable,
 	rateChanges,
 	rateFor,
+	rateTableText,
 	roundHalfAway,
 	toMinorUnit
 } from './currencies';
@@ -67,6 +68,19 @@ describe('currencies', () => {
 				'Line 3: "ABC" is not an ISO 4217 currency code.'
 			]
 		});
+	});
+
+	// The table is numeric(24,10) (migration 20261209010000): a longer rate would be stored rounded, so the
+	// trail and the mail would show one rate and the runs use another.
+	it('refuses a rate with more decimals than the table keeps, and writes small rates back readably', () => {
+		expect(parseRateTable('IDR 0.00005812345678 2026-12-01 x', 'EUR')).toEqual({
+			ok: false,
+			problems: ['Line 1: "0.00005812345678" has more than 10 decimals.']
+		});
+		// 1e-7 is how JavaScript prints 0.0000001; the form must read back what it shows.
+		const text = rateTableText([{ currency: 'VND', rate: 0.0000001, source: 'x', rateDate: '2026-12-01' }]);
+		expect(text).toBe('VND 0.0000001 2026-12-01 x');
+		expect(parseRateTable(text, 'EUR')).toMatchObject({ ok: true, rates: [{ rate: 0.0000001 }] });
 	});
 
 	it('lists an amendment’s changed rates and the currencies it would withdraw', () => {

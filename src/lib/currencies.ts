@@ -101,6 +101,9 @@ export function parseRateTable(
 			problems.push(
 				`${where}: "${rawRate.slice(0, 20)}" is not a rate; write a number above 0 with a decimal point, such as 0.92.`
 			);
+		// The table keeps ten decimals (numeric(24,10)): a longer rate would be stored other than typed.
+		else if ((rawRate.split('.')[1] ?? '').length > RATE_DECIMALS)
+			problems.push(`${where}: "${rawRate.slice(0, 20)}" has more than ${RATE_DECIMALS} decimals.`);
 		const date = /^\d{4}-\d{2}-\d{2}$/.test(rateDate) ? new Date(`${rateDate}T00:00:00Z`) : null;
 		if (!date || Number.isNaN(date.getTime()) || date.toISOString().slice(0, 10) !== rateDate)
 			problems.push(`${where}: "${rateDate.slice(0, 20)}" is not a date; write it as YYYY-MM-DD.`);
@@ -112,11 +115,17 @@ export function parseRateTable(
 
 /** The table as the buyer types it (parseRateTable's input). */
 export const rateTableText = (rates: readonly EventRate[]) =>
-	rates.map((r) => `${r.currency} ${r.rate} ${r.rateDate} ${r.source}`).join('\n');
+	rates.map((r) => `${r.currency} ${rateText(r.rate)} ${r.rateDate} ${r.source}`).join('\n');
+
+/** Decimals a rate keeps (the rate table's numeric(24,10)). */
+export const RATE_DECIMALS = 10;
+
+/** A rate in plain decimals, never in exponent form ("1e-7"), which the table does not read back. */
+export const rateText = (rate: number) => rate.toFixed(RATE_DECIMALS).replace(/0+$/, '').replace(/\.$/, '');
 
 /** "1 USD = 0.92 EUR (central bank reference rate, 2026-12-01)" */
 export const describeRate = (rate: EventRate, eventCurrency: string) =>
-	`1 ${rate.currency} = ${rate.rate} ${eventCurrency} (${rate.source}, ${rate.rateDate})`;
+	`1 ${rate.currency} = ${rateText(rate.rate)} ${eventCurrency} (${rate.source}, ${rate.rateDate})`;
 
 /**
  * What an amendment changes in the rate table: the trail's before/after and the mail's lines. A currency

@@ -1,6 +1,7 @@
 // Issue 14, section 1: an event in EUR with bids in EUR, USD and JPY. The rates are invented for the test
 // (not any bank's): USD 0.9213 EUR; JPY 0.0061 EUR, amended after publication to 0.0062 EUR. Minor units
 // from ISO 4217: EUR 2, USD 2, JPY 0. Amounts round half away from zero (common practice).
+import * as devalue from 'devalue';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { toLocalInput } from '../../src/lib/time';
 import type { Browserless } from '../support/http';
@@ -88,6 +89,32 @@ describe('bids in several currencies', () => {
 			['JPY', 0.0061],
 			['USD', 0.9213]
 		]);
+	});
+
+	// The rates are in units of the event currency: switching the draft's currency under them would give
+	// the same numbers another meaning, silently.
+	it('refuses a change of the event currency while the draft has rates, on the currency field', async () => {
+		const row = await testDb()('events').where({ id: event.id }).first();
+		const response = await buyer.client.postForm(
+			`/buyer/events/${event.id}?/save`,
+			{
+				reference: row.reference,
+				title: row.title,
+				description: row.description,
+				currency: 'GBP',
+				incoterm: row.incoterm,
+				deliveryPlace: row.delivery_place,
+				deadlineLocal: toLocalInput(deadline, row.time_zone),
+				timeZone: row.time_zone,
+				bidValidityDays: String(row.bid_validity_days)
+			},
+			'application/json'
+		);
+		const answer = (await response.json()) as { type: string; status: number; data: string };
+		expect(answer).toMatchObject({ type: 'failure', status: 422 });
+		const { form } = devalue.parse(answer.data) as { form: { errors: Record<string, string[]> } };
+		expect(form.errors.currency?.[0]).toContain('The rate table gives JPY, USD in EUR.');
+		expect((await testDb()('events').where({ id: event.id }).first()).currency).toBe('EUR');
 	});
 
 	it('locks the rates at publication: the draft form and the database refuse a change', async () => {

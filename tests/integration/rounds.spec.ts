@@ -19,7 +19,7 @@ import { closeTestDb, testDb } from '../support/factories';
 import { textOf } from '../support/html';
 import type { Browserless } from '../support/http';
 import { latestMailTo } from '../support/mail';
-import { post } from '../support/runs';
+import { finished, post } from '../support/runs';
 
 afterAll(closeTestDb);
 
@@ -29,6 +29,8 @@ let a: Supplier, b: Supplier, c: Supplier;
 let event: TestEvent;
 const deadline = new Date(Date.now() + 12_000);
 let roundDeadline: Date;
+/** A finished run on round 1's bids, made before round 2 started. */
+let roundOneRun: string;
 
 const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
 
@@ -115,6 +117,16 @@ describe('a second round of bids', () => {
 		expect(await testDb()('bid_rounds').where({ event_id: event.id })).toEqual([]);
 	});
 
+	it('runs on round 1 before a second round starts', async () => {
+		const { plans } = (await json(
+			await buyer.client.get(`/api/events/${event.id}/plans`, 'application/json')
+		)) as { plans: { id: string; lowestCost: boolean }[] };
+		const started = await post(buyer.client, `/api/plans/${plans.find((p) => p.lowestCost)!.id}/runs`, {});
+		roundOneRun = ((await json(started)) as { runId: string }).runId;
+		const run = (await finished(buyer.client, roundOneRun, 120_000)) as { round: number; status: string };
+		expect(run).toMatchObject({ round: 1, status: 'done' });
+	}, 150_000);
+
 	it('gives each invited supplier only its own rank, on its page, in the API and by mail', async () => {
 		roundDeadline = new Date(Date.now() + 9_000);
 		const started = await post(buyer.client, `/api/events/${event.id}/rounds`, {
@@ -167,7 +179,19 @@ describe('a second round of bids', () => {
 			bids: { round: number }[];
 		};
 		expect(own.bids[0]!.round).toBe(2);
+		// No award while suppliers are still revising: the run on round 1 cannot go to sign-off now.
+		const submit = () =>
+			post(buyer.client, `/api/runs/${roundOneRun}/submit`, { justification: 'Cheapest on round 1.' });
+		const early = await submit();
+		expect(early.status).toBe(409);
+		expect(JSON.stringify(await json(early))).toContain('Round 2 is open for bids until');
 		await untilPast(roundDeadline);
+		// Nor once round 2 has opened: the run was built on bids that are superseded now.
+		const stale = await submit();
+		expect(stale.status).toBe(409);
+		expect(JSON.stringify(await json(stale))).toContain(
+			"This run used the bids of round 1; round 2's bids are open now."
+		);
 		expect((await bid(a, [8, 17])).status).toBe(409);
 		expect(await buyerSeesPricesOf(a)).toEqual({ round: 2, prices: [9, 18] });
 		expect(await buyerSeesPricesOf(b)).toEqual({ round: 1, prices: [11, 19] });

@@ -137,6 +137,8 @@ export interface OwnAward {
 export async function ownCurrencyAwards(
 	event: { id: string; organisation_id: string; currency: string },
 	run: {
+		/** The round whose bids the run used: its own prices are read from that round's bid. */
+		round?: number;
 		problem: { suppliers: { ref: string; bidCurrency?: { code: string; rate: number } }[] };
 		result: {
 			awards: { supplier: string; item: string; quantity: number; unitPrice: number; cost: number }[];
@@ -150,13 +152,11 @@ export async function ownCurrencyAwards(
 	const foreign = run.problem.suppliers.filter((s) => s.bidCurrency && (!only || s.ref === only.name));
 	if (!foreign.length || !run.result) return out;
 	const [bids, items, rates] = await Promise.all([
-		visibleBids(
-			db(),
-			event.id,
-			event.organisation_id,
-			at,
-			only ? { supplierOrganisationId: only.organisationId } : {}
-		),
+		visibleBids(db(), event.id, event.organisation_id, at, {
+			...(only ? { supplierOrganisationId: only.organisationId } : {}),
+			// The bids the run was built on, not a revision of a later round.
+			...(run.round !== undefined ? { round: run.round } : {})
+		}),
 		listItems(db(), event.id),
 		listRates(db(), event.id)
 	]);
@@ -165,9 +165,9 @@ export async function ownCurrencyAwards(
 	);
 	for (const supplier of foreign) {
 		const { code, rate } = supplier.bidCurrency!;
-		const own = new Map(
-			bids.find((b) => b.supplierName === supplier.ref)?.lines.map((l) => [l.item, l]) ?? []
-		);
+		// Its own prices only while they are in the run's currency for it; else converted back at the rate.
+		const bid = bids.find((b) => b.supplierName === supplier.ref && b.currency === code);
+		const own = new Map(bid?.lines.map((l) => [l.item, l]) ?? []);
 		const awarded = run.result.awards.filter((a) => a.supplier === supplier.ref && a.quantity > 0);
 		const lines = awarded.map((a) => {
 			const line = own.get(a.item);

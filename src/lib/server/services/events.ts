@@ -219,6 +219,15 @@ export async function updateDraft(actor: SessionUser, id: string, fields: EventF
 	await db().transaction(async (trx) => {
 		const event = await lockedDraft(trx, actor, id);
 		await referenceFree(trx, event.organisation_id, fields.reference, event.id);
+		// Each rate is in units of the event currency: under another one, the same numbers would mean
+		// something else, and nothing would say so.
+		const rates = fields.currency !== event.currency ? await listRates(trx, id) : [];
+		if (rates.length)
+			throw new RuleViolation(
+				`The rate table gives ${rates.map((r) => r.currency).join(', ')} in ${event.currency}. Clear it (Other bid currencies) before changing the event currency, then set the rates in ${fields.currency}.`,
+				'currency',
+				422
+			);
 		await updateEventFields(trx, id, fields);
 		await appendTrail(trx, { eventId: id, actor, action: 'draft changed', detail: trailFields(fields) });
 	});

@@ -60,6 +60,27 @@ export async function latestOpenedRound(from: Db, eventId: string, at = now()): 
 }
 
 /**
+ * Why a run may not go to sign-off now, as far as rounds go: a round still open (its bids would come after
+ * the award), or a run on an earlier round than the latest opened one (it was built on superseded bids).
+ * Read through `from`, the transaction that holds the event.
+ */
+export async function roundBarToSignoff(
+	from: Db,
+	event: Pick<EventRow, 'id' | 'time_zone'>,
+	runRound: number,
+	at = now()
+): Promise<string | undefined> {
+	const rounds = await listRounds(from, event.id);
+	const open = rounds.find((r) => isOpenAt(r, at));
+	if (open)
+		return `Round ${open.number} is open for bids until ${when(open.deadline, event.time_zone)}: submit a run for sign-off after it closes, run on its bids.`;
+	const latest = openedRound(rounds, at);
+	if (runRound < latest)
+		return `This run used the bids of round ${runRound}; round ${latest}'s bids are open now. Run the plan again on them.`;
+	return undefined;
+}
+
+/**
  * The round a supplier may bid in now: 1 while the event is open; after the opening, the open round it
  * is invited to. Anything else is refused with when bidding closed. Read through `from`, the transaction
  * that holds the event, so the answer stands until the bid is written.
@@ -73,6 +94,14 @@ export async function biddingRound(
 	const state = effectiveState(event, at);
 	if (state === 'open') return 1;
 	if (state === 'draft') throw new RuleViolation('The event is not open for bids yet.', undefined, 409);
+	// A later round is bidding on an event in evaluation: once it is submitted for sign-off, awarded or
+	// cancelled, no round takes bids any more, whatever its deadline said.
+	if (state !== 'closed' && state !== 'in_evaluation')
+		throw new RuleViolation(
+			'The event is no longer taking bids: it is awaiting sign-off, awarded or cancelled.',
+			undefined,
+			409
+		);
 	const invited = (await ownRoundInvitations(from, event.id, supplierOrganisationId)).at(-1);
 	if (invited && isOpenAt(invited, at)) return invited.number;
 	const closed = invited ?? event;

@@ -11,6 +11,8 @@ import { onStep, stepsOf } from '$lib/award/core/units';
 import type { AwardLine } from '$lib/award/core/result';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
+import { runExclusions } from '../db/abnormally-low';
+import { db } from '../db/knex';
 import type { ManualChange, RunRow } from '../db/tables';
 import { buyerOnly } from './award-plans';
 import { findRun, queueRun } from './award-runs';
@@ -343,8 +345,14 @@ export async function saveAdjustedRun(
 		);
 	// Filed under the plan it came from, named so nobody takes it for a plain run of that plan.
 	const name = run.adjusted_from ? run.plan_name : `${run.plan_name} (changed by hand)`;
-	return queueRun(user, event, { id: run.plan_id, name }, problem, {
-		from: run,
-		changes: [...inherited, ...changes]
-	});
+	// Its problem is the run's, so it was built without the same excluded lines and bids: it says so too.
+	const excluded = (await runExclusions(db(), run.id)) ?? [];
+	return queueRun(
+		user,
+		event,
+		{ id: run.plan_id, name },
+		problem,
+		{ from: run, changes: [...inherited, ...changes] },
+		{ excluded }
+	);
 }

@@ -15,6 +15,7 @@ import { appendTrail, sha256 } from '../trail';
 import { findRun } from './award-runs';
 import { staffEvent } from './award-plans';
 import { RuleViolation } from './errors';
+import { roundBarToSignoff } from './rounds';
 
 export interface NoticeJob {
 	noticeId: string;
@@ -52,6 +53,8 @@ export async function submitRun(
 				undefined,
 				409
 			);
+		const roundBar = await roundBarToSignoff(trx, locked, run.round ?? 1);
+		if (roundBar) throw new RuleViolation(roundBar, undefined, 409);
 		const row = await awards.insertSignoff(trx, {
 			eventId: event.id,
 			runId: run.id,

@@ -57,7 +57,7 @@ export const actions: Actions = {
 		const user = requireRole(event, 'buyer');
 		const form = await superValidate(event.request, zod4(eventSchema), { id: 'event' });
 		if (!form.valid) return fail(400, { form });
-		return orFieldError(form, { known: ['deadlineLocal'], fallback: 'reference' }, async () => {
+		return orFieldError(form, { known: ['deadlineLocal', 'currency'], fallback: 'reference' }, async () => {
 			await updateDraft(user, event.params.id, fieldsFromForm(form.data));
 			return message(form, 'Saved.');
 		});
