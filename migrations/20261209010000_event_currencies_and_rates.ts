@@ -4,8 +4,11 @@ import type { Knex } from 'knex';
 // each one's rate (event-currency units per one unit of the bid currency) with its source and date, before
 // bids arrive. Once the event is published its rates change only by an amendment: the trigger refuses any
 // insert, update or delete of a published event's rates unless an amendment of that event was recorded in
-// the same transaction (its created_at is the transaction's start time, now()). A revision states the
-// currency its prices are in; null is the event currency (every revision made before this migration).
+// the same transaction (its created_at is the transaction's start time, now()) whose detail names rates,
+// and only while the event is open before its deadline: the rule amend() applies (services/events.ts),
+// held here too, so that whoever sends SQL with the app's credentials cannot reprice the sealed bids after
+// the deadline behind a dummy amendment. A revision states the currency its prices are in; null is the
+// event currency (every revision made before this migration).
 export async function up(knex: Knex): Promise<void> {
 	await knex.schema.createTable('event_rates', (t) => {
 		t.uuid('event_id').notNullable().references('id').inTable('events').onDelete('CASCADE');
@@ -26,10 +29,16 @@ export async function up(knex: Knex): Promise<void> {
 			if tg_op = 'UPDATE' and new.event_id <> old.event_id then
 				raise exception 'a rate stays with its event' using errcode = 'check_violation';
 			end if;
-			if exists (select 1 from events e where e.id = v_event and (e.state <> 'draft' or e.published_at is not null))
-				and not exists (select 1 from amendments a where a.event_id = v_event and a.created_at = now()) then
-				raise exception 'the rates of a published event change only by an amendment'
-					using errcode = 'check_violation';
+			if exists (select 1 from events e where e.id = v_event and (e.state <> 'draft' or e.published_at is not null)) then
+				if not exists (select 1 from amendments a
+					where a.event_id = v_event and a.created_at = now() and (a.detail -> 'rates') is not null) then
+					raise exception 'the rates of a published event change only by an amendment'
+						using errcode = 'check_violation';
+				end if;
+				if not exists (select 1 from events e where e.id = v_event and e.state = 'open' and e.deadline > now()) then
+					raise exception 'the rates of an event change only while it is open, before its deadline'
+						using errcode = 'check_violation';
+				end if;
 			end if;
 			return coalesce(new, old);
 		end $$;

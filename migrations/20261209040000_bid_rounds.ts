@@ -65,9 +65,14 @@ export async function up(knex: Knex): Promise<void> {
 		t.integer('round').notNullable().defaultTo(1);
 	});
 	// As events_keep_the_seal: a round's deadline only moves later, and its opening comes once, after it.
+	// A round stays the round it is (its event and number): visible_bid_revisions finds it by them, so a
+	// passed round moved in from another event or renumbered would open another round's sealed bids.
 	await knex.raw(`
 		create function bid_rounds_keep_the_seal() returns trigger language plpgsql as $$
 		begin
+			if new.event_id <> old.event_id or new.number <> old.number then
+				raise exception 'a round keeps its event and number (the seal)';
+			end if;
 			if new.deadline < old.deadline then
 				raise exception 'a round''s deadline cannot be brought forward (the seal)';
 			end if;
@@ -84,6 +89,59 @@ export async function up(knex: Knex): Promise<void> {
 		create trigger bid_rounds_keep_the_seal before update on bid_rounds
 			for each row execute function bid_rounds_keep_the_seal();
 	`);
+	// visible_bid_revisions trusts bid_revisions.round and bid_rounds' deadlines, so the database holds
+	// those too, against whoever sends SQL with the app's credentials: a round is never deleted (nor
+	// re-inserted with a deadline passed) and starts only as the next one, with a future deadline, when no
+	// round of the event is open; a revision never moves to another round, event, supplier or number, and
+	// is made in a round after the first only while that round is open and by a supplier invited to it.
+	// The app never updates bid_revisions; a delete is left to the cascade from the event.
+	await knex.raw(`
+		create function bid_rounds_start_sealed() returns trigger language plpgsql as $$
+		begin
+			if tg_op = 'DELETE' then
+				-- The cascade from a deleted event (its row already gone) takes its rounds with it.
+				if exists (select 1 from events e where e.id = old.event_id) then
+					raise exception 'a round is never deleted (the seal)' using errcode = 'check_violation';
+				end if;
+				return old;
+			end if;
+			if new.deadline <= now() then
+				raise exception 'a round''s deadline must be in the future (the seal)' using errcode = 'check_violation';
+			end if;
+			perform 1 from events e where e.id = new.event_id for update;
+			if new.number <> coalesce((select max(b.number) from bid_rounds b where b.event_id = new.event_id), 1) + 1 then
+				raise exception 'a round starts only as the next one of its event' using errcode = 'check_violation';
+			end if;
+			if exists (select 1 from bid_rounds b where b.event_id = new.event_id and b.deadline > now()) then
+				raise exception 'a round starts only once the previous one has closed' using errcode = 'check_violation';
+			end if;
+			return new;
+		end $$;
+		create trigger bid_rounds_start_sealed before insert or delete on bid_rounds
+			for each row execute function bid_rounds_start_sealed();
+
+		create function bid_revisions_keep_their_round() returns trigger language plpgsql as $$
+		begin
+			if tg_op = 'UPDATE' then
+				if new.round <> old.round or new.event_id <> old.event_id
+					or new.supplier_organisation_id <> old.supplier_organisation_id or new.number <> old.number then
+					raise exception 'a bid revision keeps its round, event, supplier and number (the seal)'
+						using errcode = 'check_violation';
+				end if;
+				return new;
+			end if;
+			if new.round > 1 and not exists (select 1 from bid_rounds b
+				join bid_round_suppliers s on s.round_id = b.id
+				where b.event_id = new.event_id and b.number = new.round and b.deadline > now()
+					and s.supplier_organisation_id = new.supplier_organisation_id) then
+				raise exception 'a revision in round % is made only while that round is open, by a supplier invited to it',
+					new.round using errcode = 'check_violation';
+			end if;
+			return new;
+		end $$;
+		create trigger bid_revisions_keep_their_round before insert or update on bid_revisions
+			for each row execute function bid_revisions_keep_their_round();
+	`);
 	await knex.raw(visible(SEALED('e.deadline <= p_now')));
 	await knex.raw(lines(SEALED('e.deadline <= p_now')));
 }
@@ -91,6 +149,10 @@ export async function up(knex: Knex): Promise<void> {
 export async function down(knex: Knex): Promise<void> {
 	await knex.raw(visible(BEFORE));
 	await knex.raw(lines(BEFORE));
+	await knex.raw('drop trigger if exists bid_revisions_keep_their_round on bid_revisions');
+	await knex.raw('drop function if exists bid_revisions_keep_their_round()');
+	await knex.raw('drop trigger if exists bid_rounds_start_sealed on bid_rounds');
+	await knex.raw('drop function if exists bid_rounds_start_sealed()');
 	await knex.raw('drop trigger if exists bid_rounds_keep_the_seal on bid_rounds');
 	await knex.raw('drop function if exists bid_rounds_keep_the_seal()');
 	await knex.schema.alterTable('award_runs', (t) => t.dropColumn('round'));

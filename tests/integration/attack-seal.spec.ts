@@ -18,6 +18,7 @@ import {
 } from '../support/events';
 import type { Browserless } from '../support/http';
 import { mailTo, type FakeMail } from '../support/mail';
+import { post } from '../support/runs';
 import {
 	openSealedFile,
 	parseBidFileKeys,
@@ -301,4 +302,148 @@ describe('someone who can read the object store', () => {
 		expect(sealedKeyId(rotated)).toBe('rotated');
 		expect(Buffer.compare(openSealedFile(rotated, key, parseBidFileKeys(newKey)), csv)).toBe(0);
 	});
+});
+
+// Issue 14's rounds and rates, tried as whoever sends SQL with the app's credentials (testDb connects as
+// the app's role): the seal of a round and the rate lock are held by triggers, not only by the services.
+describe('someone who writes to the rounds in SQL through the app’s own connection', () => {
+	const revised = '3.21';
+	let eventId: string;
+
+	/** The rounds and the unit prices of revisions the database lets the buying organisation read now. */
+	const buyerSees = async () => {
+		const rounds = (
+			await testDb().raw('select round from visible_bid_revisions(?, ?, now())', [
+				eventId,
+				buyer.organisationId
+			])
+		).rows as { round: number }[];
+		const prices = (
+			await testDb().raw('select unit_price from sealed_bid_lines(?, ?, now())', [
+				eventId,
+				buyer.organisationId
+			])
+		).rows as { unit_price: string }[];
+		return {
+			rounds: [...new Set(rounds.map((r) => r.round))].sort(),
+			prices: [...new Set(prices.map((p) => Number(p.unit_price)))]
+		};
+	};
+
+	beforeAll(async () => {
+		const deadline = new Date(Date.now() + 8_000);
+		const event = await anOpenEvent({
+			createdBy: buyer.user.id,
+			invite: [supplier.organisationId],
+			deadline
+		});
+		eventId = event.id;
+		expect(
+			(await uploadSheet(supplier.client, eventId, await aCsvBid(eventId, '4.37'), 'bid.csv')).status
+		).toBe(201);
+		await untilPast(deadline);
+		const started = await post(buyer.client, `/api/events/${eventId}/rounds`, {
+			suppliers: [supplier.organisationId],
+			deadline: new Date(Date.now() + 3_600_000).toISOString(),
+			feedback: 'rank',
+			per: 'item'
+		});
+		expect(started.status).toBe(201);
+		expect(
+			(await uploadSheet(supplier.client, eventId, await aCsvBid(eventId, revised), 'bid.csv')).status
+		).toBe(201);
+		expect(
+			await testDb()('bid_revisions').where({ event_id: eventId, round: 2 }).select('number')
+		).toHaveLength(1);
+		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
+	}, 60_000);
+
+	it('cannot move a round-2 revision into round 1', async () => {
+		await expect(
+			testDb()('bid_revisions').where({ event_id: eventId, round: 2 }).update({ round: 1 })
+		).rejects.toThrow(/keeps its round, event, supplier and number/);
+		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
+	});
+
+	it('cannot delete the open round, nor renumber it, nor insert it again with its deadline passed', async () => {
+		const round = await testDb()('bid_rounds').where({ event_id: eventId, number: 2 }).first();
+		await expect(testDb()('bid_rounds').where({ id: round.id }).delete()).rejects.toThrow(/never deleted/);
+		await expect(testDb()('bid_rounds').where({ id: round.id }).update({ number: 3 })).rejects.toThrow(
+			/keeps its event and number/
+		);
+		const { id: _id, opened_at: _opened, ...fields } = round as Record<string, unknown>;
+		// The deletion is refused, so the insert also meets the unique (event, number); the trigger answers
+		// first, which is what would stop the attack had the row gone.
+		await expect(
+			testDb()('bid_rounds').insert({ ...fields, deadline: new Date(Date.now() - 1000) })
+		).rejects.toThrow(/deadline must be in the future/);
+		await expect(
+			testDb()('bid_rounds').insert({ ...fields, number: 3, deadline: new Date(Date.now() - 1000) })
+		).rejects.toThrow(/deadline must be in the future/);
+		// Nor a round 3 beside the open round 2, nor a revision in a round that does not exist.
+		await expect(
+			testDb()('bid_rounds').insert({ ...fields, number: 3, deadline: new Date(Date.now() + 7_200_000) })
+		).rejects.toThrow(/previous one has closed/);
+		await expect(
+			testDb()('bid_revisions').insert({
+				event_id: eventId,
+				supplier_organisation_id: supplier.organisationId,
+				number: 99,
+				source: 'screen',
+				submitted_by: supplier.user.id,
+				submitted_at: new Date(),
+				round: 3
+			})
+		).rejects.toThrow(/made only while that round is open/);
+		expect(await testDb()('bid_rounds').where({ event_id: eventId })).toHaveLength(1);
+		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
+	});
+});
+
+describe('someone who changes a rate in SQL through the app’s own connection', () => {
+	it('needs an amendment naming rates, made while the event is open before its deadline', async () => {
+		const deadline = new Date(Date.now() + 6_000);
+		const event = await anOpenEvent({
+			createdBy: buyer.user.id,
+			invite: [supplier.organisationId],
+			deadline
+		});
+		const rates = (rate: number) => ({
+			event_id: event.id,
+			currency: 'USD',
+			rate,
+			source: 'ECB',
+			rate_date: '2026-12-01'
+		});
+		const amendment = (number: number, detail: Record<string, unknown>) => ({
+			event_id: event.id,
+			number,
+			summary: 'Rates.',
+			detail: JSON.stringify(detail),
+			created_by: buyer.user.id
+		});
+		// As amend() does it, before the deadline: accepted.
+		await testDb().transaction(async (trx) => {
+			await trx('amendments').insert(amendment(1, { rates: { before: [], after: [] } }));
+			await trx('event_rates').insert(rates(0.92));
+		});
+		// A dummy amendment that names no rates: refused.
+		await expect(
+			testDb().transaction(async (trx) => {
+				await trx('amendments').insert(amendment(2, { description: { before: '', after: 'x' } }));
+				await trx('event_rates').where({ event_id: event.id }).update({ rate: 0.5 });
+			})
+		).rejects.toThrow(/change only by an amendment/);
+		// After the deadline, even beside an amendment naming rates: refused.
+		await untilPast(deadline);
+		await expect(
+			testDb().transaction(async (trx) => {
+				await trx('amendments').insert(amendment(2, { rates: { before: [], after: [] } }));
+				await trx('event_rates').where({ event_id: event.id }).update({ rate: 0.5 });
+			})
+		).rejects.toThrow(/only while it is open, before its deadline/);
+		const stored = await testDb()('event_rates').where({ event_id: event.id });
+		expect(stored.map((r: { rate: string }) => Number(r.rate))).toEqual([0.92]);
+		expect(await testDb()('amendments').where({ event_id: event.id })).toHaveLength(1);
+	}, 30_000);
 });
