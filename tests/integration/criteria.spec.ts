@@ -33,6 +33,9 @@ const postAction = (client: Browserless, path: string, fields: [string, string][
 	client.request(path, { method: 'POST', body: new URLSearchParams(fields), accept: 'application/json' });
 
 const row = (values: Record<string, string>): [string, string][] => Object.entries(values);
+/** The opening tag of the control with this aria-label or id in a page's HTML. */
+const controlTag = (html: string, attribute: string) =>
+	html.match(new RegExp(`<(?:input|select|textarea)[^>]*${attribute}[^>]*>`))?.[0] ?? '';
 const criteriaPage = async () => {
 	const response = await buyer.client.get(`/buyer/events/${event.id}/criteria`);
 	expect(response.status).toBe(200);
@@ -58,6 +61,20 @@ beforeAll(async () => {
 
 describe('non-price criteria as money', () => {
 	it('sets the criteria on the draft and locks them at publication', async () => {
+		// A refused save names the cell: the form (without JavaScript) marks it and shows the message beside it.
+		const wrong = await buyer.client.request(`/buyer/events/${event.id}/criteria?/save`, {
+			method: 'POST',
+			body: new URLSearchParams([
+				...row({ ref: 'LT', name: 'Lead time', unit: 'days', answeredBy: 'supplier' }),
+				...row({ basis: 'percent_of_price', rate: '150', threshold: '5', direction: 'above' })
+			])
+		});
+		const wrongHtml = await wrong.text();
+		expect(controlTag(wrongHtml, 'aria-label="Per point 1"')).toContain('aria-invalid="true"');
+		expect(controlTag(wrongHtml, 'aria-label="Threshold 1"')).not.toContain('aria-invalid');
+		expect(wrongHtml).toMatch(
+			/id="criterion-0-rate-error"[^>]*>[\s\S]{0,400}a percentage per point must be at most 100/
+		);
 		const saved = await postAction(buyer.client, `/buyer/events/${event.id}/criteria?/save`, [
 			...row({ ref: 'LT', name: 'Lead time', unit: 'days', answeredBy: 'supplier' }),
 			...row({ basis: 'percent_of_price', rate: '0.2', threshold: '5', direction: 'above' }),
@@ -125,6 +142,16 @@ describe('non-price criteria as money', () => {
 		const early = await post(buyer.client, `/api/plans/${plan}/runs`, {});
 		expect(early.status).toBe(422);
 		expect(await early.text()).toContain('Score or answer every criterion before a run');
+		// A score without its reason is refused on the reason's field.
+		const unreasoned = await buyer.client.request(`/buyer/events/${event.id}/criteria?/score`, {
+			method: 'POST',
+			body: new URLSearchParams([
+				...row({ criterionRef: 'SQ', supplierOrganisationId: a.organisation.id, value: '70', comment: '' })
+			])
+		});
+		const unreasonedHtml = await unreasoned.text();
+		expect(controlTag(unreasonedHtml, 'id="score-comment"')).toContain('aria-invalid="true"');
+		expect(controlTag(unreasonedHtml, 'id="score-value"')).not.toContain('aria-invalid');
 		// Service quality, 1 once per point below 80: A 70 → 10 points → 10 once; B 80 and C 94.7 → 0.
 		for (const [supplier, value] of [
 			[a, '70'],

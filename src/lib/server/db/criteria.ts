@@ -153,7 +153,8 @@ export async function runHasCriteria(db: Db, runId: string): Promise<boolean> {
 
 /**
  * Each supplier's current revision the viewer may see (visible_bid_revisions: after the deadline for the
- * buying organisation), with its answers: no prices read.
+ * buying organisation), with its answers: no prices read. The latest VISIBLE revision, as visibleBids
+ * (db/bids.ts) picks it: a revision sealed in a round still open is not the current one yet.
  */
 export async function currentAnswers(
 	db: Db,
@@ -166,11 +167,21 @@ export async function currentAnswers(
 	const rows: { id: string; supplier_organisation_id: string; supplier_name: string; source: string }[] =
 		await db
 			.select('r.id', 'r.supplier_organisation_id', 'r.source', 'o.name as supplier_name')
-			.from(db.raw('visible_bid_revisions(?, ?, ?) as r', [eventId, viewerOrganisationId, now]))
+			.from(
+				db
+					.select(
+						'v.id',
+						'v.supplier_organisation_id',
+						'v.source',
+						db.raw(
+							'row_number() over (partition by v.supplier_organisation_id order by v.number desc) as latest'
+						)
+					)
+					.from(db.raw('visible_bid_revisions(?, ?, ?) as v', [eventId, viewerOrganisationId, now]))
+					.as('r')
+			)
 			.join('organisations as o', 'o.id', 'r.supplier_organisation_id')
-			.whereRaw(
-				'r.number = (select max(number) from bid_revisions x where x.event_id = r.event_id and x.supplier_organisation_id = r.supplier_organisation_id)'
-			);
+			.where('r.latest', 1);
 	const answers = await answersOf(
 		db,
 		rows.map((r) => r.id)

@@ -11,6 +11,7 @@ import {
 	type RankReversal
 } from '$lib/evaluation/criteria';
 import { evaluatedSupplierTotals } from '$lib/evaluation/apply-criteria';
+import type { EventRate } from '$lib/currencies';
 import { formatMoney } from '$lib/format';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
@@ -25,10 +26,12 @@ import {
 	currentAnswers,
 	type ScoreRow
 } from '../db/criteria';
+import { listRates } from '../db/currencies';
 import { listInvitations, listItems } from '../db/events';
 import { db } from '../db/knex';
 import { appendTrail } from '../trail';
 import type { Tabulated } from '../tabulation';
+import { bidsInEventCurrency } from './currencies';
 import { RuleViolation } from './errors';
 import { effectiveState, eventFor, evaluationEvent, lockedDraft } from './events';
 
@@ -208,18 +211,20 @@ export async function criteriaDesk(eventId: string, bids: VisibleBid[]): Promise
 /**
  * The relative-scoring view: each supplier's total price over the items it bid, against quality points
  * from one criterion, with the reversals that removing one bid would cause. Only suppliers that bid
- * every item are compared (a total over fewer items is not the same purchase).
+ * every item are compared (a total over fewer items is not the same purchase). Prices are compared in the
+ * event currency at the event's fixed rates (as the tabulation and the runs compare them).
  */
 export function relativeView(
-	bids: VisibleBid[],
+	bids: readonly VisibleBid[],
 	quantities: Map<string, number>,
 	points: Map<string, number>,
-	priceWeight: number
+	priceWeight: number,
+	money: { currency: string; rates: readonly EventRate[] }
 ): {
 	scores: { supplier: string; price: number; quality: number; score: number }[];
 	reversals: RankReversal[];
 } {
-	const scored = bids
+	const scored = bidsInEventCurrency(bids, money.currency, money.rates)
 		.filter(
 			(b) =>
 				b.source !== 'withdrawal' &&
@@ -248,10 +253,11 @@ export async function criteriaPage(
 	const criteria = await listCriteria(db(), eventId);
 	const sealed = ['draft', 'open'].includes(effectiveState(event));
 	if (sealed) return { event, criteria, sealed: true as const };
-	const [bids, scores, items] = await Promise.all([
+	const [bids, scores, items, rates] = await Promise.all([
 		visibleBids(db(), eventId, user.organisationId, now()),
 		latestScores(db(), eventId),
-		listItems(db(), eventId)
+		listItems(db(), eventId),
+		listRates(db(), eventId)
 	]);
 	const list = evaluations(criteria, bids, scores);
 	const quality =
@@ -275,7 +281,9 @@ export async function criteriaPage(
 		evaluations: list,
 		scores,
 		quality: quality?.ref ?? null,
-		relative: quality ? relativeView(bids, quantities, points, view.priceWeight) : null
+		relative: quality
+			? relativeView(bids, quantities, points, view.priceWeight, { currency: event.currency, rates })
+			: null
 	};
 }
 
@@ -318,7 +326,9 @@ export async function runEvaluatedTotals(user: SessionUser, runId: string, event
 /**
  * The tabulation's suppliers at price and at evaluated cost: each priced cell's landed unit price plus the
  * supplier's percentage of the price as bid (without the item's freight and duty) and its amount per unit,
- * times the item's quantity; plus its amount once. Null where the event has no criteria.
+ * times the item's quantity; plus its amount once. Null where the event has no criteria. The tabulation's
+ * prices and totals are in the event currency already (staffTabulation converts every bid at the fixed
+ * rates), as are the item's adders and the criteria's money.
  */
 export async function tabulationEvaluated(user: SessionUser, eventId: string, tab: Tabulated) {
 	const event = await evaluationEvent(user, eventId);

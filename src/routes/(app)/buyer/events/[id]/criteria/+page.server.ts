@@ -10,6 +10,14 @@ import type { Actions, PageServerLoad } from './$types';
 
 const FIELDS = ['ref', 'name', 'unit', 'answeredBy', 'basis', 'rate', 'threshold', 'direction'] as const;
 
+/** The score form's field a refusal names (the schema's keys, or the service's short names). */
+function scoreFieldOf(field: string): 'criterion' | 'supplier' | 'value' | 'comment' | undefined {
+	if (field === 'criterionRef' || field === 'criterion') return 'criterion';
+	if (field === 'supplierOrganisationId' || field === 'supplier') return 'supplier';
+	if (field === 'value' || field === 'comment') return field;
+	return undefined;
+}
+
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'buyer');
 	const weight = Number(event.url.searchParams.get('weight') ?? '50');
@@ -72,32 +80,50 @@ export const actions: Actions = {
 		const column = (name: string) => data.getAll(name).map((v) => (typeof v === 'string' ? v : ''));
 		const columns = Object.fromEntries(FIELDS.map((f) => [f, column(f)]));
 		const criteria: Criterion[] = [];
+		// The form's row of each criterion kept (empty rows are skipped), to name the refused cell.
+		const rowOf: number[] = [];
 		for (let k = 0; k < columns.ref!.length; k++) {
 			const row = Object.fromEntries(FIELDS.map((f) => [f, columns[f]![k] ?? '']));
 			if (!row.ref!.trim() && !row.name!.trim()) continue;
 			const parsed = criterionRowSchema.safeParse(row);
-			if (!parsed.success)
-				return fail(400, { saveError: `Criterion ${k + 1}: ${parsed.error.issues[0]!.message}.` });
+			if (!parsed.success) {
+				const issue = parsed.error.issues[0]!;
+				return fail(400, {
+					saveError: `Criterion ${k + 1}: ${issue.message}.`,
+					saveField: `criteria[${k}].${String(issue.path[0] ?? 'ref')}`
+				});
+			}
 			criteria.push(parsed.data);
+			rowOf.push(k);
 		}
 		return orFail(
 			async () => {
 				await saveCriteria(user, event.params.id, criteria);
 				return { saved: `Saved ${criteria.length} criteri${criteria.length === 1 ? 'on' : 'a'}.` };
 			},
-			(v) => ({ saveError: v.message })
+			(v) => ({
+				saveError: v.message,
+				// The service counts the criteria kept; the form, its rows.
+				saveField: v.field?.replace(
+					/^criteria\[(\d+)\]/,
+					(_, i: string) => `criteria[${rowOf[Number(i)] ?? i}]`
+				)
+			})
 		);
 	},
 	score: async (event) => {
 		const user = requireRole(event, 'buyer');
 		const parsed = scoreSchema.safeParse(Object.fromEntries(await event.request.formData()));
-		if (!parsed.success) return fail(400, { scoreError: parsed.error.issues[0]!.message });
+		if (!parsed.success) {
+			const issue = parsed.error.issues[0]!;
+			return fail(400, { scoreError: issue.message, scoreField: scoreFieldOf(String(issue.path[0] ?? '')) });
+		}
 		return orFail(
 			async () => {
 				await scoreCriterion(user, event.params.id, parsed.data);
 				return { scored: 'Score recorded in the decision trail.' };
 			},
-			(v) => ({ scoreError: v.message })
+			(v) => ({ scoreError: v.message, scoreField: scoreFieldOf(v.field ?? '') })
 		);
 	}
 };
