@@ -47,6 +47,10 @@ describe('currencies', () => {
 			false,
 			false
 		]);
+		// The CFA francs (XOF, XAF) and the East Caribbean dollar (XCD) are currencies of ISO 4217 list one
+		// with two decimals and zero (XOF, XAF 0; XCD 2): their X does not make them metals or test codes.
+		expect(['XOF', 'XAF', 'XCD', 'XDR', 'XTS'].map(isBidCurrency)).toEqual([true, true, true, false, false]);
+		expect(['XOF', 'XCD'].map(minorUnits)).toEqual([0, 2]);
 	});
 
 	it('reads the buyer’s rate table line by line and names every bad line', () => {

@@ -2,6 +2,7 @@
 // (event-currency units per one unit of the bid currency, with its source and date). Every comparison,
 // rule and run uses the converted amount; the supplier's own amount is kept beside it. Pure, so the pages,
 // the sheets, the services and their tests share one definition.
+import { code as iso4217 } from 'currency-codes';
 import { minorUnits } from './award/core/money';
 
 export { minorUnits };
@@ -17,11 +18,30 @@ export interface EventRate {
 	rateDate: string;
 }
 
-const knownCodes = new Set(Intl.supportedValuesOf('currency'));
+/**
+ * The codes of ISO 4217 list one with no minor unit ("N.A."): precious metals, the SDR, bond-market and
+ * settlement units, and the codes for testing and for "no currency". Nobody prices goods in them. The
+ * franc zones' XAF, XOF, XPF and the East Caribbean XCD are currencies and stay allowed.
+ */
+const NOT_FOR_PRICES = new Set([
+	'XAG',
+	'XAU',
+	'XBA',
+	'XBB',
+	'XBC',
+	'XBD',
+	'XDR',
+	'XPD',
+	'XPT',
+	'XSU',
+	'XTS',
+	'XUA',
+	'XXX'
+]);
 
-/** An ISO 4217 code Intl knows, not one of the X codes ISO 4217 gives no minor unit (metals, funds, testing). */
+/** A code of ISO 4217 list one (npm currency-codes) that prices can be in. */
 export function isBidCurrency(code: string): boolean {
-	return /^[A-Z]{3}$/.test(code) && knownCodes.has(code) && !code.startsWith('X');
+	return /^[A-Z]{3}$/.test(code) && iso4217(code) !== undefined && !NOT_FOR_PRICES.has(code);
 }
 
 /** `value` at `digits` decimals, halves away from zero (common practice in commercial rounding). */

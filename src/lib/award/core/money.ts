@@ -2,6 +2,8 @@
 // (ISO 4217: JPY 0, EUR 2, BHD 3, as Intl reports them). Here, pure, so the engine's sentences use them;
 // the app reads them through $lib/format, beside quantities, shares and times. One formatter per shape
 // and currency: making an Intl.NumberFormat costs far more than using it.
+import { code as iso4217, publishDate } from 'currency-codes';
+
 const formatters = new Map<string, Intl.NumberFormat>();
 
 /** The cached formatter of `key`, made by `make` the first time. */
@@ -17,44 +19,30 @@ export function formatter(key: string, make: () => Intl.NumberFormat): Intl.Numb
 const minor = new Map<string, number>();
 
 /**
- * Where ISO 4217 and Intl (CLDR's "digits") disagree, ISO 4217's minor unit, from the maintenance agency's
- * list one published 2024-06-25 (as shipped in the npm package currency-codes 2.2.0, compared code by code
- * with Node 20's Intl on 2026-12-03). CLDR gives these 0 because cash has no coins; the codes ISO marks
- * "N.A." (XAU, XDR, XXX and the other X codes) are left as Intl has them.
+ * Decimals of the currency's minor unit as ISO 4217 gives them (list one as the maintenance agency
+ * published it, shipped in the npm package currency-codes; its date is `ISO_4217_PUBLISHED`). Intl is not
+ * used for this: CLDR gives some currencies the digits of their cash (HUF 0, IQD 0, IDR 0, where ISO 4217
+ * says 2, 3, 2). A code ISO 4217 does not list gets Intl's digits, else 2.
  */
-export const ISO_4217_MINOR_UNITS: Readonly<Record<string, number>> = {
-	AFN: 2,
-	ALL: 2,
-	COP: 2,
-	HUF: 2,
-	IDR: 2,
-	IQD: 3,
-	IRR: 2,
-	KPW: 2,
-	LAK: 2,
-	LBP: 2,
-	MGA: 2,
-	MMK: 2,
-	PKR: 2,
-	SOS: 2,
-	SYP: 2,
-	YER: 2
-};
-
-/** Decimals of the currency's minor unit, ISO 4217 (2 where neither ISO's list above nor Intl knows the code). */
 export function minorUnits(currency: string): number {
-	let digits = minor.get(currency) ?? ISO_4217_MINOR_UNITS[currency];
+	let digits = minor.get(currency);
 	if (digits === undefined) {
-		try {
-			digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()
-				.maximumFractionDigits!;
-		} catch {
-			digits = 2;
+		digits = /^[A-Z]{3}$/.test(currency) ? iso4217(currency)?.digits : undefined;
+		if (digits === undefined) {
+			try {
+				digits = new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions()
+					.maximumFractionDigits!;
+			} catch {
+				digits = 2;
+			}
 		}
 		if (minor.size < 1000) minor.set(currency, digits);
 	}
 	return digits;
 }
+
+/** The date of the ISO 4217 list the minor units come from. */
+export const ISO_4217_PUBLISHED = publishDate;
 
 /** An amount in the currency's minor units: "3,248,729.09" (the code is shown beside it, once). */
 export function formatMoney(value: number, currency: string): string {
