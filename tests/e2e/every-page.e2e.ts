@@ -188,6 +188,8 @@ describe('every page of every role, at 1440 px and 390 px', () => {
 			['bids', `${at}/bids`],
 			['bids-before-deadline', `/buyer/events/${openEvent.id}/bids`],
 			['low-prices', `${at}/bids/low`],
+			['criteria', `${at}/criteria`],
+			['criteria-open', `/buyer/events/${openEvent.id}/criteria`],
 			['award', `${at}/award`],
 			['run', `${at}/award/runs/${runs[0]}`],
 			['compare', `${at}/award/compare?run=${runs[0]}&run=${runs[1]}`],

@@ -42,6 +42,7 @@ const AMENDED = [
 
 let buyer: { user: TestUser; client: Browserless };
 let approver: { user: TestUser; client: Browserless };
+let auditor: { user: TestUser; client: Browserless };
 let eur: Party;
 let usd: Party;
 let jpy: Party;
@@ -55,9 +56,10 @@ const trailOf = async () =>
 	}[];
 
 beforeAll(async () => {
-	[buyer, approver, eur, usd, jpy] = await Promise.all([
+	[buyer, approver, auditor, eur, usd, jpy] = await Promise.all([
 		aSignedInUser('buyer'),
 		aSignedInUser('approver'),
+		aSignedInUser('auditor'),
 		aBidder(),
 		aBidder(),
 		aBidder()
@@ -275,6 +277,15 @@ describe('bids in several currencies', () => {
 		// USD: 100 × 10.40 = 1,040.00 USD; JPY: 200 × 780 = 156,000 JPY.
 		expect(runPage).toContain('958.15 1,040.00 USD at 0.9213 EUR');
 		expect(runPage).toContain('967.20 156,000 JPY at 0.0062 EUR');
+		// The approver decides on the same figures, and the auditor reads them (services/run-evaluation.ts).
+		for (const [who, path] of [
+			[approver, `/approver/runs/${runId}`],
+			[auditor, `/audit/runs/${runId}`]
+		] as const) {
+			const page = textOf(await (await who.client.get(path)).text());
+			expect(page, path).toContain('958.15 1,040.00 USD at 0.9213 EUR');
+			expect(page, path).toContain('967.20 156,000 JPY at 0.0062 EUR');
+		}
 
 		await post(buyer.client, `/api/runs/${runId}/submit`, {
 			justification: 'The lowest cost at the rates fixed before bidding.'

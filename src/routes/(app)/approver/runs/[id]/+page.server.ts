@@ -4,6 +4,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
+import { runEvaluation } from '$lib/server/services/run-evaluation';
 import { decide, pendingSignoff, runSignoffs } from '$lib/server/services/signoff';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -11,9 +12,10 @@ export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'approver');
 	return orErrorPage(event, async () => {
 		const { run, event: row } = await findRunView(user, event.params.id);
-		const [pending, signoffs] = await Promise.all([
+		const [pending, signoffs, evaluation] = await Promise.all([
 			pendingSignoff(user, row.id),
-			runSignoffs(user, row.id, run.id)
+			runSignoffs(user, row.id, run.id),
+			runEvaluation(user, run, row.id)
 		]);
 		// The latest decision on this run, for the banner of a run no longer awaiting sign-off.
 		const decided = signoffs.filter((s) => s.decision !== null).at(-1) ?? null;
@@ -21,6 +23,7 @@ export const load: PageServerLoad = async (event) => {
 		return {
 			title: `Sign-off of ${row.reference}`,
 			cautions,
+			...evaluation,
 			run: runPageJson(run),
 			firstPage: run.status === 'done' ? allocationPage(run.result) : null,
 			event: { reference: row.reference, title: row.title, state: row.state, timeZone: row.time_zone },

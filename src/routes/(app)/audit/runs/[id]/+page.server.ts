@@ -4,6 +4,7 @@ import { hasAwardReport } from '$lib/server/reports/award-report';
 import { orErrorPage } from '$lib/server/route-errors';
 import { findRunView } from '$lib/server/services/award-runs';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
+import { runEvaluation } from '$lib/server/services/run-evaluation';
 import { runSignoffs } from '$lib/server/services/signoff';
 import type { PageServerLoad } from './$types';
 
@@ -13,7 +14,7 @@ export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'auditor');
 	return orErrorPage(event, async () => {
 		const { run, event: row } = await findRunView(user, event.params.id);
-		const [signoffs, awardReport, adjustedFrom] = await Promise.all([
+		const [signoffs, awardReport, adjustedFrom, evaluation] = await Promise.all([
 			runSignoffs(user, row.id, run.id),
 			run.status === 'done' ? hasAwardReport(run.id) : false,
 			run.adjusted_from
@@ -21,10 +22,12 @@ export const load: PageServerLoad = async (event) => {
 						({ run: source }) => ({ number: source.number, href: `/audit/runs/${source.id}` }),
 						() => null
 					)
-				: null
+				: null,
+			runEvaluation(user, run, row.id)
 		]);
 		const cautions: CautionKey[] = ['decisionSupport', 'standstill'];
 		return {
+			...evaluation,
 			title: `Run ${run.number} of ${row.reference}`,
 			cautions,
 			event: {

@@ -3,12 +3,10 @@ import { requireRole } from '$lib/server/auth/guard';
 import { hasAwardReport } from '$lib/server/reports/award-report';
 import { orErrorPage, orFail } from '$lib/server/route-errors';
 import { runLowPrices } from '$lib/server/services/abnormally-low';
-import { formatMoney } from '$lib/format';
 import { findRunView } from '$lib/server/services/award-runs';
-import { runEvaluatedTotals } from '$lib/server/services/criteria';
 import { allocationPage, runPageJson } from '$lib/server/services/award-views';
 import { submitRun } from '$lib/server/services/signoff';
-import { runOwnCurrencies } from '$lib/server/services/currencies';
+import { runEvaluation } from '$lib/server/services/run-evaluation';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -27,22 +25,16 @@ export const load: PageServerLoad = async (event) => {
 				() => null
 			)
 		: null;
-	// Price and evaluated cost side by side, where the run's problem carries criteria money.
-	const evaluated = run.status === 'done' ? await runEvaluatedTotals(user, run.id, event.params.id) : null;
+	// Price and evaluated cost side by side, and each supplier's own currency, as on every run page.
+	const evaluation = await runEvaluation(user, run, event.params.id);
 	return {
-		evaluatedCosts:
-			evaluated?.totals.map((t) => ({
-				supplier: t.supplier,
-				price: formatMoney(t.price, evaluated.currency),
-				evaluated: formatMoney(t.evaluated, evaluated.currency)
-			})) ?? null,
+		...evaluation,
 		adjustedFrom: from,
 		lowPrices,
 		run: runPageJson(run),
 		firstPage: run.status === 'done' ? allocationPage(run.result) : null,
 		cautions,
-		awardReport: run.status === 'done' && (await hasAwardReport(run.id)),
-		ownCurrencies: await runOwnCurrencies(user, run.id, event.params.id)
+		awardReport: run.status === 'done' && (await hasAwardReport(run.id))
 	};
 };
 
