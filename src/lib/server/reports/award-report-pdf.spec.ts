@@ -172,6 +172,15 @@ describe('the award report as a PDF', () => {
 		expect(await pdfText(await awardReportPdf(aReport()))).not.toContain('Excluded as abnormally low');
 	});
 
+	it('names the round of bids a run used, once there was more than one', async () => {
+		const base = aReport();
+		const second = { ...base, run: { ...base.run, round: 2 } };
+		expect(await pdfText(await awardReportPdf(second))).toContain(
+			`Run ${base.run.number} of the plan “${base.run.plan}”, on the bids of round 2,`
+		);
+		expect(await pdfText(await awardReportPdf(base))).not.toContain('on the bids of round');
+	});
+
 	it('continues a long table on the next page under its header, with page numbers in the footer', async () => {
 		const pages = await pdfPages(await awardReportPdf(aReport()));
 		expect(pages.length).toBeGreaterThan(2);

@@ -36,7 +36,7 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 	pdf.title('Award report');
 	pdf.paragraph(`${event.reference} · ${event.title}`, { weight: 'bold', size: 12 });
 	pdf.paragraph(
-		`Run ${run.number} of the plan “${run.plan}”, ${run.approved ? 'approved' : 'awaiting sign-off'}. Generated ${at(report.generatedAt)}.`,
+		`Run ${run.number} of the plan “${run.plan}”${(run.round ?? 1) > 1 ? `, on the bids of round ${run.round}` : ''}, ${run.approved ? 'approved' : 'awaiting sign-off'}. Generated ${at(report.generatedAt)}.`,
 		{ color: '#57606a' }
 	);
 	pdf.space(4);

@@ -80,6 +80,7 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 				? ([['Lowest-cost plan', 'this run is the lowest-cost plan’s latest run']] as [string, Cell][])
 				: []),
 		['Adjusted from run', run.adjustedFrom?.number ?? null],
+		['Bids of round', run.round ?? 1],
 		['Problem SHA-256', run.problemSha256],
 		['Result SHA-256', run.resultSha256 ?? ''],
 		['Trail head entry', report.trailHead?.seq ?? null],

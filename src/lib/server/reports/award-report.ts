@@ -105,6 +105,8 @@ export interface AwardReport {
 		resultSha256: string | null;
 		solverVersion: string | null;
 		adjustedFrom: { id: string; number: number } | null;
+		/** The round whose bids the run used (each supplier's latest revision of rounds 1 to it). */
+		round?: number;
 	};
 	totals: {
 		totalCost: number | null;
@@ -233,7 +235,8 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 			adjustedFrom:
 				adjustedFrom && adjustedFrom.event_id === event.id
 					? { id: adjustedFrom.id, number: adjustedFrom.number }
-					: null
+					: null,
+			round: run.round ?? 1
 		},
 		totals: {
 			totalCost,
