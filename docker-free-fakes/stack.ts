@@ -169,15 +169,32 @@ async function migrateAndSeed(plan: StackPlan, env: AppEnvironment): Promise<voi
 	await seedDatabase(migrationDatabaseUrl(plan));
 }
 
-/** The test or check step running now, stopped with the stack when it is told to stop. */
-let currentStep: ReturnType<typeof spawn> | undefined;
+/** The test or check steps running now, stopped with the stack when it is told to stop. */
+const currentSteps = new Set<ReturnType<typeof spawn>>();
 
-function runStep(command: string, args: string[], env: NodeJS.ProcessEnv = process.env): Promise<number> {
+/**
+ * Runs one step to its end. With `buffered`, its output is held and printed in one piece when it ends, so
+ * that two steps running side by side do not interleave their lines.
+ */
+function runStep(
+	command: string,
+	args: string[],
+	env: NodeJS.ProcessEnv = process.env,
+	{ buffered = false }: { buffered?: boolean } = {}
+): Promise<number> {
 	return new Promise((resolve) => {
-		const child = spawn(command, args, { cwd: root, env, stdio: 'inherit' });
-		currentStep = child;
-		child.on('exit', (code) => {
-			currentStep = undefined;
+		const child = spawn(command, args, {
+			cwd: root,
+			env,
+			stdio: buffered ? ['ignore', 'pipe', 'pipe'] : 'inherit'
+		});
+		const output: Buffer[] = [];
+		child.stdout?.on('data', (chunk: Buffer) => output.push(chunk));
+		child.stderr?.on('data', (chunk: Buffer) => output.push(chunk));
+		currentSteps.add(child);
+		child.on('close', (code) => {
+			currentSteps.delete(child);
+			if (buffered && output.length) process.stdout.write(Buffer.concat(output));
 			resolve(code ?? 1);
 		});
 	});
@@ -203,7 +220,7 @@ function onShutdown(stop: () => Promise<void>): void {
 		if (stopping) return;
 		stopping = true;
 		say(`${why}: stopping everything`);
-		currentStep?.kill('SIGTERM');
+		for (const step of currentSteps) step.kill('SIGTERM');
 		stop().then(
 			() => process.exit(0),
 			(error: unknown) => {
@@ -317,14 +334,27 @@ async function test(filters: string[]): Promise<void> {
 
 	try {
 		if (!filters.length) {
-			await timed(
-				'type check (svelte-check)',
-				async () => (await runStep('npm', ['run', '--silent', 'check'])) === 0
-			);
-			await timed(
-				'lint (prettier, eslint)',
-				async () => (await runStep('npm', ['run', '--silent', 'lint'])) === 0
-			);
+			// The type check and the lint each keep one core busy for a minute or so: side by side, after the
+			// generated types they both read are written.
+			const synced = (await runStep('npx', ['svelte-kit', 'sync'])) === 0;
+			await Promise.all([
+				timed(
+					'type check (svelte-check)',
+					async () =>
+						synced &&
+						(await runStep(
+							'npx',
+							['svelte-check', '--tsconfig', './tsconfig.json', '--fail-on-warnings'],
+							process.env,
+							{ buffered: true }
+						)) === 0
+				),
+				timed(
+					'lint (prettier, eslint)',
+					async () =>
+						(await runStep('npm', ['run', '--silent', 'lint'], process.env, { buffered: true })) === 0
+				)
+			]);
 		}
 		let env: (AppEnvironment & { CHROMIUM_PATH: string }) | undefined;
 		const ready = await timed('services, migrations, build, web server', async () => {
@@ -345,11 +375,11 @@ async function test(filters: string[]): Promise<void> {
 		});
 		if (ready && env) {
 			const testEnv = env;
-			// Unit and integration tests first, in parallel; then the browser tests on their own, since one
-			// of them moves the server's clock and nothing else may run while it does.
+			// Unit and integration tests first; then the browser tests, the ones that move the server's clock,
+			// stop PostgreSQL or start a second stack last and one at a time (vite.config.ts).
 			const runs = [
 				{ step: 'unit and integration tests (vitest)', projects: ['unit', 'integration'] },
-				{ step: 'browser tests (vitest, Chromium)', projects: ['e2e'] }
+				{ step: 'browser tests (vitest, Chromium)', projects: ['e2e', 'e2e-alone'] }
 			];
 			for (const [k, run] of runs.entries()) {
 				const report = join(dataRoot, `vitest-${k}.json`);

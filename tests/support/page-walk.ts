@@ -1,15 +1,16 @@
-// Every page of every role, at a desktop's width (1440 px) and a phone's (390 px): the page never scrolls
-// sideways on the phone (a wide table scrolls inside its own region), each Tab stop shows a visible focus
-// indicator (WCAG 2.2 SC 2.4.7: the computed outline or box shadow is not none; axe does not test it; the
-// first 12 stops by the Tab key, then every other one focused in turn), and axe finds nothing. A
-// screenshot of each page at each width goes to test-results/screens/ (git-ignored), so anyone can look
-// at the pages after a test run.
+// The walk over every page of a role, at a desktop's width (1440 px) and a phone's (390 px), and the
+// event it walks: what tests/e2e/every-page-*.e2e.ts share (two files, so the browser tests can run them
+// side by side). The page never scrolls sideways on the phone (a wide table scrolls inside its own
+// region), each Tab stop shows a visible focus indicator (WCAG 2.2 SC 2.4.7: the computed outline or box
+// shadow is not none; axe does not test it; the first 12 stops by the Tab key, then every other one
+// focused in turn), and axe finds nothing. A screenshot of each page at each width goes to
+// test-results/screens/ (git-ignored), so anyone can look at the pages after a test run.
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { accessibilityViolations, browserHelpers, openBrowser, type OpenBrowser } from '../support/browser';
-import { appUrl } from '../support/env';
+import { expect } from 'vitest';
+import { accessibilityViolations, type OpenBrowser } from './browser';
+import { appUrl } from './env';
 import {
 	aSupplierOrganisationWithUser,
 	anOpenEvent,
@@ -18,37 +19,39 @@ import {
 	untilPast,
 	uploadSheet,
 	type TestEvent
-} from '../support/events';
-import { aUser, closeTestDb, type TestUser } from '../support/factories';
-import { finished, post } from '../support/runs';
+} from './events';
+import { aUser, type TestUser } from './factories';
+import { finished, post } from './runs';
 
 const SCREENS = join(process.cwd(), 'test-results', 'screens');
-const WIDTHS = [1440, 390] as const;
+export const WIDTHS = [1440, 390] as const;
 const TAB_STOPS = 12;
 
-let browser: OpenBrowser;
-const { signInAsStaff, signInBySupplierLink } = browserHelpers(() => browser);
-const staff: Record<'buyer' | 'approver' | 'auditor' | 'admin', TestUser> = {} as never;
-let supplier: TestUser;
-let event: TestEvent;
-let openEvent: TestEvent;
-const runs: string[] = [];
+export interface WalkedEvent {
+	staff: Record<'buyer' | 'approver' | 'auditor' | 'admin', TestUser>;
+	supplier: TestUser;
+	/** Opened (past its deadline) with two bids, a lowest-cost run and a run submitted for sign-off. */
+	event: TestEvent;
+	/** Still open, one supplier invited. */
+	openEvent: TestEvent;
+	runs: string[];
+}
 
 const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
 
-beforeAll(async () => {
-	browser = await openBrowser();
+/** The staff of every role, two bidders, an opened event with two runs (one submitted) and an open one. */
+export async function anEventToWalk(): Promise<WalkedEvent> {
 	mkdirSync(SCREENS, { recursive: true });
+	const staff = {} as WalkedEvent['staff'];
 	for (const role of ['buyer', 'approver', 'auditor', 'admin'] as const) staff[role] = await aUser(role);
 	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
-	supplier = bidders[0].user;
 	const deadline = new Date(Date.now() + 12_000);
-	event = await anOpenEvent({
+	const event = await anOpenEvent({
 		createdBy: staff.buyer.id,
 		invite: bidders.map((b) => b.organisation.id),
 		deadline
 	});
-	openEvent = await anOpenEvent({ createdBy: staff.buyer.id, invite: [bidders[0].organisation.id] });
+	const openEvent = await anOpenEvent({ createdBy: staff.buyer.id, invite: [bidders[0].organisation.id] });
 	for (const [k, prices] of [
 		[0, [4, 5, 6]],
 		[1, [4.2, 4.9, 6.5]]
@@ -70,6 +73,7 @@ beforeAll(async () => {
 			rules: [{ type: 'max_share', scope: 'each_item', who: 'each_supplier', percent: 60 }]
 		})
 	);
+	const runs: string[] = [];
 	for (const planId of [plans.find((p) => p.lowestCost)!.id, (made.plan as { id: string }).id]) {
 		const started = await json(await post(buyer, `/api/plans/${planId}/runs`, {}));
 		runs.push(String((await finished(buyer, started.runId as string)).id));
@@ -78,15 +82,11 @@ beforeAll(async () => {
 		justification: 'Two suppliers on every item keep supply safe.'
 	});
 	expect(submitted.status).toBe(200);
-}, 120_000);
-
-afterAll(async () => {
-	await browser?.close();
-	await closeTestDb();
-});
+	return { staff, supplier: bidders[0].user, event, openEvent, runs };
+}
 
 /** What is wrong with the page in view at this width; empty when nothing is. */
-async function problemsOf(page: Page, name: string, width: number): Promise<string[]> {
+export async function problemsOf(page: Page, name: string, width: number): Promise<string[]> {
 	const problems: string[] = [];
 	const overflow = await page.evaluate(
 		() => document.documentElement.scrollWidth - document.documentElement.clientWidth
@@ -153,7 +153,7 @@ async function userMenuProblems(page: Page, width: number): Promise<string[]> {
 }
 
 /** Visits each page at each width; returns every problem found, so one run lists them all. */
-async function walk(role: string, pages: [string, string][]): Promise<string[]> {
+export async function walk(browser: OpenBrowser, role: string, pages: [string, string][]): Promise<string[]> {
 	const { page } = browser;
 	const problems: string[] = [];
 	for (const width of WIDTHS) {
@@ -172,91 +172,3 @@ async function walk(role: string, pages: [string, string][]): Promise<string[]> 
 	}
 	return problems;
 }
-
-describe('every page of every role, at 1440 px and 390 px', () => {
-	it('the buyer’s pages', async () => {
-		await signInAsStaff(staff.buyer.email, staff.buyer.password!);
-		const at = `/buyer/events/${event.id}`;
-		const problems = await walk('buyer', [
-			['home', '/buyer'],
-			['events', '/buyer/events'],
-			['new-event', '/buyer/events/new'],
-			['event', at],
-			['items', `${at}/items`],
-			['suppliers', `${at}/suppliers`],
-			['questions', `${at}/questions`],
-			['bids', `${at}/bids`],
-			['bids-before-deadline', `/buyer/events/${openEvent.id}/bids`],
-			['low-prices', `${at}/bids/low`],
-			['criteria', `${at}/criteria`],
-			['criteria-open', `/buyer/events/${openEvent.id}/criteria`],
-			['award', `${at}/award`],
-			['run', `${at}/award/runs/${runs[0]}`],
-			['compare', `${at}/award/compare?run=${runs[0]}&run=${runs[1]}`],
-			['trail', `/events/${event.id}/trail`],
-			['account', '/account']
-		]);
-		expect(problems).toEqual([]);
-	});
-
-	// The checks above would pass on any page if they could not see a fault: here they must see two.
-	it('finds a focus ring taken away and a page that scrolls sideways (the checks themselves)', async () => {
-		const { page } = browser;
-		await page.setViewportSize({ width: WIDTHS[0], height: 900 });
-		await page.goto(`${appUrl()}/buyer/events`);
-		await page.addStyleTag({
-			content: '*:focus, *:focus-visible { outline: none !important; box-shadow: none !important; }'
-		});
-		await page.evaluate(() => {
-			const wide = document.createElement('div');
-			wide.style.width = '3000px';
-			wide.style.height = '1px';
-			document.querySelector('main')?.append(wide);
-		});
-		const problems = await problemsOf(page, 'events', WIDTHS[0]);
-		expect(problems.some((p) => /^events at 1440 px: the page scrolls sideways by \d+ px$/.test(p))).toBe(
-			true
-		);
-		expect(problems.some((p) => p.startsWith('events: no visible focus on '))).toBe(true);
-	});
-
-	it('the approver’s, the auditor’s and the administrator’s pages', async () => {
-		const problems: string[] = [];
-		await signInAsStaff(staff.approver.email, staff.approver.password!);
-		problems.push(
-			...(await walk('approver', [
-				['home', '/approver'],
-				['sign-off', `/approver/runs/${runs[1]}`],
-				['trail', `/events/${event.id}/trail`]
-			]))
-		);
-		await signInAsStaff(staff.auditor.email, staff.auditor.password!);
-		problems.push(
-			...(await walk('auditor', [
-				['home', '/audit'],
-				['run', `/audit/runs/${runs[1]}`],
-				['trail', `/events/${event.id}/trail`]
-			]))
-		);
-		await signInAsStaff(staff.admin.email, staff.admin.password!);
-		problems.push(
-			...(await walk('admin', [
-				['home', '/admin'],
-				['users', '/admin/users']
-			]))
-		);
-		expect(problems).toEqual([]);
-	});
-
-	it('the supplier’s pages', async () => {
-		await signInBySupplierLink(supplier.email);
-		const problems = await walk('supplier', [
-			['home', '/supplier'],
-			['events', '/supplier/events'],
-			['opened-event', `/supplier/events/${event.id}`],
-			['explanations', `/supplier/events/${event.id}/explanations`],
-			['open-event', `/supplier/events/${openEvent.id}`]
-		]);
-		expect(problems).toEqual([]);
-	});
-});
