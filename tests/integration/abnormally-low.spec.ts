@@ -28,6 +28,7 @@ import type { Browserless } from '../support/http';
 import { textOf } from '../support/html';
 import { latestMailTo } from '../support/mail';
 import { finished, post } from '../support/runs';
+import { sheetRows } from '../support/workbook';
 
 afterAll(closeTestDb);
 
@@ -94,6 +95,20 @@ describe('abnormally low bids', () => {
 		expect(rows[0]).toContain('line IT-1');
 		expect(rows[0]).toContain('52.4 % below the median of the 3 other bids');
 		expect(rows[0]).toContain('50 % below the baseline');
+
+		// The workbook lists the same one flag, and notes it on D's IT-1 price and on no other cell.
+		const download = await buyer.get(`/api/events/${event.id}/tabulation?format=xlsx`);
+		expect(download.status).toBe(200);
+		const listed = await sheetRows(download.clone(), 'Low prices');
+		expect(listed.map((r) => [r.values.Supplier, r.values.Item, r.values['Price (EUR)']])).toEqual([
+			[D().name, 'IT-1', 5]
+		]);
+		expect(String(listed[0]!.values['Why it is flagged'])).toContain(
+			'52.4 % below the median of the 3 other bids'
+		);
+		const prices = await sheetRows(download, 'Prices');
+		const noted = prices.flatMap((r) => Object.keys(r.notes).map((column) => [r.values.Item, column]));
+		expect(noted).toEqual([['IT-1', D().name]]);
 	});
 
 	it('refuses bad requests, answers and exclusions with a message naming the field', async () => {

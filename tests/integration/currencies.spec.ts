@@ -19,6 +19,7 @@ import {
 import { textOf } from '../support/html';
 import { latestMailTo } from '../support/mail';
 import { finished, post } from '../support/runs';
+import { sheetRows } from '../support/workbook';
 
 afterAll(closeTestDb);
 
@@ -244,6 +245,19 @@ describe('bids in several currencies', () => {
 		const page = textOf(await (await buyer.client.get(`/buyer/events/${event.id}/bids`)).text());
 		expect(page).toContain('bid in USD at 0.9213 EUR; own prices 2,160.00 USD before freight and duty');
 		expect(page).toContain('bid in JPY at 0.0062 EUR; own prices 321,000 JPY before freight and duty');
+
+		// The workbook carries the same: each bid's currency, its rate and its own total beside the EUR one.
+		const download = await buyer.client.get(`/api/events/${event.id}/tabulation?format=xlsx`);
+		expect(download.status).toBe(200);
+		const rows = new Map((await sheetRows(download, 'Suppliers')).map((r) => [String(r.values.Supplier), r]));
+		const cell = (name: string, title: string) => rows.get(name)!.values[title];
+		expect(cell(usd.name, 'Bid currency')).toBe('USD');
+		expect(cell(usd.name, 'Rate (EUR per unit)')).toBe(0.9213);
+		expect(cell(usd.name, 'Its own prices in its currency, before freight and duty')).toBe(2160);
+		expect(cell(jpy.name, 'Bid currency')).toBe('JPY');
+		expect(cell(jpy.name, 'Its own prices in its currency, before freight and duty')).toBe(321000);
+		expect(cell(eur.name, 'Bid currency')).toBe('EUR');
+		expect(Math.round((cell(usd.name, 'Total at its prices (EUR)') as number) * 100) / 100).toBe(1990.01);
 	});
 
 	it('runs on the converted prices, and gives the total and each supplier’s notice in both currencies', async () => {

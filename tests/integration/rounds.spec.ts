@@ -20,6 +20,7 @@ import { textOf } from '../support/html';
 import type { Browserless } from '../support/http';
 import { latestMailTo } from '../support/mail';
 import { finished, post } from '../support/runs';
+import { sheetRows } from '../support/workbook';
 
 afterAll(closeTestDb);
 
@@ -208,6 +209,22 @@ describe('a second round of bids', () => {
 			`${a.organisation.name} ${money(5000)} ${money(4500)} ${formatMoneyChange(-500, 'EUR')} (−10.0%)`
 		);
 		expect(text).toContain(`${b.organisation.name} (did not revise) ${money(4900)} ${money(4900)}`);
+
+		// The workbook gives both rounds' totals and the change (the same figures by hand).
+		const download = await buyer.client.get(`/api/events/${event.id}/tabulation?format=xlsx`);
+		const rows = new Map(
+			(await sheetRows(download, 'Suppliers')).map((r) => [String(r.values.Supplier), r.values])
+		);
+		const figures = (name: string) => {
+			const row = rows.get(name)!;
+			return [
+				row['Total at its prices (EUR)'],
+				row['Total in round 1 (EUR)'],
+				row['Change since round 1 (EUR)']
+			];
+		};
+		expect(figures(a.organisation.name)).toEqual([4500, 5000, -500]);
+		expect(figures(b.organisation.name)).toEqual([4900, 4900, 0]);
 	});
 
 	it('runs on round 2 with the revised prices, and the trail records the round', async () => {

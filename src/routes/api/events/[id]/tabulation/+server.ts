@@ -1,5 +1,7 @@
 import { api } from '$lib/server/api';
+import { tabulationEvaluated } from '$lib/server/services/criteria';
 import { RuleViolation } from '$lib/server/services/errors';
+import { roundChanges } from '$lib/server/services/rounds';
 import { staffTabulation, tabulationQuery, viewTabulation } from '$lib/server/services/tabulation';
 import { tabulationWorkbook } from '$lib/server/sheets/tabulation-sheet';
 
@@ -27,7 +29,14 @@ export const GET = api(async (user, event) => {
 		const filters = ['lot', 'bidder', 'lowest', 'q']
 			.flatMap((name) => (params.get(name) ? [`${name}=${params.get(name)}`] : []))
 			.join(', ');
-		const body = await tabulationWorkbook(found.event, tab, view.rows, filters);
+		const [evaluated, rounds] = await Promise.all([
+			tabulationEvaluated(user, found.event.id, tab),
+			roundChanges(user, found.event.id)
+		]);
+		const body = await tabulationWorkbook(found.event, tab, view.rows, filters, {
+			evaluated: evaluated?.totals ?? null,
+			rounds
+		});
 		const reference = found.event.reference.replace(/[^A-Za-z0-9._-]/g, '_');
 		return new Response(new Uint8Array(body), {
 			headers: {
