@@ -3,7 +3,7 @@
 // scored by an evaluator with a reason (trail), and minimised by the award as price + money. One run.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import ExcelJS from 'exceljs';
-import { formatMoney } from '../../src/lib/format';
+import { formatMoney, formatUnitPrice } from '../../src/lib/format';
 import {
 	aSignedInUser,
 	aSupplierOrganisationWithUser,
@@ -17,7 +17,9 @@ import {
 import { closeTestDb, testDb } from '../support/factories';
 import { textOf } from '../support/html';
 import type { Browserless } from '../support/http';
+import { latestMailTo } from '../support/mail';
 import { finished, post } from '../support/runs';
+import { sheetRows } from '../support/workbook';
 
 afterAll(closeTestDb);
 
@@ -26,6 +28,8 @@ let a: Awaited<ReturnType<typeof aSupplierOrganisationWithUser>>;
 let b: Awaited<ReturnType<typeof aSupplierOrganisationWithUser>>;
 let c: Awaited<ReturnType<typeof aSupplierOrganisationWithUser>>;
 let event: TestEvent;
+let approver: { client: Browserless };
+let runId = '';
 const deadline = new Date(Date.now() + 15_000);
 
 /** A form action's POST with repeated fields, as the page's form sends it. */
@@ -44,6 +48,7 @@ const criteriaPage = async () => {
 
 beforeAll(async () => {
 	buyer = await aSignedInUser('buyer');
+	approver = await aSignedInUser('approver');
 	[a, b, c] = [
 		await aSupplierOrganisationWithUser(),
 		await aSupplierOrganisationWithUser(),
@@ -172,6 +177,25 @@ describe('non-price criteria as money', () => {
 		const bids = textOf(await (await buyer.client.get(`/buyer/events/${event.id}/bids`)).text());
 		expect(bids).toContain(`${a.organisation.name} ${formatMoney(5000, 'EUR')} ${formatMoney(5110, 'EUR')}`);
 		expect(bids).toContain(`${c.organisation.name} ${formatMoney(6000, 'EUR')} ${formatMoney(6000, 'EUR')}`);
+		// The tabulation's workbook: the same totals at price and evaluated.
+		const tabulation = await buyer.client.get(`/api/events/${event.id}/tabulation?format=xlsx`);
+		const evaluatedColumn = 'Evaluated cost, price and criteria (EUR)';
+		const cents = (v: unknown) => Math.round(Number(v) * 100) / 100;
+		expect(
+			(await sheetRows(tabulation, 'Suppliers'))
+				.map((r) => [
+					r.values.Supplier,
+					cents(r.values['Total at its prices (EUR)']),
+					cents(r.values[evaluatedColumn])
+				])
+				.sort((x, y) => String(x[0]).localeCompare(String(y[0])))
+		).toEqual(
+			[
+				[a.organisation.name, 5000, 5110],
+				[b.organisation.name, 5110, 5110],
+				[c.organisation.name, 6000, 6000]
+			].sort((x, y) => String(x[0]).localeCompare(String(y[0])))
+		);
 
 		// By hand. Evaluated unit costs: A 10 × 1.02 = 10.20 and 20 × 1.02 = 20.40 (lead time 15: (15 - 5) ×
 		// 0.2 % = 2 %), plus 10 once if A wins anything; B 10.10 and 20.50; C 12 and 24.
@@ -181,6 +205,7 @@ describe('non-price criteria as money', () => {
 		const started = (await (await post(buyer.client, `/api/plans/${plan}/runs`, {})).json()) as {
 			runId: string;
 		};
+		runId = started.runId;
 		const run = (await finished(buyer.client, started.runId, 120_000)) as {
 			status: string;
 			result: { totalCost: number; awards: { supplier: string; item: string; quantity: number }[] };
@@ -237,4 +262,47 @@ describe('non-price criteria as money', () => {
 			`${b.organisation.name} would rank ahead of ${c.organisation.name}: ${c.organisation.name} 89.02 against ${b.organisation.name} 88.92 with every bid in, 89.93 against 90 without it.`
 		);
 	});
+
+	it('tells each supplier its own prices, and that bids were compared on evaluated cost', async () => {
+		expect(runId).not.toBe('');
+		const approvedAfter = new Date();
+		const approved = await post(approver.client, `/api/runs/${runId}/decision`, {
+			decision: 'approve',
+			comment: 'Criteria as published.'
+		});
+		expect(approved.status).toBe(200);
+		// A wins IT-2 at its own 20.00 (evaluated 20.40, lead time 15 days: +2 %): 200 × 20 = 4,000 at its
+		// price, 4,080 + 10 (service quality 70) = 4,090 evaluated (by hand, the test above).
+		const notice = await latestMailTo(a.user.email, {
+			after: approvedAfter,
+			subject: /^Award notice/,
+			timeoutMs: 20_000
+		});
+		expect(notice.text).toContain(
+			`IT-2: 200 at ${formatUnitPrice(20, 'EUR')} EUR = ${formatMoney(4000, 'EUR')} EUR`
+		);
+		expect(notice.text).not.toContain(formatUnitPrice(20.4, 'EUR'));
+		expect(notice.text).toContain(`Total: ${formatMoney(4000, 'EUR')} EUR`);
+		expect(notice.text).toContain(
+			`Bids were compared on evaluated cost: the price plus the money value of the criteria published with the event (Lead time, Service quality). Your awarded lines' evaluated cost: ${formatMoney(4090, 'EUR')} EUR`
+		);
+		const regret = await latestMailTo(c.user.email, {
+			after: approvedAfter,
+			subject: /^Result of/,
+			timeoutMs: 20_000
+		});
+		expect(regret.text).toContain('Bids were compared on evaluated cost');
+		// Its own result page says the same.
+		const supplier = await signedIn(a.user);
+		const mine = (await (
+			await supplier.get(`/api/events/${event.id}/my-result`, 'application/json')
+		).json()) as {
+			total: number;
+			evaluatedTotal: number;
+			lines: { item: string; unitPrice: number; cost: number }[];
+		};
+		expect(mine.lines).toEqual([{ item: 'IT-2', quantity: 200, unitPrice: 20, cost: 4000 }]);
+		expect(mine.total).toBe(4000);
+		expect(mine.evaluatedTotal).toBeCloseTo(4090, 6);
+	}, 60_000);
 });

@@ -211,6 +211,31 @@ export interface NoticeLine {
 	cost: number;
 }
 
+/** What the buyer compared to reach the result: the round of bids and the non-price criteria in money. */
+export interface NoticeBasis {
+	/** The round of bids the award used (1: the bids up to the deadline). */
+	round: number;
+	/** The published criteria's names (none: bids were compared on price). */
+	criteria: string[];
+	/** The supplier's evaluated total (its price plus the criteria in money); null when not awarded. */
+	evaluatedTotal: number | null;
+}
+
+function basisLines(basis: NoticeBasis | undefined, currency: string): string[] {
+	if (!basis) return [];
+	return [
+		...(basis.round > 1 ? [`The result is on the revised bids of round ${basis.round}.`] : []),
+		...(basis.criteria.length
+			? [
+					`Bids were compared on evaluated cost: the price plus the money value of the criteria published with the event (${basis.criteria.join(', ')}).` +
+						(basis.evaluatedTotal === null
+							? ''
+							: ` Your awarded lines' evaluated cost: ${formatMoney(basis.evaluatedTotal, currency)} ${currency}; the prices above are your own.`)
+				]
+			: [])
+	];
+}
+
 export function awardNoticeMail(
 	to: string,
 	event: EventMailContext & { currency: string },
@@ -218,6 +243,7 @@ export function awardNoticeMail(
 		supplierName: string;
 		lines: NoticeLine[];
 		standstillEndsOn: string;
+		basis?: NoticeBasis;
 		/** The supplier bid in another currency: its award in that currency, at the event's fixed rate. */
 		ownCurrency?: {
 			code: string;
@@ -252,6 +278,7 @@ export function awardNoticeMail(
 						`In your bid currency: ${formatMoney(own.total, own.code)} ${own.code}. Bids were compared in ${event.currency} at the rate fixed before bidding: 1 ${own.code} = ${own.rate} ${event.currency} (${own.source}, ${own.rateDate}).`
 					]
 				: []),
+			...basisLines(notice.basis, event.currency),
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules); the contract is not concluded before then. This notice is not itself a contract.`
 		],
 		{ label: 'See your result', url: event.url },
@@ -261,14 +288,15 @@ export function awardNoticeMail(
 
 export function regretNoticeMail(
 	to: string,
-	event: EventMailContext,
-	notice: { supplierName: string; standstillEndsOn: string }
+	event: EventMailContext & { currency?: string },
+	notice: { supplierName: string; standstillEndsOn: string; basis?: NoticeBasis }
 ): OutgoingMail {
 	return notice_(
 		to,
 		`Result of ${event.reference} ${event.title}`,
 		[
 			`Thank you for bidding in ${event.reference} “${event.title}”. ${event.buyerName} does not intend to award ${notice.supplierName} any line of this event.`,
+			...basisLines(notice.basis, event.currency ?? ''),
 			`The standstill period ends on ${notice.standstillEndsOn} (confirm with local rules). You may ask the buyer for the reasons within that period.`
 		],
 		{ label: 'See your result', url: event.url },

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import type { AwardResult } from '$lib/award/core/engine';
 import type { RunRow } from '../db/tables';
-import { ownLines, runJson } from './award-views';
+import type { AwardProblem } from '$lib/award/core/problem';
+import { ownEvaluatedTotal, ownLines, runJson } from './award-views';
 
 const result = {
 	status: 'optimal',
@@ -121,5 +122,29 @@ describe('a supplier’s own award lines (ownLines)', () => {
 		expect(ownLines(result, 'A')).toEqual([{ item: 'IT-1', quantity: 10, unitPrice: 1, cost: 10 }]);
 		expect(ownLines(result, 'C')).toEqual([]);
 		expect(ownLines(null, 'A')).toEqual([]);
+	});
+
+	it('gives the supplier its own price where the run compared evaluated costs', () => {
+		// A bid 1.00 on IT-1; the criteria made it 1.02 a unit (+2 %) in the problem the engine minimised, so
+		// the stored line says 10 × 1.02 = 10.20. The supplier is told 1.00 and 10.00 (by hand).
+		const problem = {
+			bids: [{ supplier: 'A', item: 'IT-1', unitPrice: 1.02, priceBeforeCriteria: 1 }],
+			bundles: [],
+			rules: []
+		} as unknown as AwardProblem;
+		const evaluated = {
+			awards: [{ supplier: 'A', item: 'IT-1', quantity: 10, unitPrice: 1.02, cost: 10.2 }]
+		};
+		expect(ownLines(evaluated, 'A', problem)).toEqual([
+			{ item: 'IT-1', quantity: 10, unitPrice: 1, cost: 10 }
+		]);
+		expect(ownEvaluatedTotal(problem, evaluated, 'A')).toBeCloseTo(10.2, 9);
+		// Without criteria money the stored line is the price, and there is no evaluated total.
+		const plain = {
+			...problem,
+			bids: [{ supplier: 'A', item: 'IT-1', unitPrice: 1 }]
+		} as unknown as AwardProblem;
+		expect(ownLines(result, 'A', plain)).toEqual([{ item: 'IT-1', quantity: 10, unitPrice: 1, cost: 10 }]);
+		expect(ownEvaluatedTotal(plain, result, 'A')).toBeNull();
 	});
 });

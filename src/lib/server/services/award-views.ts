@@ -10,6 +10,7 @@ import { now } from '../clock';
 import * as awards from '../db/awards';
 import { db } from '../db/knex';
 import type { AwardProblem } from '$lib/award/core/problem';
+import { evaluatedSupplierTotals, priceBeforeCriteria } from '$lib/evaluation/apply-criteria';
 import type { PlanRow, RunView } from '../db/tables';
 import { RuleViolation } from './errors';
 import { eventFor } from './events';
@@ -197,13 +198,36 @@ export function allocationQuery(params: URLSearchParams): AllocationQuery {
 }
 
 /** A supplier's own award lines of a result (quantity above zero), never another's. */
+/**
+ * A supplier's own award lines at its prices. Where the run ranked bids on evaluated cost (non-price
+ * criteria in money), the stored lines carry that cost: the supplier is told what it bid, not the
+ * buyer's evaluation (priceBeforeCriteria), and `evaluated` is the total the engine compared.
+ */
 export function ownLines(
 	result: Pick<AwardResult, 'awards'> | null | undefined,
-	supplierName: string
+	supplierName: string,
+	problem?: AwardProblem
 ): Pick<AwardLine, 'item' | 'quantity' | 'unitPrice' | 'cost'>[] {
 	return (result?.awards ?? [])
 		.filter((a) => a.supplier === supplierName && a.quantity > 0)
-		.map(({ item, quantity, unitPrice, cost }) => ({ item, quantity, unitPrice, cost }));
+		.map((line) => {
+			const { item, quantity, unitPrice, cost } = line;
+			if (!problem) return { item, quantity, unitPrice, cost };
+			const priced = priceBeforeCriteria(problem, line);
+			return priced === cost
+				? { item, quantity, unitPrice, cost }
+				: { item, quantity, unitPrice: priced / quantity, cost: priced };
+		});
+}
+
+/** The supplier's evaluated total in a run that ranked bids on evaluated cost; null in any other run. */
+export function ownEvaluatedTotal(
+	problem: AwardProblem,
+	result: Pick<AwardResult, 'awards'> | null | undefined,
+	supplierName: string
+): number | null {
+	const totals = evaluatedSupplierTotals(problem, result?.awards ?? []);
+	return totals?.find((t) => t.supplier === supplierName)?.evaluated ?? null;
 }
 
 const isoDate = (value: Date | string) =>
@@ -218,7 +242,7 @@ export async function myResult(user: SessionUser, eventId: string) {
 	if (event.state !== 'awarded' || !event.awarded_run_id) return { status: 'pending' as const, lines: [] };
 	const run = (await awards.findRun(db(), event.awarded_run_id))!;
 	const notice = await awards.findSupplierNotice(db(), run.id, user.organisationId);
-	const lines = ownLines(run.result, user.organisationName);
+	const lines = ownLines(run.result, user.organisationName, run.problem);
 	const own = lines.length
 		? (
 				await ownCurrencyAwards(event, run, now(), {
@@ -234,6 +258,10 @@ export async function myResult(user: SessionUser, eventId: string) {
 		lines,
 		currency: event.currency,
 		total: lines.reduce((a, l) => a + l.cost, 0),
+		/** What the buyer compared: its price plus the published criteria in money (null: price only). */
+		evaluatedTotal: lines.length ? ownEvaluatedTotal(run.problem, run.result, user.organisationName) : null,
+		/** The round of bids the award used (1: the bids up to the deadline). */
+		round: run.round,
 		noticeSentAt: notice?.sent_at?.toISOString() ?? null,
 		standstillEndsOn: notice ? isoDate(notice.standstill_ends_on) : null
 	};

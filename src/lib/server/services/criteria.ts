@@ -356,7 +356,7 @@ export async function tabulationEvaluated(user: SessionUser, eventId: string, ta
 				if (Number.isNaN(price)) return;
 				evaluated += item.quantity * (price + ((price - item.adder) * a.percentOfPrice) / 100 + a.perUnit);
 			});
-			return [{ supplier: s.name, price: s.total, evaluated, missing: e.missing }];
+			return [{ supplierId: s.id, supplier: s.name, price: s.total, evaluated, missing: e.missing }];
 		})
 	};
 }

@@ -1,6 +1,8 @@
 // The exchange rates of an event: set on the draft, locked at publication (an amendment changes them,
 // services/events.ts amend), read by the bid sheet, the runs and the pages.
 import { priceAtQuantity } from '$lib/award/core/prices';
+import type { AwardProblem } from '$lib/award/core/problem';
+import { priceBeforeCriteria } from '$lib/evaluation/apply-criteria';
 import {
 	convertPrice,
 	parseRateTable,
@@ -139,7 +141,7 @@ export async function ownCurrencyAwards(
 	run: {
 		/** The round whose bids the run used: its own prices are read from that round's bid. */
 		round?: number;
-		problem: { suppliers: { ref: string; bidCurrency?: { code: string; rate: number } }[] };
+		problem: AwardProblem;
 		result: {
 			awards: { supplier: string; item: string; quantity: number; unitPrice: number; cost: number }[];
 		} | null;
@@ -182,7 +184,10 @@ export async function ownCurrencyAwards(
 						},
 						a.quantity
 					)
-				: roundHalfAway((a.unitPrice - (adder.get(a.item) ?? 0)) / rate, 6);
+				: roundHalfAway(
+						(priceBeforeCriteria(run.problem, a) / a.quantity - (adder.get(a.item) ?? 0)) / rate,
+						6
+					);
 			return { item: a.item, unitPrice, cost: toMinorUnit(unitPrice * a.quantity, code) };
 		});
 		const table = rates.find((r) => r.currency === code);
@@ -196,8 +201,9 @@ export async function ownCurrencyAwards(
 				awarded.reduce((sum, a, k) => sum + lines[k]!.unitPrice * a.quantity, 0),
 				code
 			),
+			// At its price in the event currency: a run on evaluated cost stores the criteria in each cost.
 			eventTotal: toMinorUnit(
-				awarded.reduce((sum, a) => sum + a.cost, 0),
+				awarded.reduce((sum, a) => sum + priceBeforeCriteria(run.problem, a), 0),
 				event.currency
 			)
 		});

@@ -21,7 +21,8 @@ import { findOrganisation } from '../db/organisations';
 import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/templates';
 import { neutralise } from '../sheets/bid-sheet';
 import { appendTrail, trailHead } from '../trail';
-import { ownLines } from './award-views';
+import { listCriteria } from '../db/criteria';
+import { ownEvaluatedTotal, ownLines } from './award-views';
 import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
 import { mailContext } from './events';
 import { ownCurrencyAwards, type OwnAward } from './currencies';
@@ -96,7 +97,13 @@ export async function sendNotice(noticeId: string): Promise<void> {
 		currency: event.currency,
 		trailHead: head && { hash: head.hash }
 	};
-	const lines = ownLines(run.result, supplier.name);
+	// At the supplier's own prices; what the buyer compared (criteria in money, the round) said beside them.
+	const lines = ownLines(run.result, supplier.name, run.problem);
+	const basis = {
+		round: run.round,
+		criteria: (await listCriteria(db(), event.id)).map((c) => c.name),
+		evaluatedTotal: ownEvaluatedTotal(run.problem, run.result, supplier.name)
+	};
 	const ownCurrency =
 		notice.kind === 'award' ? (await ownCurrencyAwards(event, run, now())).get(supplier.name) : undefined;
 	const standstill = String(
@@ -129,9 +136,14 @@ export async function sendNotice(noticeId: string): Promise<void> {
 						supplierName: supplier.name,
 						lines,
 						standstillEndsOn: standstill,
+						basis,
 						...(ownCurrency ? { ownCurrency } : {})
 					})
-				: regretNoticeMail(email, context, { supplierName: supplier.name, standstillEndsOn: standstill });
+				: regretNoticeMail(email, context, {
+						supplierName: supplier.name,
+						standstillEndsOn: standstill,
+						basis
+					});
 		try {
 			outcomes.push(
 				await deliverOnce(noticeDeliveryKey(noticeId, email), { ...mail, attachments }, (trx, at) =>

@@ -5,14 +5,17 @@
 import {
 	feedbackText,
 	roundFeedback,
+	type FeedbackBid,
 	type FeedbackEntry,
 	type FeedbackKind,
 	type FeedbackPer
 } from '$lib/round-feedback';
+import { priceAtQuantity } from '$lib/award/core/prices';
 import { formatInZone, fromLocalInput, LocalTimeError } from '$lib/time';
 import type { SessionUser } from '../auth/session-user';
 import { now } from '../clock';
 import { visibleBids } from '../db/bids';
+import { standingExclusions } from '../db/abnormally-low';
 import { listRates } from '../db/currencies';
 import { invitedSupplierUsers, listItems, lockEvent, type EventRow } from '../db/events';
 import { db, type Db } from '../db/knex';
@@ -213,10 +216,7 @@ export async function startRound(
 			);
 		const feedbackOf = roundFeedback(
 			items.map((i) => ({ ref: i.ref, lot: i.lot_ref, quantity: Number(i.quantity) })),
-			priced.map((b) => ({
-				supplier: b.supplierOrganisationId,
-				lines: b.lines.map((l) => ({ item: l.item, unitPrice: Number(l.unitPrice) }))
-			})),
+			feedbackBids(items, priced, await standingExclusions(trx, id)),
 			feedback,
 			per
 		);
@@ -258,6 +258,52 @@ export async function startRound(
 		);
 		return round;
 	});
+}
+
+/**
+ * The bids feedback compares: each line at its unit price for the item's whole quantity (its all-units
+ * price break, where reached, as the tabulation prices it), without the lines and bids the buyer excluded
+ * as abnormally low (they compete with no one, and get no feedback of their own on what was excluded).
+ */
+export function feedbackBids(
+	items: { ref: string; quantity: number | string }[],
+	bids: {
+		supplierOrganisationId: string;
+		lines: {
+			item: string;
+			unitPrice: number | string;
+			priceBreaks: { fromQuantity: number | string; unitPrice: number | string }[];
+		}[];
+	}[],
+	exclusions: { supplier_organisation_id: string; item_ref: string | null }[]
+): FeedbackBid[] {
+	const quantity = new Map(items.map((i) => [i.ref, Number(i.quantity)]));
+	const excluded = (supplier: string, item: string) =>
+		exclusions.some(
+			(e) => e.supplier_organisation_id === supplier && (e.item_ref === null || e.item_ref === item)
+		);
+	return bids.map((b) => ({
+		supplier: b.supplierOrganisationId,
+		lines: b.lines.flatMap((l) =>
+			excluded(b.supplierOrganisationId, l.item) || !quantity.has(l.item)
+				? []
+				: [
+						{
+							item: l.item,
+							unitPrice: priceAtQuantity(
+								{
+									unitPrice: Number(l.unitPrice),
+									priceBreaks: l.priceBreaks.map((p) => ({
+										fromQuantity: Number(p.fromQuantity),
+										unitPrice: Number(p.unitPrice)
+									}))
+								},
+								quantity.get(l.item)!
+							)
+						}
+					]
+		)
+	}));
 }
 
 /** A supplier's own feedback as lines to read: "Item IT-1: 2nd lowest price". */
