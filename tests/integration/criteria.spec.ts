@@ -223,6 +223,11 @@ describe('non-price criteria as money', () => {
 			await (await buyer.client.get(`/buyer/events/${event.id}/award/runs/${started.runId}`)).text()
 		);
 		expect(runPage).toContain('Price and evaluated cost');
+		// The run's own costs are evaluated and say so; the total at prices is 1,010 + 4,000 = 5,010 (by hand).
+		expect(runPage).toContain(`Total evaluated cost ${formatMoney(5100, 'EUR')} EUR`);
+		expect(runPage).toContain(`Total at the suppliers' prices ${formatMoney(5010, 'EUR')} EUR`);
+		expect(runPage).toContain('Evaluated unit cost');
+		expect(runPage).not.toContain('Total cost ');
 		expect(runPage).toContain(
 			`${a.organisation.name} ${formatMoney(4000, 'EUR')} ${formatMoney(4090, 'EUR')}`
 		);

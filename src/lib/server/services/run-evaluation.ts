@@ -10,6 +10,8 @@ import { runOwnCurrencies } from './currencies';
 export interface RunEvaluation {
 	/** Price and evaluated cost per awarded supplier, formatted; null where the run has no criteria money. */
 	evaluatedCosts: { supplier: string; price: string; evaluated: string }[] | null;
+	/** The award at the suppliers' own prices, where the run minimised evaluated cost; else null. */
+	priceTotal: number | null;
 	/** By supplier name: its awarded total in its own currency, for suppliers that bid in another. */
 	ownCurrencies: Record<string, { code: string; rate: number; total: string }>;
 }
@@ -20,7 +22,7 @@ export async function runEvaluation(
 	run: { id: string; status: string },
 	eventId: string
 ): Promise<RunEvaluation> {
-	if (run.status !== 'done') return { evaluatedCosts: null, ownCurrencies: {} };
+	if (run.status !== 'done') return { evaluatedCosts: null, priceTotal: null, ownCurrencies: {} };
 	const [evaluated, ownCurrencies] = await Promise.all([
 		runEvaluatedTotals(user, run.id, eventId),
 		runOwnCurrencies(user, run.id, eventId)
@@ -32,6 +34,7 @@ export async function runEvaluation(
 				price: formatMoney(t.price, evaluated.currency),
 				evaluated: formatMoney(t.evaluated, evaluated.currency)
 			})) ?? null,
+		priceTotal: evaluated ? evaluated.totals.reduce((sum, t) => sum + t.price, 0) : null,
 		ownCurrencies
 	};
 }
