@@ -32,6 +32,8 @@ const deadline = new Date(Date.now() + 12_000);
 let roundDeadline: Date;
 /** A finished run on round 1's bids, made before round 2 started. */
 let roundOneRun: string;
+/** A run on round 2's bids. */
+let roundTwoRun: string;
 
 const json = async (response: Response) => (await response.json()) as Record<string, unknown>;
 
@@ -79,6 +81,9 @@ beforeAll(async () => {
 		Supplier,
 		Supplier
 	];
+	// IT-1's baseline 13.50: the abnormally-low screen flags a price below 0.7 × 13.50 = 9.45
+	// (src/lib/abnormally-low.ts), so A's 9 of round 2 is flagged and its 10 of round 1 is not.
+	await testDb()('items').where({ event_id: event.id, ref: 'IT-1' }).update({ baseline_unit_price: 13.5 });
 	// Round 1. IT-1 (100 units): A 10, B 11, C 12. IT-2 (200 units): A 20, B 19, C 25.
 	for (const [supplier, prices] of [
 		[a, [10, 20]],
@@ -235,6 +240,7 @@ describe('a second round of bids', () => {
 		};
 		const started = await post(buyer.client, `/api/plans/${plans.find((p) => p.lowestCost)!.id}/runs`, {});
 		const { runId } = (await json(started)) as { runId: string };
+		roundTwoRun = runId;
 		const run = (await json(await buyer.client.get(`/api/runs/${runId}?problem=1`, 'application/json'))) as {
 			round: number;
 			problem: { bids: { supplier: string; item: string; unitPrice: number }[] };
@@ -266,4 +272,14 @@ describe('a second round of bids', () => {
 			2
 		);
 	});
+
+	it('screens each run’s own round for abnormally low prices', async () => {
+		await finished(buyer.client, roundTwoRun, 120_000);
+		const runPage = async (runId: string) =>
+			textOf(await (await buyer.client.get(`/buyer/events/${event.id}/award/runs/${runId}`)).text());
+		// Both runs award IT-1 to A (round 1: 10 against 11 and 12; round 2: 9 against 11 and 12).
+		const flag = `${a.organisation.name}, line IT-1:`;
+		expect(await runPage(roundTwoRun)).toContain(flag);
+		expect(await runPage(roundOneRun)).not.toContain(flag);
+	}, 150_000);
 });

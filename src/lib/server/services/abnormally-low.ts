@@ -339,10 +339,11 @@ export function withoutExcluded<B extends { supplierOrganisationId: string; line
 export async function runLowPrices(
 	user: SessionUser,
 	eventId: string,
-	run: { id: string; result: { awards: { supplier: string; item: string }[] } | null }
+	run: { id: string; round?: number; result: { awards: { supplier: string; item: string }[] } | null }
 ) {
+	// The screen of the bids the run was built on: its round's, not a later round's.
 	const [found, excluded] = await Promise.all([
-		staffTabulation(user, eventId),
+		staffTabulation(user, eventId, { round: run.round }),
 		low.runExclusions(db(), run.id)
 	]);
 	if (found.sealed) return { flags: [], excluded: excluded ?? [] };

@@ -34,18 +34,27 @@ export type StaffTabulation =
 	| { sealed: true; event: EventRow; submissions: Submission[] }
 	| { sealed: false; event: EventRow; submissions: Submission[]; tab: Tabulated };
 
-export async function staffTabulation(actor: SessionUser, id: string): Promise<StaffTabulation> {
+/**
+ * The tabulation of the latest opened round's bids; with `round`, of that earlier round's (each
+ * supplier's latest revision up to it: what a run on that round was built on).
+ */
+export async function staffTabulation(
+	actor: SessionUser,
+	id: string,
+	options: { round?: number } = {}
+): Promise<StaffTabulation> {
 	const event = await evaluationEvent(actor, id);
 	const submissions = await listSubmissions(db(), id);
 	if (['draft', 'open'].includes(effectiveState(event))) return { sealed: true, event, submissions };
 	// A later round's opening changes what the buyer sees without a new revision: the round is in the key.
-	const round = await latestOpenedRound(db(), id);
+	const latest = await latestOpenedRound(db(), id);
+	const round = options.round === undefined ? latest : Math.min(options.round, latest);
 	const key = `${id}|${round}|${submissions.map((s) => `${s.supplier_organisation_id}:${s.latest_number}`).join(',')}`;
 	const known = opened.get(key);
 	if (known) return { sealed: false, event, submissions, tab: known };
 	const [items, bids, rates] = await Promise.all([
 		listItems(db(), id),
-		visibleBids(db(), id, actor.organisationId, now()),
+		visibleBids(db(), id, actor.organisationId, now(), round < latest ? { round } : {}),
 		listRates(db(), id)
 	]);
 	// Compared in the event currency at the fixed rates; each supplier keeps its own currency beside it.
