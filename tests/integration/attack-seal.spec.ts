@@ -398,6 +398,31 @@ describe('someone who writes to the rounds in SQL through the app’s own connec
 		expect(await testDb()('bid_rounds').where({ event_id: eventId })).toHaveLength(1);
 		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
 	});
+
+	it('cannot move the sealed round-2 line into the round-1 revision, rewrite a price, or delete a bid', async () => {
+		const revisions = await testDb()('bid_revisions')
+			.where({ event_id: eventId })
+			.orderBy('round')
+			.select('id', 'round');
+		const [first, second] = revisions as { id: string; round: number }[];
+		// The revised price (3.21, sealed until round 2's deadline) moved into the opened revision of round 1,
+		// or round 1's price rewritten to it: the buyer would read it before the deadline. Both refused.
+		await expect(
+			testDb()('bid_lines').where({ revision_id: second!.id }).update({ revision_id: first!.id })
+		).rejects.toThrow(/permission denied/);
+		await expect(
+			testDb()('bid_lines').where({ revision_id: first!.id }).update({ unit_price: revised })
+		).rejects.toThrow(/permission denied/);
+		// Nor may a line, a price break, an answer or a whole revision be deleted to change what counts.
+		for (const table of ['bid_lines', 'price_breaks', 'bundle_offers', 'bid_criterion_answers'])
+			await expect(testDb()(table).where(testDb().raw('false')).delete(), table).rejects.toThrow(
+				/permission denied/
+			);
+		await expect(testDb()('bid_revisions').where({ id: second!.id }).delete()).rejects.toThrow(
+			/permission denied/
+		);
+		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
+	});
 });
 
 describe('someone who changes a rate in SQL through the app’s own connection', () => {
