@@ -6,12 +6,24 @@ import { defineConfig } from 'vitest/config';
  * Browser tests that must run with nothing else: each moves the server's clock past a deadline, stops
  * PostgreSQL or starts a second stack. They run one at a time, after every other test.
  */
-const ALONE = [
+const ALONE_BROWSER = [
 	'tests/e2e/award-journeys.e2e.ts',
 	'tests/e2e/database-outage.e2e.ts',
 	'tests/e2e/events-and-bids.e2e.ts',
 	'tests/e2e/rounds.e2e.ts',
 	'tests/e2e/shutdown.e2e.ts'
+];
+
+/**
+ * Integration tests that run one at a time after the others: they hold the stack's one worker for long
+ * solves (a run waiting behind them would time out), or measure the server's answer times.
+ */
+const ALONE_INTEGRATION = [
+	'tests/integration/run-progress.spec.ts',
+	'tests/integration/run-takeover.spec.ts',
+	'tests/integration/award-run-recovery.spec.ts',
+	'tests/integration/hostile-uploads.spec.ts',
+	'tests/integration/attack-sign-in.spec.ts'
 ];
 
 export default defineConfig({
@@ -33,7 +45,8 @@ export default defineConfig({
 					// for the benchmarks): a busy machine may take several times as long as an idle one.
 					maxWorkers: 1,
 					testTimeout: 60_000,
-					sequence: { groupOrder: 0 }
+					// From 1: vitest puts a one-worker project of group 0 after every numbered group.
+					sequence: { groupOrder: 1 }
 				}
 			},
 			{
@@ -41,13 +54,26 @@ export default defineConfig({
 				test: {
 					name: 'integration',
 					include: ['tests/integration/**/*.spec.ts'],
+					exclude: ALONE_INTEGRATION,
 					environment: 'node',
 					testTimeout: 30_000,
 					hookTimeout: 30_000,
 					// Integration tests mostly wait for the server, the worker and the mail fake; each makes its
 					// own events, suppliers and queues, so three files at a time share the two cores well.
 					maxWorkers: 3,
-					sequence: { groupOrder: 1 }
+					sequence: { groupOrder: 2 }
+				}
+			},
+			{
+				extends: true,
+				test: {
+					name: 'integration-alone',
+					include: ALONE_INTEGRATION,
+					environment: 'node',
+					testTimeout: 30_000,
+					hookTimeout: 30_000,
+					fileParallelism: false,
+					sequence: { groupOrder: 3 }
 				}
 			},
 			{
@@ -55,25 +81,25 @@ export default defineConfig({
 				test: {
 					name: 'e2e',
 					include: ['tests/e2e/**/*.e2e.ts'],
-					exclude: ALONE,
+					exclude: ALONE_BROWSER,
 					environment: 'node',
 					testTimeout: 90_000,
 					hookTimeout: 120_000,
 					// A browser and the pages it asks for: two files at a time fill the two cores.
 					maxWorkers: 2,
-					sequence: { groupOrder: 2 }
+					sequence: { groupOrder: 4 }
 				}
 			},
 			{
 				extends: true,
 				test: {
 					name: 'e2e-alone',
-					include: ALONE,
+					include: ALONE_BROWSER,
 					environment: 'node',
 					testTimeout: 90_000,
 					hookTimeout: 60_000,
 					fileParallelism: false,
-					sequence: { groupOrder: 3 }
+					sequence: { groupOrder: 5 }
 				}
 			}
 		]

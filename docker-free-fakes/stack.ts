@@ -378,7 +378,10 @@ async function test(filters: string[]): Promise<void> {
 			// Unit and integration tests first; then the browser tests, the ones that move the server's clock,
 			// stop PostgreSQL or start a second stack last and one at a time (vite.config.ts).
 			const runs = [
-				{ step: 'unit and integration tests (vitest)', projects: ['unit', 'integration'] },
+				{
+					step: 'unit and integration tests (vitest)',
+					projects: ['unit', 'integration', 'integration-alone']
+				},
 				{ step: 'browser tests (vitest, Chromium)', projects: ['e2e', 'e2e-alone'] }
 			];
 			for (const [k, run] of runs.entries()) {

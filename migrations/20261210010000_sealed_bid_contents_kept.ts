@@ -1,12 +1,20 @@
 import type { Knex } from 'knex';
 
-// A bid's contents never change once stored: a new price is a new revision. The app's own role may
-// insert and read the lines, price breaks, bundle offers and criteria answers of a revision, but no
-// longer update, delete or truncate them, nor delete a revision (bid_revisions' own columns are held by
-// the trigger bid_revisions_keep_their_round). So the app's credentials cannot move a line into another
-// revision, or rewrite a sealed price, behind the seal of visible_bid_revisions. Cascades from the owner's
-// foreign keys still run (PostgreSQL runs them as the table's owner).
-const KEPT = ['bid_lines', 'price_breaks', 'bundle_offers', 'bundle_offer_items', 'bid_criterion_answers'];
+// A bid never changes once stored: a new price is a new revision. The app's own role may insert and read
+// revisions and their lines, price breaks, bundle offers and criteria answers, but no longer update,
+// delete or truncate any of them (nothing in the app does). So the app's credentials cannot move a line
+// into another revision, rewrite a sealed price, change a revision's currency, capacity or time, or turn
+// it into a withdrawal behind the seal of visible_bid_revisions. Cascades from the owner's foreign keys
+// still run (PostgreSQL runs them as the table's owner); the trigger bid_revisions_keep_their_round
+// stays for whoever else may write.
+const KEPT = [
+	'bid_revisions',
+	'bid_lines',
+	'price_breaks',
+	'bundle_offers',
+	'bundle_offer_items',
+	'bid_criterion_answers'
+];
 
 function appRole(): string {
 	const role = process.env.APP_DATABASE_ROLE ?? 'tenderloom_app';
@@ -25,7 +33,6 @@ export async function up(knex: Knex): Promise<void> {
 	if (!(await roleExists(knex, app))) return;
 	await knex.raw(`
 		revoke update, delete, truncate on ${KEPT.join(', ')} from ${app};
-		revoke delete, truncate on bid_revisions from ${app};
 	`);
 }
 
@@ -34,6 +41,5 @@ export async function down(knex: Knex): Promise<void> {
 	if (!(await roleExists(knex, app))) return;
 	await knex.raw(`
 		grant update, delete on ${KEPT.join(', ')} to ${app};
-		grant delete on bid_revisions to ${app};
 	`);
 }

@@ -31,7 +31,8 @@ beforeAll(async () => {
 	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
 	names.A = bidders[0].organisation.name;
 	names.B = bidders[1].organisation.name;
-	const deadline = new Date(Date.now() + 15_000);
+	// Room for two browser files setting up side by side: every bid must be in before the deadline.
+	const deadline = new Date(Date.now() + 20_000);
 	event = await anOpenEvent({ createdBy: buyer.id, invite: bidders.map((b) => b.organisation.id), deadline });
 	for (const [k, prices] of [
 		[0, [4, 5, 6]],

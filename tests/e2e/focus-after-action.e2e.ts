@@ -37,7 +37,8 @@ beforeAll(async () => {
 	[buyer, approver] = await Promise.all([aUser('buyer'), aUser('approver')]);
 	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
 	supplier = bidders[0].user;
-	const deadline = new Date(Date.now() + 12_000);
+	// Room for two browser files setting up side by side: every bid must be in before the deadline.
+	const deadline = new Date(Date.now() + 20_000);
 	event = await anOpenEvent({ createdBy: buyer.id, invite: bidders.map((b) => b.organisation.id), deadline });
 	openEvent = await anOpenEvent({ createdBy: buyer.id, invite: [bidders[0].organisation.id] });
 	// One signed-in client per supplier, kept for the set-up below.

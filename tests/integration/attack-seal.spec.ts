@@ -358,10 +358,19 @@ describe('someone who writes to the rounds in SQL through the app’s own connec
 		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
 	}, 60_000);
 
-	it('cannot move a round-2 revision into round 1', async () => {
+	it('cannot move a round-2 revision into round 1, nor change a revision’s currency or source', async () => {
+		// The app's role may not update a revision at all (migration 20261210010000); the trigger
+		// bid_revisions_keep_their_round stands behind it for whoever else may write.
 		await expect(
 			testDb()('bid_revisions').where({ event_id: eventId, round: 2 }).update({ round: 1 })
-		).rejects.toThrow(/keeps its round, event, supplier and number/);
+		).rejects.toThrow(/permission denied/);
+		// A bid of 4.37 EUR read as 4.37 of another currency, or turned into a withdrawal: refused too.
+		await expect(
+			testDb()('bid_revisions').where({ event_id: eventId, round: 1 }).update({ currency: 'GBP' })
+		).rejects.toThrow(/permission denied/);
+		await expect(
+			testDb()('bid_revisions').where({ event_id: eventId, round: 1 }).update({ source: 'withdrawal' })
+		).rejects.toThrow(/permission denied/);
 		expect(await buyerSees()).toEqual({ rounds: [1], prices: [4.37] });
 	});
 
@@ -414,7 +423,13 @@ describe('someone who writes to the rounds in SQL through the app’s own connec
 			testDb()('bid_lines').where({ revision_id: first!.id }).update({ unit_price: revised })
 		).rejects.toThrow(/permission denied/);
 		// Nor may a line, a price break, an answer or a whole revision be deleted to change what counts.
-		for (const table of ['bid_lines', 'price_breaks', 'bundle_offers', 'bid_criterion_answers'])
+		for (const table of [
+			'bid_lines',
+			'price_breaks',
+			'bundle_offers',
+			'bundle_offer_items',
+			'bid_criterion_answers'
+		])
 			await expect(testDb()(table).where(testDb().raw('false')).delete(), table).rejects.toThrow(
 				/permission denied/
 			);

@@ -246,6 +246,16 @@ describe('non-price criteria as money', () => {
 		expect(report.status).toBe(200);
 		const workbook = new ExcelJS.Workbook();
 		await workbook.xlsx.load(await report.arrayBuffer());
+		// Its summary names the evaluated total (5,100) and the total at prices (1,010 + 4,000 = 5,010).
+		const summary = new Map<unknown, unknown>();
+		workbook.getWorksheet('Summary')!.eachRow((r) => summary.set(r.getCell(1).value, r.getCell(2).value));
+		expect(summary.get('Total evaluated cost, price and criteria (EUR)')).toBeCloseTo(5100, 6);
+		expect(summary.get("Total at the suppliers' prices (EUR)")).toBeCloseTo(5010, 6);
+		expect(summary.has('Total cost (EUR)')).toBe(false);
+		// The run's own workbook names its costs evaluated too.
+		const exported = await buyer.client.get(`/api/runs/${started.runId}/export`);
+		const allocation = await sheetRows(exported, 'Allocation');
+		expect(Object.keys(allocation[0]!.values)).toContain('Evaluated unit cost (EUR)');
 		const sheet = workbook.getWorksheet('Evaluated cost')!;
 		expect([2, 3].map((r) => (sheet.getRow(r).values as unknown[]).slice(1))).toEqual(
 			[

@@ -45,7 +45,8 @@ export async function anEventToWalk(): Promise<WalkedEvent> {
 	const staff = {} as WalkedEvent['staff'];
 	for (const role of ['buyer', 'approver', 'auditor', 'admin'] as const) staff[role] = await aUser(role);
 	const bidders = await Promise.all([aSupplierOrganisationWithUser(), aSupplierOrganisationWithUser()]);
-	const deadline = new Date(Date.now() + 12_000);
+	// Room for two browser files setting up side by side: every bid must be in before the deadline.
+	const deadline = new Date(Date.now() + 20_000);
 	const event = await anOpenEvent({
 		createdBy: staff.buyer.id,
 		invite: bidders.map((b) => b.organisation.id),

@@ -82,7 +82,7 @@ export function priceBeforeCriteria(
 ): number {
 	if (line.bundle) {
 		const bundle = problem.bundles.find((b) => b.ref === line.bundle);
-		if (!bundle?.priceBeforeCriteria || bundle.price === 0) return line.cost;
+		if (bundle?.priceBeforeCriteria === undefined || bundle.price === 0) return line.cost;
 		return (line.cost * bundle.priceBeforeCriteria) / bundle.price;
 	}
 	const bid = problem.bids.find((b) => b.supplier === line.supplier && b.item === line.item);

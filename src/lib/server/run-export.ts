@@ -31,9 +31,20 @@ export interface ExportedRun {
 	result: AwardResult | null;
 }
 
-export async function runWorkbook(reference: string, run: ExportedRun): Promise<Buffer> {
+/**
+ * `priceTotal`: the award at the suppliers' own prices where the run minimised evaluated cost (price plus
+ * the criteria in money, services/run-evaluation.ts); its stored costs are then evaluated and named so.
+ */
+export async function runWorkbook(
+	reference: string,
+	run: ExportedRun,
+	priceTotal: number | null = null
+): Promise<Buffer> {
 	const result = run.result;
 	const money = excelMoneyFormat(run.currency);
+	const evaluated = priceTotal !== null;
+	const cost = evaluated ? 'Evaluated cost' : 'Cost';
+	const baseline = result?.baselineCost ?? null;
 	const workbook = new ExcelJS.Workbook();
 	workbook.creator = 'Tenderloom';
 	const summary = workbook.addWorksheet('Summary');
@@ -44,14 +55,27 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		['Status', run.status],
 		['Outcome', result?.status ?? ''],
 		['Method', result?.method ?? ''],
-		[`Total cost (${run.currency})`, result?.totalCost ?? null],
-		[`Baseline (${run.currency})`, result?.baselineCost ?? null],
-		[`Savings (${run.currency})`, result?.savings ?? null],
+		[`${evaluated ? 'Total evaluated cost' : 'Total cost'} (${run.currency})`, result?.totalCost ?? null],
+		[`Baseline (${run.currency})`, baseline],
+		[
+			`Savings${evaluated ? ' at the suppliers’ prices' : ''} (${run.currency})`,
+			evaluated && baseline !== null ? baseline - priceTotal : (result?.savings ?? null)
+		],
 		['Problem SHA-256', run.problemSha256],
 		['Result SHA-256', run.resultSha256 ?? ''],
 		['Solver', run.solverVersion ?? ''],
-		['Note', 'An optimised allocation is decision support, not a legal award.']
+		['Note', 'An optimised allocation is decision support, not a legal award.'],
+		...(evaluated
+			? [
+					[`Total at the suppliers' prices (${run.currency})`, priceTotal],
+					[
+						'Evaluated cost',
+						'The suppliers’ prices plus the money of the event’s non-price criteria: what the award minimised. Suppliers are paid their prices.'
+					]
+				]
+			: [])
 	]);
+	if (evaluated) summary.getRow(14).getCell(2).numFmt = money;
 	for (const row of [7, 8, 9]) summary.getRow(row).getCell(2).numFmt = money;
 	run.rules.forEach((r) => summary.addRow([`Rule ${r.index + 1}`, neutralise(r.text)]));
 	summary.getColumn(1).width = 24;
@@ -62,8 +86,8 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 		'Item',
 		'Supplier',
 		'Quantity',
-		`Unit price (${run.currency})`,
-		`Cost (${run.currency})`,
+		`${evaluated ? 'Evaluated unit cost' : 'Unit price'} (${run.currency})`,
+		`${cost} (${run.currency})`,
 		'Bundle'
 	]);
 	for (const l of result?.awards ?? [])
@@ -89,7 +113,7 @@ export async function runWorkbook(reference: string, run: ExportedRun): Promise<
 	);
 
 	const totals = workbook.addWorksheet('Suppliers');
-	totals.addRow(['Supplier', 'Quantity', `Cost (${run.currency})`, 'Lines']);
+	totals.addRow(['Supplier', 'Quantity', `${cost} (${run.currency})`, 'Lines']);
 	for (const t of result?.supplierTotals ?? [])
 		totals.addRow([neutralise(t.supplier), t.quantity, t.cost, t.items]);
 	finishTable(

@@ -230,7 +230,7 @@ function basisLines(basis: NoticeBasis | undefined, currency: string): string[] 
 					`Bids were compared on evaluated cost: the price plus the money value of the criteria published with the event (${basis.criteria.join(', ')}).` +
 						(basis.evaluatedTotal === null
 							? ''
-							: ` Your awarded lines' evaluated cost: ${formatMoney(basis.evaluatedTotal, currency)} ${currency}; the prices above are your own.`)
+							: ` Your awarded lines' evaluated cost: ${formatMoney(basis.evaluatedTotal, currency)} ${currency}; the prices above are before the criteria.`)
 				]
 			: [])
 	];

@@ -48,7 +48,13 @@ function aReport(): AwardReport {
 			solverVersion: 'test',
 			adjustedFrom: null
 		},
-		totals: { totalCost: total, baselineCost: total * 1.1, savings: total * 0.1, savingsShare: 0.1 / 1.1 },
+		totals: {
+			totalCost: total,
+			priceTotal: null,
+			baselineCost: total * 1.1,
+			savings: total * 0.1,
+			savingsShare: 0.1 / 1.1
+		},
 		bidders: [
 			{
 				name: 'Zielona Łąka Folie',

@@ -22,6 +22,9 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 	const zone = event.timeZone;
 	const at = (date: Date | null) => (date ? `${formatInZone(date, zone)} (${zone})` : '—');
 	const money = (value: number | null) => (value === null ? '—' : formatMoney(value, currency));
+	// A run on evaluated cost stores evaluated costs on its lines: they are named so.
+	const evaluated = totals.priceTotal !== null;
+	const costWord = evaluated ? 'Evaluated cost' : 'Cost';
 	const signed = (value: number) => `${value > 0 ? '+' : value < 0 ? '−' : '±'}${money(Math.abs(value))}`;
 
 	const pdf = new ReportPdf({
@@ -118,7 +121,7 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 			['Supplier', 0.55],
 			['Lines', 0.15, 'right'],
 			['Quantity', 0.15, 'right'],
-			[`Cost (${currency})`, 0.15, 'right']
+			[`${costWord} (${currency})`, 0.15, 'right']
 		),
 		[
 			...report.supplierTotals.map((t) => [
@@ -127,7 +130,10 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 				formatQuantity(t.quantity),
 				money(t.cost)
 			]),
-			['Total', '', '', money(totals.totalCost)]
+			['Total', '', '', money(totals.totalCost)],
+			...(totals.priceTotal === null
+				? []
+				: [['Total at the suppliers’ prices', '', '', money(totals.priceTotal)]])
 		],
 		'The award per supplier'
 	);
@@ -150,14 +156,14 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 		const lines = report.awards.filter((l) => l.supplier === total.supplier);
 		if (!lines.length) continue;
 		pdf.subheading(
-			`${total.supplier}: ${formatQuantity(lines.length)} lines, ${money(total.cost)} ${currency}`
+			`${total.supplier}: ${formatQuantity(lines.length)} lines, ${money(total.cost)} ${currency}${evaluated ? ' evaluated' : ''}`
 		);
 		pdf.table(
 			cols(
 				['Item', 0.3],
 				['Quantity', 0.15, 'right'],
-				[`Unit price (${currency})`, 0.18, 'right'],
-				[`Cost (${currency})`, 0.18, 'right'],
+				[`${evaluated ? 'Evaluated unit cost' : 'Unit price'} (${currency})`, 0.18, 'right'],
+				[`${costWord} (${currency})`, 0.18, 'right'],
 				['Bundle', 0.19]
 			),
 			lines.map((l) => [
@@ -182,7 +188,10 @@ export async function awardReportPdf(report: AwardReport): Promise<Buffer> {
 	pdf.heading('Savings against the baseline');
 	pdf.fields([
 		[`Baseline (${currency})`, money(totals.baselineCost)],
-		[`This award (${currency})`, money(totals.totalCost)],
+		[
+			`This award${evaluated ? ' at the suppliers’ prices' : ''} (${currency})`,
+			money(totals.priceTotal ?? totals.totalCost)
+		],
 		[
 			`Savings (${currency})`,
 			totals.savings === null

@@ -18,6 +18,8 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 	const currency = event.currency;
 	const zone = event.timeZone;
 	const money = excelMoneyFormat(currency);
+	// A run on evaluated cost stores evaluated costs on its lines: they are named so.
+	const evaluated = totals.priceTotal !== null;
 	// exceljs writes a Date by its UTC fields: the zone's wall clock goes in as if it were UTC.
 	const wallClock = (date: Date | null) => (date ? new Date(`${toLocalInput(date, zone)}:00Z`) : null);
 	const text = (value: string | null | undefined) => neutralise(value ?? '');
@@ -62,9 +64,18 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 		['Plan', text(run.plan)],
 		['Sign-off', run.approved ? 'approved' : 'awaiting sign-off'],
 		['Outcome', run.outcome],
-		[`Total cost (${currency})`, totals.totalCost, money],
+		...(totals.priceTotal === null
+			? ([[`Total cost (${currency})`, totals.totalCost, money]] as [string, Cell, string][])
+			: ([
+					[`Total evaluated cost, price and criteria (${currency})`, totals.totalCost, money],
+					[`Total at the suppliers' prices (${currency})`, totals.priceTotal, money]
+				] as [string, Cell, string][])),
 		[`Baseline (${currency})`, totals.baselineCost, money],
-		[`Savings (${currency})`, totals.savings, money],
+		[
+			`Savings${totals.priceTotal === null ? '' : ' at the suppliers’ prices'} (${currency})`,
+			totals.savings,
+			money
+		],
 		['Savings share of the baseline', totals.savingsShare, EXCEL_SHARE_FORMAT],
 		...(report.lowestCost && !report.lowestCost.sameRun
 			? ([
@@ -157,8 +168,12 @@ export async function awardReportWorkbook(report: AwardReport): Promise<Buffer> 
 			{ header: 'Supplier', width: 32 },
 			{ header: 'Item', width: 18 },
 			{ header: 'Quantity', width: 14, format: quantityFormat },
-			{ header: `Unit price (${currency})`, width: 18, format: excelUnitPriceFormat(currency) },
-			{ header: `Cost (${currency})`, width: 18, format: money },
+			{
+				header: `${evaluated ? 'Evaluated unit cost' : 'Unit price'} (${currency})`,
+				width: 18,
+				format: excelUnitPriceFormat(currency)
+			},
+			{ header: `${evaluated ? 'Evaluated cost' : 'Cost'} (${currency})`, width: 18, format: money },
 			{ header: 'Bundle', width: 24 }
 		],
 		report.supplierTotals.flatMap((t) =>

@@ -109,8 +109,12 @@ export interface AwardReport {
 		round?: number;
 	};
 	totals: {
+		/** What the award minimised: the evaluated cost where the run carries criteria money. */
 		totalCost: number | null;
+		/** The award at the suppliers' own prices, where the run minimised evaluated cost; else null. */
+		priceTotal: number | null;
 		baselineCost: number | null;
+		/** Against the baseline at the suppliers' prices (the price total where there is one). */
 		savings: number | null;
 		/** Savings over the baseline (0.12 for 12%); null without a baseline. */
 		savingsShare: number | null;
@@ -184,7 +188,8 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 	const [signoffs, notices, tabulation, lowestRunId, names, adjustedFrom, excluded] = await Promise.all([
 		listRunSignoffs(db(), run.id),
 		listRunNotices(db(), run.id),
-		staffTabulation(user, event.id),
+		// The bidders as the run saw them: its own round's bids, not a later round's.
+		staffTabulation(user, event.id, { round: run.round }),
 		lowestPlan ? latestUsableRunOfPlan(db(), lowestPlan.id) : undefined,
 		userNames(db(), [run.created_by]),
 		run.adjusted_from ? awards.findRunView(db(), run.adjusted_from) : undefined,
@@ -201,6 +206,16 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 	const totalCost = result?.totalCost ?? null;
 	const supplierTotals = result?.supplierTotals ?? [];
 	const awarded = (result?.awards ?? []).filter((l) => l.quantity > 0);
+	// A run on evaluated cost (criteria in money) stores evaluated costs: its savings are at the prices.
+	const evaluatedCosts = evaluatedSupplierTotals(run.problem, awarded);
+	const priceTotal = evaluatedCosts ? evaluatedCosts.reduce((sum, t) => sum + t.price, 0) : null;
+	const baselineCost = result?.baselineCost ?? null;
+	const savings =
+		baselineCost === null
+			? null
+			: priceTotal === null
+				? (result?.savings ?? null)
+				: baselineCost - priceTotal;
 	const bySupplier = new Map(supplierTotals.map((t) => [t.supplier, t]));
 	const lowestTotal = lowestRun?.result?.totalCost ?? null;
 
@@ -240,10 +255,10 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 		},
 		totals: {
 			totalCost,
-			baselineCost: result?.baselineCost ?? null,
-			savings: result?.savings ?? null,
-			savingsShare:
-				result?.savings != null && result.baselineCost ? result.savings / result.baselineCost : null
+			priceTotal,
+			baselineCost,
+			savings,
+			savingsShare: savings !== null && baselineCost ? savings / baselineCost : null
 		},
 		bidders: tabulation.sealed
 			? []
@@ -271,7 +286,7 @@ export async function awardReport(user: SessionUser, runId: string, eventId?: st
 		}),
 		ruleCostsKnown: Boolean(result?.ruleCosts),
 		supplierTotals,
-		evaluatedCosts: evaluatedSupplierTotals(run.problem, awarded),
+		evaluatedCosts,
 		awards: awarded,
 		uncoveredItems: result?.uncoveredItems ?? [],
 		lowestCost:

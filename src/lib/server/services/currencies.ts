@@ -143,7 +143,14 @@ export async function ownCurrencyAwards(
 		round?: number;
 		problem: AwardProblem;
 		result: {
-			awards: { supplier: string; item: string; quantity: number; unitPrice: number; cost: number }[];
+			awards: {
+				supplier: string;
+				item: string;
+				quantity: number;
+				unitPrice: number;
+				cost: number;
+				bundle?: string;
+			}[];
 		} | null;
 	},
 	at: Date,
@@ -172,7 +179,8 @@ export async function ownCurrencyAwards(
 		const own = new Map(bid?.lines.map((l) => [l.item, l]) ?? []);
 		const awarded = run.result.awards.filter((a) => a.supplier === supplier.ref && a.quantity > 0);
 		const lines = awarded.map((a) => {
-			const line = own.get(a.item);
+			// A line won in a bundle has the bundle's price, not the item's own: converted back at the rate.
+			const line = a.bundle ? undefined : own.get(a.item);
 			const unitPrice = line
 				? priceAtQuantity(
 						{

@@ -21,6 +21,7 @@ import { findOrganisation } from '../db/organisations';
 import { awardNoticeMail, regretNoticeMail, type NoticeLine } from '../mail/templates';
 import { neutralise } from '../sheets/bid-sheet';
 import { appendTrail, trailHead } from '../trail';
+import { evaluatedSupplierTotals } from '$lib/evaluation/apply-criteria';
 import { listCriteria } from '../db/criteria';
 import { ownEvaluatedTotal, ownLines } from './award-views';
 import { excelMoneyFormat, excelQuantityColumnFormat, excelUnitPriceFormat } from '$lib/format';
@@ -101,7 +102,11 @@ export async function sendNotice(noticeId: string): Promise<void> {
 	const lines = ownLines(run.result, supplier.name, run.problem);
 	const basis = {
 		round: run.round,
-		criteria: (await listCriteria(db(), event.id)).map((c) => c.name),
+		// Named only where this run's problem carries criteria money (a run may have been made without).
+		criteria:
+			evaluatedSupplierTotals(run.problem, run.result?.awards ?? []) === null
+				? []
+				: (await listCriteria(db(), event.id)).map((c) => c.name),
 		evaluatedTotal: ownEvaluatedTotal(run.problem, run.result, supplier.name)
 	};
 	const ownCurrency =
