@@ -100,9 +100,13 @@ describe('abnormally low bids', () => {
 		const download = await buyer.get(`/api/events/${event.id}/tabulation?format=xlsx`);
 		expect(download.status).toBe(200);
 		const listed = await sheetRows(download.clone(), 'Low prices');
-		expect(listed.map((r) => [r.values.Supplier, r.values.Item, r.values['Price (EUR)']])).toEqual([
-			[D().name, 'IT-1', 5]
-		]);
+		expect(
+			listed.map((r) => [
+				r.values.Supplier,
+				r.values.Item,
+				r.values['Price as bid, without freight and duty (EUR)']
+			])
+		).toEqual([[D().name, 'IT-1', 5]]);
 		expect(String(listed[0]!.values['Why it is flagged'])).toContain(
 			'52.4 % below the median of the 3 other bids'
 		);

@@ -165,7 +165,12 @@ export async function tabulationWorkbook(
 	totals.columns.forEach((c, k) => (c.width = k === 0 ? 28 : 18));
 
 	const low = workbook.addWorksheet('Low prices', { views: [{ state: 'frozen', ySplit: 1 }] });
-	const lowHead = ['Supplier', 'Item', `Price (${event.currency})`, 'Why it is flagged'];
+	const lowHead = [
+		'Supplier',
+		'Item',
+		`Price as bid, without freight and duty (${event.currency})`,
+		'Why it is flagged'
+	];
 	low.addRow(lowHead).font = { bold: true };
 	for (const f of flags) {
 		const row = low.addRow([
@@ -200,7 +205,7 @@ export async function tabulationWorkbook(
 		[
 			'Low prices',
 			'A flagged price is a reason to ask the supplier to explain it, not a finding: the buyer must ask before rejecting ' +
-				'an abnormally low bid (EU Directive 2014/24/EU Art. 69, or the local law that applies).'
+				'an abnormally low bid (EU Directive 2014/24/EU Art. 69, or the local law that applies). The sheet lists every flag of the event, whatever the filters.'
 		],
 		...(extras.rounds
 			? [['Rounds', `Bids of round ${extras.rounds.to}; changes against round ${extras.rounds.from}`]]
