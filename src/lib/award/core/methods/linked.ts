@@ -19,6 +19,9 @@
 // where it stands (relax-and-fix). A last small MIP sets the group indicators (fixed costs, counts).
 // When a linking row still does not hold, the method has no award; choose.ts then falls back to the
 // full MIP in the time left.
+//
+// With the award, a second bound relaxes the other way (supplier-bound.ts): the cover rows priced, each
+// supplier kept whole, the event's supplier count kept exactly. The reported bound is the higher one.
 import { buildModel, type AwardModel, type ColumnMeaning } from '../model';
 import type { AwardProblem } from '../problem';
 import { awardLines } from '../result';
@@ -26,6 +29,7 @@ import type { SolveOptions, SolveOutcome, SolveStatus, Solver } from '../solver'
 import { modelSize, type Solved } from '../types';
 import { GLOBAL, LINKING, blocksOf, rowActivities, rowExcess, subModel, type Blocks } from './blocks';
 import type { Clock } from './clock';
+import { supplierBound } from './supplier-bound';
 import type { Progress } from '../types';
 
 /** Sub-models sent to the pool at a time (two threads on two cores, and one waiting for each). */
@@ -729,7 +733,9 @@ export async function solveLinked(
 	clock: Clock,
 	progress?: (update: Progress) => void,
 	/** Spend the time left after the award on a stronger bound; off when a full MIP follows. */
-	strengthen = true
+	strengthen = true,
+	/** Also the bound that keeps each supplier whole (supplier-bound.ts); off only to compare without it. */
+	wholeSuppliers = true
 ): Promise<LinkedOutcome> {
 	const model = buildModel(problem);
 	const began = clock.elapsed();
@@ -794,6 +800,19 @@ export async function solveLinked(
 	const gapOf = (b: number) => Math.max(0, objective - b) / Math.max(1e-9, Math.abs(objective));
 	const wanted = options.gap ?? 1e-6;
 	progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+	// The bound that keeps each supplier whole (supplier-bound.ts): it sees the event's supplier count
+	// and fixed costs per supplier, which the bound over item blocks sees only through their LP.
+	if (wholeSuppliers && gapOf(bound) > wanted) {
+		const seconds = Math.min(SUPPLIER_BOUND_SECONDS, SUPPLIER_BOUND_SHARE * clock.left());
+		const whole = await supplierBound(problem, model, first.duals, objective, {
+			seconds,
+			gap: wanted
+		});
+		if (whole && whole.bound > bound) {
+			bound = whole.bound;
+			progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+		}
+	}
 	// With the award in hand, the time left goes to a stronger bound where the whole LP fits: that LP
 	// (with the minimum awards and supplier counts in it), and the Lagrangian bound at its duals.
 	if (strengthen && gapOf(bound) > wanted && clock.left() > 1 && model.indices.length <= WHOLE_LP_ENTRIES) {
@@ -839,6 +858,10 @@ export async function solveLinked(
 		columns
 	};
 }
+
+/** The supplier bound's time: at most these seconds, and this share of the time left. */
+const SUPPLIER_BOUND_SECONDS = 20;
+const SUPPLIER_BOUND_SHARE = 0.5;
 
 /** Most subgradient steps after the award, and the step factor below which they stop. */
 const SUBGRADIENT_STEPS = 200;
