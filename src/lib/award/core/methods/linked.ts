@@ -794,20 +794,28 @@ export async function solveLinked(
 		}
 	}
 	const fixed = await repair(restricted, restrictedBlocks, restrictedSolves, solver, clock, options);
-	if (!fixed.columns || fixed.excess > FINAL) return none('no_solution_in_time', bound);
+	const wanted = options.gap ?? 1e-6;
+	// The bound that keeps each supplier whole (supplier-bound.ts): it sees the event's supplier count
+	// and fixed costs per supplier, which the bound over item blocks sees only through their LP. Not
+	// when a full MIP follows: that MIP's bound is the stronger one there, and it gets the time. Its
+	// steps aim at the award's cost, or without an award a little above the bound so far.
+	const wholeSupplierBound = (target: number) =>
+		strengthen && wholeSuppliers
+			? supplierBound(problem, model, first.duals, target, {
+					seconds: Math.min(SUPPLIER_BOUND_SECONDS, SUPPLIER_BOUND_SHARE * clock.left()),
+					gap: wanted
+				})
+			: null;
+	if (!fixed.columns || fixed.excess > FINAL) {
+		const whole = await wholeSupplierBound((1 + NO_AWARD_TARGET_MARGIN) * Math.abs(bound));
+		return none('no_solution_in_time', Math.max(bound, whole?.bound ?? -Infinity));
+	}
 	const columns = fixed.columns;
 	const objective = model.colCost.reduce((a, c, j) => a + c * columns[j]!, 0);
 	const gapOf = (b: number) => Math.max(0, objective - b) / Math.max(1e-9, Math.abs(objective));
-	const wanted = options.gap ?? 1e-6;
 	progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
-	// The bound that keeps each supplier whole (supplier-bound.ts): it sees the event's supplier count
-	// and fixed costs per supplier, which the bound over item blocks sees only through their LP.
-	if (wholeSuppliers && gapOf(bound) > wanted) {
-		const seconds = Math.min(SUPPLIER_BOUND_SECONDS, SUPPLIER_BOUND_SHARE * clock.left());
-		const whole = await supplierBound(problem, model, first.duals, objective, {
-			seconds,
-			gap: wanted
-		});
+	if (gapOf(bound) > wanted) {
+		const whole = await wholeSupplierBound(objective);
 		if (whole && whole.bound > bound) {
 			bound = whole.bound;
 			progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
@@ -862,6 +870,8 @@ export async function solveLinked(
 /** The supplier bound's time: at most these seconds, and this share of the time left. */
 const SUPPLIER_BOUND_SECONDS = 20;
 const SUPPLIER_BOUND_SHARE = 0.5;
+/** Without an award, its steps aim this far above the bound so far. */
+const NO_AWARD_TARGET_MARGIN = 0.05;
 
 /** Most subgradient steps after the award, and the step factor below which they stop. */
 const SUBGRADIENT_STEPS = 200;

@@ -88,9 +88,11 @@ export function supplierRelaxation(problem: AwardProblem, model: AwardModel): Re
 	});
 	const supplierIndex = new Map(problem.suppliers.map((s, k) => [s.ref, k]));
 	const { most } = stepsOf(problem);
-	const pairKey = (s: string, i: string) => `${s}\u0000${i}`;
+	// Supplier-item positions by number (a 10,000 x 50 event has half a million): no string keys.
+	const anyItem = new Map(problem.items.map((i, k) => [i.ref, k]));
+	const pairKey = (s: string, i: string) => supplierIndex.get(s)! * anyItem.size + anyItem.get(i)!;
 	// The most each pair can get, from the rules kept per supplier.
-	const cap = new Map<string, number>();
+	const cap = new Map<number, number>();
 	const lower = (s: string, i: string, amount: number) =>
 		cap.set(pairKey(s, i), Math.min(cap.get(pairKey(s, i)) ?? Infinity, amount));
 	const fixedCost = new Float64Array(problem.suppliers.length);
@@ -131,7 +133,7 @@ export function supplierRelaxation(problem: AwardProblem, model: AwardModel): Re
 	const tierPrice: number[] = [];
 	const supplierMost = new Float64Array(problem.suppliers.length);
 	const bidder = new Uint8Array(problem.suppliers.length);
-	const pairOf = new Map<string, number>();
+	const pairOf = new Map<number, number>();
 	let k = 0;
 	problem.suppliers.forEach((supplier, s) => {
 		pairStart[s] = k;
@@ -163,7 +165,14 @@ export function supplierRelaxation(problem: AwardProblem, model: AwardModel): Re
 	});
 	pairStart[problem.suppliers.length] = k;
 	tierStart[pairCount] = tierPrice.length;
-	const relaxed = relaxedRows(problem, model, itemIndex, pairOf, pairUpper, pairCount);
+	const relaxed = relaxedRows(
+		problem,
+		model,
+		itemIndex,
+		(s, i) => pairOf.get(pairKey(s, i)),
+		pairUpper,
+		pairCount
+	);
 	return {
 		items: demand.length,
 		demand: Float64Array.from(demand),
@@ -194,12 +203,16 @@ function relaxedRows(
 	problem: AwardProblem,
 	model: AwardModel,
 	itemIndex: Map<string, number>,
-	pairOf: Map<string, number>,
+	pairOf: (supplier: string, item: string) => number | undefined,
 	pairUpper: Float64Array,
 	pairCount: number
 ) {
 	const reference = referencePrices(problem);
-	const entries: { pair: number; row: number; quantity: number; spend: number }[] = [];
+	// Terms as parallel lists (a row over the event has one per bid): pair, row, per unit and per spend.
+	const entryPair: number[] = [];
+	const entryRow: number[] = [];
+	const entryQuantity: number[] = [];
+	const entrySpend: number[] = [];
 	const rowBound: number[] = [];
 	const rowScale: number[] = [];
 	const rowModel: number[] = [];
@@ -222,8 +235,12 @@ function relaxedRows(
 		);
 		const row = rowBound.length;
 		const add = (s: string, i: string, quantity: number, spend: number) => {
-			const pair = pairOf.get(`${s}\u0000${i}`);
-			if (pair !== undefined && (quantity || spend)) entries.push({ pair, row, quantity, spend });
+			const pair = pairOf(s, i);
+			if (pair === undefined || !(quantity || spend)) return;
+			entryPair.push(pair);
+			entryRow.push(row);
+			entryQuantity.push(quantity);
+			entrySpend.push(spend);
 		};
 		const who = new Set(meaning.suppliers);
 		if (rule.type === 'max_share' || rule.type === 'min_share') {
@@ -244,7 +261,7 @@ function relaxedRows(
 			rowScale.push(Math.max(1, value));
 		} else if (rule.type === 'supplier_count' && isItemScope(rule.scope) && rule.max !== undefined) {
 			for (const s of who) {
-				const pair = pairOf.get(`${s}\u0000${items[0]}`);
+				const pair = pairOf(s, items[0]!);
 				if (pair !== undefined && pairUpper[pair]! > 0) add(s, items[0]!, 1 / pairUpper[pair]!, 0);
 			}
 			rowBound.push(rule.max);
@@ -253,15 +270,25 @@ function relaxedRows(
 		rowModel.push(r);
 		rowFloor.push(rule.type === 'min_share');
 	});
-	entries.sort((a, b) => a.pair - b.pair);
+	// Grouped by pair (a counting sort).
 	const entryStart = new Int32Array(pairCount + 1);
-	for (const e of entries) entryStart[e.pair + 1]! += 1;
+	for (const pair of entryPair) entryStart[pair + 1]! += 1;
 	for (let k = 0; k < pairCount; k++) entryStart[k + 1]! += entryStart[k]!;
+	const next = entryStart.slice(0, pairCount);
+	const rows = new Int32Array(entryPair.length);
+	const quantities = new Float64Array(entryPair.length);
+	const spends = new Float64Array(entryPair.length);
+	entryPair.forEach((pair, e) => {
+		const at = next[pair]!++;
+		rows[at] = entryRow[e]!;
+		quantities[at] = entryQuantity[e]!;
+		spends[at] = entrySpend[e]!;
+	});
 	return {
 		entryStart,
-		entryRow: Int32Array.from(entries, (e) => e.row),
-		entryQuantity: Float64Array.from(entries, (e) => e.quantity),
-		entrySpend: Float64Array.from(entries, (e) => e.spend),
+		entryRow: rows,
+		entryQuantity: quantities,
+		entrySpend: spends,
 		rowBound: Float64Array.from(rowBound),
 		rowScale: Float64Array.from(rowScale),
 		rowModel,
