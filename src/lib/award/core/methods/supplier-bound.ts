@@ -323,6 +323,13 @@ export interface SupplierEvaluation {
 	rowExcess: Float64Array;
 }
 
+const newScratch = (pairs: number) => ({
+	reduced: new Float64Array(pairs),
+	tierUsed: new Int32Array(pairs),
+	quantity: new Float64Array(pairs)
+});
+const scratchOf = new WeakMap<Relaxation, ReturnType<typeof newScratch>>();
+
 /** Grid of the cover constraint in the choice of suppliers (capacities rounded up to it: still a bound). */
 const COVER_GRID = 1000;
 
@@ -332,9 +339,11 @@ export function evaluate(relaxation: Relaxation, prices: SupplierPrices): Suppli
 	const suppliers = x.fixedCost.length;
 	const pairs = x.pairItem.length;
 	const rowCount = x.rowBound.length;
-	// Per pair: the reduced cost per unit and the tier it was priced at.
-	const reduced = new Float64Array(pairs);
-	const tierUsed = new Int32Array(pairs);
+	// Per pair: the reduced cost per unit, the tier it was priced at and the quantity taken, in arrays
+	// kept between evaluations (hundreds of steps would otherwise leave megabytes each to collect).
+	const scratch = (scratchOf.get(x) ?? scratchOf.set(x, newScratch(pairs)).get(x))!;
+	const { reduced, tierUsed, quantity } = scratch;
+	quantity.fill(0);
 	for (let k = 0; k < pairs; k++) {
 		let alpha = 0;
 		let beta = 0;
@@ -354,7 +363,6 @@ export function evaluate(relaxation: Relaxation, prices: SupplierPrices): Suppli
 		reduced[k] = best + alpha + x.pairExtra[k]! - prices.cover[x.pairItem[k]!]!;
 	}
 	// Each supplier's continuous knapsack.
-	const quantity = new Float64Array(pairs);
 	const open = new Float64Array(suppliers);
 	const order: number[] = [];
 	for (let s = 0; s < suppliers; s++) {
