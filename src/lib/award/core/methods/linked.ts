@@ -19,6 +19,9 @@
 // where it stands (relax-and-fix). A last small MIP sets the group indicators (fixed costs, counts).
 // When a linking row still does not hold, the method has no award; choose.ts then falls back to the
 // full MIP in the time left.
+//
+// With the award, a second bound relaxes the other way (supplier-bound.ts): the cover rows priced, each
+// supplier kept whole, the event's supplier count kept exactly. The reported bound is the higher one.
 import { buildModel, type AwardModel, type ColumnMeaning } from '../model';
 import type { AwardProblem } from '../problem';
 import { awardLines } from '../result';
@@ -26,6 +29,7 @@ import type { SolveOptions, SolveOutcome, SolveStatus, Solver } from '../solver'
 import { modelSize, type Solved } from '../types';
 import { GLOBAL, LINKING, blocksOf, rowActivities, rowExcess, subModel, type Blocks } from './blocks';
 import type { Clock } from './clock';
+import { supplierBound } from './supplier-bound';
 import type { Progress } from '../types';
 
 /** Sub-models sent to the pool at a time (two threads on two cores, and one waiting for each). */
@@ -729,7 +733,9 @@ export async function solveLinked(
 	clock: Clock,
 	progress?: (update: Progress) => void,
 	/** Spend the time left after the award on a stronger bound; off when a full MIP follows. */
-	strengthen = true
+	strengthen = true,
+	/** Also the bound that keeps each supplier whole (supplier-bound.ts); off only to compare without it. */
+	wholeSuppliers = true
 ): Promise<LinkedOutcome> {
 	const model = buildModel(problem);
 	const began = clock.elapsed();
@@ -788,12 +794,33 @@ export async function solveLinked(
 		}
 	}
 	const fixed = await repair(restricted, restrictedBlocks, restrictedSolves, solver, clock, options);
-	if (!fixed.columns || fixed.excess > FINAL) return none('no_solution_in_time', bound);
+	const wanted = options.gap ?? 1e-6;
+	// The bound that keeps each supplier whole (supplier-bound.ts): it sees the event's supplier count
+	// and fixed costs per supplier, which the bound over item blocks sees only through their LP. Not
+	// when a full MIP follows: that MIP's bound is the stronger one there, and it gets the time. Its
+	// steps aim at the award's cost, or without an award a little above the bound so far.
+	const wholeSupplierBound = (target: number) =>
+		strengthen && wholeSuppliers
+			? supplierBound(problem, model, first.duals, target, {
+					seconds: Math.min(SUPPLIER_BOUND_SECONDS, SUPPLIER_BOUND_SHARE * clock.left()),
+					gap: wanted
+				})
+			: null;
+	if (!fixed.columns || fixed.excess > FINAL) {
+		const whole = await wholeSupplierBound((1 + NO_AWARD_TARGET_MARGIN) * Math.abs(bound));
+		return none('no_solution_in_time', Math.max(bound, whole?.bound ?? -Infinity));
+	}
 	const columns = fixed.columns;
 	const objective = model.colCost.reduce((a, c, j) => a + c * columns[j]!, 0);
 	const gapOf = (b: number) => Math.max(0, objective - b) / Math.max(1e-9, Math.abs(objective));
-	const wanted = options.gap ?? 1e-6;
 	progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+	if (gapOf(bound) > wanted) {
+		const whole = await wholeSupplierBound(objective);
+		if (whole && whole.bound > bound) {
+			bound = whole.bound;
+			progress?.({ seconds: clock.elapsed(), objective, bound: Math.min(bound, objective) });
+		}
+	}
 	// With the award in hand, the time left goes to a stronger bound where the whole LP fits: that LP
 	// (with the minimum awards and supplier counts in it), and the Lagrangian bound at its duals.
 	if (strengthen && gapOf(bound) > wanted && clock.left() > 1 && model.indices.length <= WHOLE_LP_ENTRIES) {
@@ -839,6 +866,12 @@ export async function solveLinked(
 		columns
 	};
 }
+
+/** The supplier bound's time: at most these seconds, and this share of the time left. */
+const SUPPLIER_BOUND_SECONDS = 20;
+const SUPPLIER_BOUND_SHARE = 0.5;
+/** Without an award, its steps aim this far above the bound so far. */
+const NO_AWARD_TARGET_MARGIN = 0.05;
 
 /** Most subgradient steps after the award, and the step factor below which they stop. */
 const SUBGRADIENT_STEPS = 200;
