@@ -79,6 +79,10 @@ export const actions: Actions = {
 		const data = await event.request.formData();
 		const column = (name: string) => data.getAll(name).map((v) => (typeof v === 'string' ? v : ''));
 		const columns = Object.fromEntries(FIELDS.map((f) => [f, column(f)]));
+		// Every row as typed, to put back in the form when the save is refused: nothing typed is lost.
+		const typed = columns.ref!.map((_, k) =>
+			Object.fromEntries(FIELDS.map((f) => [f, columns[f]![k] ?? '']))
+		);
 		const criteria: Criterion[] = [];
 		// The form's row of each criterion kept (empty rows are skipped), to name the refused cell.
 		const rowOf: number[] = [];
@@ -90,7 +94,8 @@ export const actions: Actions = {
 				const issue = parsed.error.issues[0]!;
 				return fail(400, {
 					saveError: `Criterion ${k + 1}: ${issue.message}.`,
-					saveField: `criteria[${k}].${String(issue.path[0] ?? 'ref')}`
+					saveField: `criteria[${k}].${String(issue.path[0] ?? 'ref')}`,
+					typed
 				});
 			}
 			criteria.push(parsed.data);
@@ -102,6 +107,7 @@ export const actions: Actions = {
 				return { saved: `Saved ${criteria.length} criteri${criteria.length === 1 ? 'on' : 'a'}.` };
 			},
 			(v) => ({
+				typed,
 				saveError: v.message,
 				// The service counts the criteria kept; the form, its rows.
 				saveField: v.field?.replace(
