@@ -95,6 +95,11 @@ describe('abnormally low bids', () => {
 		expect(rows[0]).toContain('line IT-1');
 		expect(rows[0]).toContain('52.4 % below the median of the 3 other bids');
 		expect(rows[0]).toContain('50 % below the baseline');
+		// The buyer is told that an exclusion outlives a round (services/abnormally-low.ts keeps it per
+		// supplier and item until undone).
+		expect(textOf(await (await buyer.get(reviewPath())).text())).toContain(
+			"An exclusion stands in later rounds too, whatever the supplier's revised price, until you undo it with a reason below."
+		);
 
 		// The workbook lists the same one flag, and notes it on D's IT-1 price and on no other cell.
 		const download = await buyer.get(`/api/events/${event.id}/tabulation?format=xlsx`);
