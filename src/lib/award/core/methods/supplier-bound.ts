@@ -408,6 +408,18 @@ export function evaluate(relaxation: Relaxation, prices: SupplierPrices): Suppli
 	return { bound, opened, coverSlack, rowExcess };
 }
 
+const dpTables = new WeakMap<Relaxation, { from: Int32Array; best: Float64Array; next: Float64Array }>();
+
+/** The dynamic programme's tables of a relaxation, at least this large, made once. */
+function dpScratch(x: Relaxation, fromLength: number, size: number) {
+	let tables = dpTables.get(x);
+	if (!tables || tables.from.length < fromLength || tables.best.length < size) {
+		tables = { from: new Int32Array(fromLength), best: new Float64Array(size), next: new Float64Array(size) };
+		dpTables.set(x, tables);
+	}
+	return tables;
+}
+
 /**
  * The suppliers to open: min Σ_{s∈S} V[s] with countMin <= |S| <= countMax among the bidders and
  * Σ_{s∈S} most[s] >= Σ_i d[i]. The cheapest V first is optimal when it covers; otherwise a dynamic
@@ -429,13 +441,17 @@ function chooseSuppliers(x: Relaxation, open: Float64Array): number[] | null {
 	if (demand <= 0 || covered >= demand) return greedy;
 	const width = COVER_GRID + 1;
 	const size = (most + 1) * width;
-	let best = new Float64Array(size).fill(Infinity);
+	// The tables are reused from step to step: new ones each step (megabytes outside the JavaScript
+	// heap, collected late) raised the peak memory of a 10,000 x 50 solve by about 500 MB.
+	const scratch = dpScratch(x, candidates.length * size, size);
+	let best = scratch.best.subarray(0, size).fill(Infinity);
+	let next = scratch.next.subarray(0, size);
 	best[0] = 0;
 	// from[n·size + cell]: the cell before candidate n was taken to reach cell, or -1 (not taken).
-	const from = new Int32Array(candidates.length * size).fill(-1);
+	const from = scratch.from.subarray(0, candidates.length * size).fill(-1);
 	candidates.forEach((s, n) => {
 		const units = Math.min(COVER_GRID, Math.ceil((x.supplierMost[s]! / demand) * COVER_GRID - 1e-12));
-		const next = Float64Array.from(best);
+		next.set(best);
 		for (let count = most - 1; count >= 0; count--)
 			for (let c = 0; c < width; c++) {
 				const value = best[count * width + c]!;
@@ -446,7 +462,7 @@ function chooseSuppliers(x: Relaxation, open: Float64Array): number[] | null {
 					from[n * size + to] = count * width + c;
 				}
 			}
-		best = next;
+		[best, next] = [next, best];
 	});
 	let cell = -1;
 	for (let count = x.countMin; count <= most; count++) {
